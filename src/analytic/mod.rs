@@ -1,0 +1,1 @@
+//! analytic (to be written).

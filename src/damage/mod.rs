@@ -1,0 +1,1 @@
+//! damage (to be written).

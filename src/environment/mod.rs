@@ -1,0 +1,1 @@
+//! environment (to be written).

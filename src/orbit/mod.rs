@@ -1,0 +1,1 @@
+//! orbit (to be written).

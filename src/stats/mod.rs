@@ -1,0 +1,1 @@
+//! stats (to be written).

@@ -1,0 +1,1 @@
+//! structure (to be written).
