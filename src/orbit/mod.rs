@@ -254,8 +254,28 @@ mod tests {
     }
 
     #[test]
+    fn newton_converges_over_a_wide_range_of_mass_ratios() {
+        // From Sun–Earth-like (3e-6) to a heavy secondary (0.3): the root must be an
+        // equilibrium of the same field, so the solver does not depend on the Earth–Moon start.
+        for mu in [3.0e-6, 1.0e-3, 0.012, 0.1, 0.3] {
+            let mut em = EarthMoon::standard();
+            let total = em.gm_earth_m3_per_s2 + em.gm_moon_m3_per_s2;
+            em.gm_moon_m3_per_s2 = mu * total;
+            em.gm_earth_m3_per_s2 = (1.0 - mu) * total;
+            for side in [Side::Near, Side::Far] {
+                let g = em.lagrange_gamma(side);
+                assert!(g > 0.0 && g < 1.0, "mu = {mu}, {side:?}: gamma = {g}");
+                let r = g * em.distance_m;
+                let a = em.effective_accel_toward_moon_m_per_s2(side, r);
+                let scale = em.gm_moon_m3_per_s2 / (r * r);
+                assert!(a.abs() < 1e-12 * scale, "mu = {mu}, {side:?}: a = {a}");
+            }
+        }
+    }
+
+    #[test]
     fn hill_start_is_close_to_root() {
-        // Hill's approximation is 5-6 % off for the Earth–Moon ratio (REFERENCES §9, computed).
+        // Hill's approximation is 5-6 % off for the Earth–Moon ratio ([computed] from the quintic roots).
         let em = EarthMoon::standard();
         let hill = (em.mass_ratio() / 3.0).cbrt();
         for side in [Side::Near, Side::Far] {
