@@ -207,7 +207,7 @@ mod tests {
         fn min_diameter_is_a_lower_bound(
             d in 1e-7f64..0.05,
             v in 1_000.0f64..80_000.0,
-            angle in 0.0f64..1.5707,
+            angle in 0.0f64..std::f64::consts::FRAC_PI_2,
             rho_p in 300.0f64..8000.0,
             width in 1e-3f64..0.2,
             thickness in 5e-6f64..2e-4,
