@@ -100,7 +100,8 @@ mod tests {
     #[test]
     fn chi_square_known_values() {
         // Upper tail of chi-square: P(X > 3.841459) = 0.05 for 1 dof; P(X > 5.991465) = 0.05
-        // for 2 dof (standard tables, e.g. Abramowitz & Stegun Table 26.8).
+        // for 2 dof (standard tables, Abramowitz & Stegun Table 26.8; values from memory). The
+        // 2-dof case below is exact: the chi-square(2) upper tail is exp(-x/2).
         // observed (60, 40) vs expected (50, 50): statistic 4.0 -> p = 0.0455003 (1 dof).
         let p = chi_square_p_value(&[60, 40], &[50.0, 50.0]).unwrap();
         assert!((p - 0.0455003).abs() < 1e-6, "{p}");
@@ -114,7 +115,8 @@ mod tests {
     #[test]
     fn kolmogorov_distribution_values() {
         // Kolmogorov limit distribution critical values (standard tables, e.g. Smirnov 1948):
-        // Q(1.3581) = 0.05, Q(1.6276) = 0.01, Q(1.2238) = 0.10. Large n so the correction vanishes.
+        // Q(1.3581) = 0.05, Q(1.6276) = 0.01, Q(1.2238) = 0.10 (values from memory). Large n so
+        // the correction vanishes.
         let n = 100_000_000u64;
         let scale = (n as f64).sqrt() + 0.12 + 0.11 / (n as f64).sqrt();
         for (lambda, p) in [(1.3581, 0.05), (1.6276, 0.01), (1.2238, 0.10)] {

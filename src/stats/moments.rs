@@ -247,7 +247,8 @@ mod tests {
 
     #[test]
     fn t_quantile_table_values() {
-        // Student t 97.5 % quantiles from standard tables (e.g. Abramowitz & Stegun Table 26.10):
+        // Student t 97.5 % quantiles from standard tables (Abramowitz & Stegun Table 26.10;
+        // values from memory):
         // dof 1 -> 12.706, dof 10 -> 2.228, dof 30 -> 2.042.
         assert!((student_t_quantile(0.975, 1.0) - 12.7062).abs() < 1e-3);
         assert!((student_t_quantile(0.975, 10.0) - 2.2281).abs() < 1e-3);
