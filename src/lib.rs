@@ -8,9 +8,21 @@
 //! the applicable space-engineering standards, or licensed practice.
 #![deny(missing_docs)]
 
+/// This crate's version, recorded in every output.
+pub const VERSION: &str = env!("CARGO_PKG_VERSION");
+
+/// The engineering caution carried by every report and the README.
+pub const CAUTION: &str =
+    "Caution: results are engineering estimates for trade studies. They do not replace \
+qualified review, the applicable space-engineering standards, or licensed practice.";
+
 pub mod analytic;
 pub mod damage;
+pub mod engine;
 pub mod environment;
+pub mod model;
 pub mod orbit;
+pub mod report;
+pub mod scenario;
 pub mod stats;
 pub mod structure;

@@ -126,7 +126,8 @@ fn bundle_strength(sorted: &[f64]) -> f64 {
 
 #[test]
 fn sorted_strength_formula_matches_settle_bay() {
-    // For 64-fibre bundles, settle_bay holds just below the formula's strength and fails just above.
+    // For 64-fibre bundles, settle_bay holds just below the formula's strength and fails just above
+    // (1e-7 relative: wider than the overload tolerance CAPACITY_TOLERANCE = 1e-9).
     let mut rng = Pcg64Mcg::seed_from_u64(42);
     for _ in 0..200 {
         let caps: Vec<f64> = (0..64).map(|_| rng.random::<f64>()).collect();
@@ -135,13 +136,13 @@ fn sorted_strength_formula_matches_settle_bay() {
         let s = bundle_strength(&sorted);
         let mut intact = [true; 64];
         assert!(
-            !settle_bay(&EqualSharing, &mut intact, &caps, 64.0 * s * (1.0 - 1e-9))
+            !settle_bay(&EqualSharing, &mut intact, &caps, 64.0 * s * (1.0 - 1e-7))
                 .unwrap()
                 .is_loss()
         );
         let mut intact = [true; 64];
         assert!(
-            settle_bay(&EqualSharing, &mut intact, &caps, 64.0 * s * (1.0 + 1e-9))
+            settle_bay(&EqualSharing, &mut intact, &caps, 64.0 * s * (1.0 + 1e-7))
                 .unwrap()
                 .is_loss()
         );

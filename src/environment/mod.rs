@@ -40,6 +40,10 @@ pub use velocity::{
     ecss_table_c1_rows, TableC1Row, VelocityDistribution, TABLE_C1_SPACING_M_PER_S,
 };
 
+/// The Table J-5 masses tabulated from the Grün formula (`flux_models/grun1985_tabulated.json`),
+/// offered as the built-in model `grun1985_tabulated` to exercise the tabulated format.
+pub const GRUN1985_TABULATED_JSON: &str = include_str!("../../flux_models/grun1985_tabulated.json");
+
 /// Height of the Earth's absorbing atmosphere for shielding, m (ECSS-E-ST-10-04C Rev.1
 /// C.1.5.2.2: R_A = 100 km).
 pub const EARTH_SHIELD_HEIGHT_M: f64 = 100e3;

@@ -1,0 +1,38 @@
+//! `tether-risk init FILE`: write the built-in demo scenario for editing.
+
+use std::path::PathBuf;
+
+use tether_risk::report::write_atomic;
+use tether_risk::scenario::DEMO_SCENARIO_JSON;
+
+use super::output::{print, InputError};
+
+/// Arguments of `init`.
+#[derive(clap::Args, Debug)]
+#[command(
+    after_help = "Example:\n  tether-risk init my-tether.json && tether-risk check my-tether.json"
+)]
+pub struct Args {
+    /// Where to write the scenario (JSON).
+    file: PathBuf,
+    /// Overwrite FILE if it exists.
+    #[arg(long)]
+    force: bool,
+}
+
+pub fn run(a: Args) -> anyhow::Result<()> {
+    if a.file.exists() && !a.force {
+        return Err(InputError(format!(
+            "{} already exists; choose another name or pass --force to overwrite it",
+            a.file.display()
+        ))
+        .into());
+    }
+    write_atomic(&a.file, DEMO_SCENARIO_JSON.as_bytes())
+        .map_err(|e| anyhow::anyhow!("cannot write {}: {e}", a.file.display()))?;
+    print(&format!(
+        "wrote the demo scenario to {}; edit it, then run: tether-risk check {}\n",
+        a.file.display(),
+        a.file.display()
+    ))
+}

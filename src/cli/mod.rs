@@ -1,0 +1,58 @@
+//! Command-line interface: clap definitions, one file per subcommand. The only code that prints.
+
+mod check;
+mod env;
+mod init;
+mod output;
+mod profile;
+mod simulate;
+
+use clap::{Parser, Subcommand};
+
+pub use output::report_error;
+
+/// Micrometeoroid severance risk for multi-ribbon space tethers.
+#[derive(Parser, Debug)]
+#[command(name = "tether-risk", version, about, long_about = None, after_help = "Results are engineering estimates for trade studies; they do not replace qualified review, the applicable space-engineering standards, or licensed practice.")]
+struct Cli {
+    #[command(subcommand)]
+    command: Command,
+}
+
+#[derive(Subcommand, Debug)]
+enum Command {
+    /// Write the built-in demo scenario to FILE for editing.
+    Init(init::Args),
+    /// Validate a scenario and print the derived design quantities.
+    Check(check::Args),
+    /// Tabulate the meteoroid environment (flux, shielding, focusing) at chosen altitudes.
+    Env(env::Args),
+    /// Print per-bay tension, margin, strike rate and critical hole widths.
+    Profile(profile::Args),
+    /// Run the Monte Carlo: loss probability, survival by year, cuts by altitude.
+    Simulate(simulate::Args),
+}
+
+/// Machine-readable or human output.
+#[derive(clap::ValueEnum, Clone, Copy, Debug, PartialEq, Eq, Default)]
+pub enum Format {
+    /// Aligned text for a terminal.
+    #[default]
+    Text,
+    /// JSON.
+    Json,
+    /// CSV (tables only).
+    Csv,
+}
+
+/// Parse the command line and run the chosen command.
+pub fn run() -> anyhow::Result<()> {
+    let cli = Cli::parse();
+    match cli.command {
+        Command::Init(a) => init::run(a),
+        Command::Check(a) => check::run(a),
+        Command::Env(a) => env::run(a),
+        Command::Profile(a) => profile::run(a),
+        Command::Simulate(a) => simulate::run(a),
+    }
+}

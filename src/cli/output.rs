@@ -1,0 +1,49 @@
+//! Printing and error reporting shared by the subcommands.
+
+use std::io::Write;
+
+use tether_risk::model::Model;
+use tether_risk::scenario::{self, ScenarioError};
+
+/// Print to stdout; a closed pipe (`tether-risk profile x | head`) ends the program quietly.
+pub fn print(text: &str) -> anyhow::Result<()> {
+    let mut out = std::io::stdout().lock();
+    match out.write_all(text.as_bytes()).and_then(|_| out.flush()) {
+        Ok(()) => Ok(()),
+        Err(e) if e.kind() == std::io::ErrorKind::BrokenPipe => std::process::exit(0),
+        Err(e) => Err(e.into()),
+    }
+}
+
+/// Load a scenario (a path, `-` for stdin, or `demo` for the built-in one) and build its model.
+pub fn load_model(path: &str) -> anyhow::Result<Model> {
+    let sc = if path == "demo" && !std::path::Path::new("demo").exists() {
+        scenario::demo()
+    } else {
+        scenario::load(path)?
+    };
+    Ok(Model::build(sc)?)
+}
+
+/// Print the error chain once (no backtrace) and choose the exit code.
+pub fn report_error(e: &anyhow::Error) -> i32 {
+    let input = e
+        .chain()
+        .any(|c| c.downcast_ref::<ScenarioError>().is_some())
+        || e.chain().any(|c| c.downcast_ref::<InputError>().is_some());
+    let mut msg = format!("error: {e}");
+    for cause in e.chain().skip(1) {
+        msg.push_str(&format!("\n  caused by: {cause}"));
+    }
+    eprintln!("{msg}");
+    if input {
+        2
+    } else {
+        1
+    }
+}
+
+/// A bad command-line value (exit code 2).
+#[derive(Debug, thiserror::Error)]
+#[error("{0}")]
+pub struct InputError(pub String);

@@ -1,0 +1,213 @@
+//! The Monte Carlo engine: random streams, one history, fixed batches run in parallel with
+//! rayon, tallies merged in batch order.
+//!
+//! Reproducibility: a batch is a fixed range of global history indices (its size never depends on
+//! the thread count), each history draws from its own (seed, purpose, index) streams, and batch
+//! tallies are integer counts merged in batch order. The same scenario, seed and version give
+//! the same bits at any thread count and any shard split.
+//!
+//! Memory is flat in the number of histories: batches are run in chunks and folded into one
+//! running tally as each chunk completes.
+
+mod history;
+mod rng;
+mod sampler;
+mod summary;
+mod tally;
+
+pub use history::{HistoryOutcome, LogEvent, Scratch};
+pub use rng::{splitmix64, stream, Purpose};
+pub use sampler::{open01, unit, Strike, StrikeSampler};
+pub use summary::{Interval, RunSummary, SurvivalPoint};
+pub use tally::{Loss, LossCause, Tally};
+
+use rayon::prelude::*;
+use thiserror::Error;
+
+use crate::model::Model;
+use crate::scenario::{LoadSharingSpec, SECONDS_PER_YEAR};
+use crate::structure::load_sharing::{EqualSharing, LoadSharing, LocalSharing, NoRedistribution};
+
+/// Histories per batch. Fixed: it is part of the reproducibility contract.
+pub const BATCH_SIZE: u64 = 1000;
+
+/// Altitude bands used for cut and loss tallies (equal lengths along the tether).
+pub const ALTITUDE_BANDS: usize = 20;
+
+/// Batches run between two folds of the running tally.
+const BATCHES_PER_CHUNK: u64 = 64;
+
+/// Engine failures.
+#[derive(Debug, Error)]
+pub enum EngineError {
+    /// The model cannot be sampled.
+    #[error("model: {0}")]
+    Model(String),
+    /// Bad run options.
+    #[error("{0}")]
+    Options(String),
+}
+
+/// How to run.
+#[derive(Clone, Debug)]
+pub struct RunOptions {
+    /// Number of histories.
+    pub histories: u64,
+    /// Master seed.
+    pub seed: u64,
+    /// Worker threads (0: one per core). Never changes the results.
+    pub threads: usize,
+    /// Sampling floor as a fraction of the smallest severing hole (1: only severing-capable).
+    pub floor_fraction: f64,
+    /// Run only the batches b with b % count == index.
+    pub shard: Option<(u64, u64)>,
+}
+
+/// A model prepared for sampling. Immutable and shared by all threads.
+#[derive(Debug)]
+pub struct Engine<'m> {
+    model: &'m Model,
+    sampler: StrikeSampler,
+    sharing: Box<dyn LoadSharing>,
+    mission_s: f64,
+    years: usize,
+    bay_band: Vec<u16>,
+    ribbons: usize,
+    particle_density: f64,
+    thickness_m: f64,
+    ribbon_density: f64,
+    per_width_capacity: f64,
+}
+
+impl<'m> Engine<'m> {
+    /// Prepare a model: build the strike sampler and tables.
+    pub fn new(model: &'m Model, floor_fraction: f64) -> Result<Self, EngineError> {
+        if !(floor_fraction > 0.0 && floor_fraction <= 1.0) {
+            return Err(EngineError::Options(format!(
+                "floor fraction = {floor_fraction} is out of range: allowed (0, 1]"
+            )));
+        }
+        let sampler = StrikeSampler::new(model, floor_fraction)?;
+        let t = &model.scenario.tether;
+        let sharing: Box<dyn LoadSharing> = match t.load_sharing {
+            LoadSharingSpec::Equal => Box::new(EqualSharing),
+            LoadSharingSpec::Local => Box::new(LocalSharing {
+                arrangement: t.arrangement,
+            }),
+            LoadSharingSpec::None => Box::new(NoRedistribution),
+        };
+        let top = model.profile.length_m();
+        let bay_band = model
+            .profile
+            .bays
+            .iter()
+            .map(|b| {
+                ((b.mid_altitude_m() / top * ALTITUDE_BANDS as f64) as usize)
+                    .min(ALTITUDE_BANDS - 1) as u16
+            })
+            .collect();
+        Ok(Engine {
+            model,
+            sampler,
+            sharing,
+            mission_s: model.scenario.run.mission_s,
+            years: model.scenario.run.mission_years.ceil() as usize,
+            bay_band,
+            ribbons: t.ribbon_count,
+            particle_density: model.scenario.environment.particle_density_kg_per_m3,
+            thickness_m: t.thickness_m,
+            ribbon_density: t.material_density_kg_per_m3,
+            per_width_capacity: t.thickness_m * t.allowable_stress_pa,
+        })
+    }
+
+    /// The strike sampler.
+    pub fn sampler(&self) -> &StrikeSampler {
+        &self.sampler
+    }
+
+    /// The model.
+    pub fn model(&self) -> &Model {
+        self.model
+    }
+
+    /// Mission years rounded up (number of yearly tallies).
+    pub fn years(&self) -> usize {
+        self.years
+    }
+
+    /// An empty tally shaped for this engine.
+    pub fn empty_tally(&self) -> Tally {
+        Tally::new(self.years, ALTITUDE_BANDS, self.ribbons)
+    }
+
+    /// Run one batch: histories `[b * BATCH_SIZE, min((b + 1) * BATCH_SIZE, histories))`.
+    pub fn run_batch(&self, b: u64, histories: u64, seed: u64, scratch: &mut Scratch) -> Tally {
+        let mut tally = self.empty_tally();
+        let lo = b * BATCH_SIZE;
+        let hi = histories.min(lo.saturating_add(BATCH_SIZE));
+        for h in lo..hi {
+            let mut rng = stream(seed, Purpose::Strikes, h);
+            self.run_history(&mut rng, scratch, &mut tally, None);
+        }
+        tally
+    }
+
+    /// Replay one history with its event log.
+    pub fn replay(&self, history: u64, seed: u64) -> (HistoryOutcome, Vec<LogEvent>) {
+        let mut scratch = Scratch::new(self.model.profile.bays.len(), self.ribbons);
+        let mut tally = self.empty_tally();
+        let mut log = Vec::new();
+        let mut rng = stream(seed, Purpose::Strikes, history);
+        let out = self.run_history(&mut rng, &mut scratch, &mut tally, Some(&mut log));
+        (out, log)
+    }
+
+    /// Run all batches (or a shard of them) and return the merged tally. `progress` is called
+    /// with the number of histories done after each chunk.
+    pub fn run(
+        &self,
+        opts: &RunOptions,
+        progress: &(dyn Fn(u64) + Sync),
+    ) -> Result<Tally, EngineError> {
+        let pool = rayon::ThreadPoolBuilder::new()
+            .num_threads(opts.threads)
+            .build()
+            .map_err(|e| EngineError::Options(format!("cannot start worker threads: {e}")))?;
+        let batches = opts.histories.div_ceil(BATCH_SIZE);
+        let mine: Vec<u64> = match opts.shard {
+            Some((i, n)) => (0..batches).filter(|b| b % n == i).collect(),
+            None => (0..batches).collect(),
+        };
+        let bays = self.model.profile.bays.len();
+        let mut total = self.empty_tally();
+        let mut done = 0u64;
+        for chunk in mine.chunks(BATCHES_PER_CHUNK as usize) {
+            let tallies: Vec<Tally> = pool.install(|| {
+                chunk
+                    .par_iter()
+                    .map_init(
+                        || Scratch::new(bays, self.ribbons),
+                        |scratch, &b| self.run_batch(b, opts.histories, opts.seed, scratch),
+                    )
+                    .collect()
+            });
+            for t in &tallies {
+                total.merge(t);
+                done += t.histories;
+            }
+            progress(done);
+        }
+        Ok(total)
+    }
+
+    /// Mission length, s.
+    pub fn mission_s(&self) -> f64 {
+        self.mission_s
+    }
+
+    /// Mission length, years.
+    pub fn mission_years(&self) -> f64 {
+        self.mission_s / SECONDS_PER_YEAR
+    }
+}

@@ -1,0 +1,103 @@
+//! Tallies: what each history adds to its batch, merged batch by batch in order.
+//!
+//! Every score is an integer count (losses, cuts, sums of squares), so merging is exact and
+//! cannot depend on thread scheduling; floating point appears only when the summary is formed.
+
+use serde::{Deserialize, Serialize};
+
+/// Why a bay lost its last load path.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum LossCause {
+    /// A strike cut the last surviving ribbon.
+    DirectCut,
+    /// A cut overloaded the survivors and they failed in a cascade.
+    Cascade,
+}
+
+/// A system loss inside one history.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Loss {
+    /// Time since mission start, s.
+    pub time_s: f64,
+    /// Bay index.
+    pub bay: u32,
+    /// Cause.
+    pub cause: LossCause,
+}
+
+/// Mergeable counts for a set of histories.
+#[derive(Clone, Debug, Default, PartialEq, Eq, Serialize, Deserialize)]
+pub struct Tally {
+    /// Histories run.
+    pub histories: u64,
+    /// Histories that ended in system loss.
+    pub losses: u64,
+    /// Losses by cause: [direct cut, cascade].
+    pub losses_by_cause: [u64; 2],
+    /// Losses whose time falls in mission year y (0-based), y < years.
+    pub losses_by_year: Vec<u64>,
+    /// Losses by altitude band.
+    pub losses_by_band: Vec<u64>,
+    /// Sum over histories of cut segments.
+    pub cuts: u64,
+    /// Sum over histories of squared cut counts (for the interval on cuts per year).
+    pub cuts_sq: u128,
+    /// Cuts by altitude band.
+    pub cuts_by_band: Vec<u64>,
+    /// Cuts in each mission year.
+    pub cuts_by_year: Vec<u64>,
+    /// Cuts that were caused by load redistribution (not by a strike's own hole).
+    pub cascade_cuts: u64,
+    /// Strikes sampled (above the floor).
+    pub strikes: u64,
+    /// Strikes that made a hole but cut nothing (sub-critical damage).
+    pub subcritical_holes: u64,
+    /// Histogram of the largest number of cuts seen at once in one bay (index = cuts).
+    pub max_cuts_in_bay: Vec<u64>,
+    /// Sum over histories of mission time with at least one cut bay, s (rounded to whole s).
+    pub time_with_cut_bay_s: u64,
+}
+
+impl Tally {
+    /// An empty tally with the given numbers of years, altitude bands and ribbons.
+    pub fn new(years: usize, bands: usize, ribbons: usize) -> Self {
+        Tally {
+            losses_by_year: vec![0; years],
+            losses_by_band: vec![0; bands],
+            cuts_by_band: vec![0; bands],
+            cuts_by_year: vec![0; years],
+            max_cuts_in_bay: vec![0; ribbons + 1],
+            ..Default::default()
+        }
+    }
+
+    /// Add another tally (order-independent because all fields are integers).
+    pub fn merge(&mut self, o: &Tally) {
+        self.histories += o.histories;
+        self.losses += o.losses;
+        for i in 0..2 {
+            self.losses_by_cause[i] += o.losses_by_cause[i];
+        }
+        add(&mut self.losses_by_year, &o.losses_by_year);
+        add(&mut self.losses_by_band, &o.losses_by_band);
+        self.cuts += o.cuts;
+        self.cuts_sq += o.cuts_sq;
+        add(&mut self.cuts_by_band, &o.cuts_by_band);
+        add(&mut self.cuts_by_year, &o.cuts_by_year);
+        self.cascade_cuts += o.cascade_cuts;
+        self.strikes += o.strikes;
+        self.subcritical_holes += o.subcritical_holes;
+        add(&mut self.max_cuts_in_bay, &o.max_cuts_in_bay);
+        self.time_with_cut_bay_s += o.time_with_cut_bay_s;
+    }
+}
+
+fn add(a: &mut Vec<u64>, b: &[u64]) {
+    if a.len() < b.len() {
+        a.resize(b.len(), 0);
+    }
+    for (x, y) in a.iter_mut().zip(b) {
+        *x += *y;
+    }
+}

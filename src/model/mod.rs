@@ -1,0 +1,225 @@
+//! A built model: everything the engine and the reports need, computed once from a validated
+//! [`Scenario`]: the flux model, the velocity distribution, the perforation law, the tether
+//! profile, and per-bay environment factors, critical hole widths and damaging-strike rates.
+//!
+//! This module is where the model implementations meet (the engine sees only the traits). It was
+//! added to the layout of DESIGN.md because the per-bay tables need environment, structure and
+//! damage together, and none of those may depend on the others in that direction.
+
+mod rates;
+
+pub use rates::ribbon_strike_rate_per_m_per_year;
+
+use crate::damage::{FractionOfWidth, PerforationLaw, RibbonTarget, ThinFilmHoleLaw};
+use crate::environment::{
+    local_factors, FluxModel, Grun1985, LocalFactors, TabulatedFlux, VelocityDistribution,
+};
+use crate::orbit::EarthMoon;
+use crate::scenario::{DamageSpec, FluxModelSpec, Scenario, ScenarioError, TaperSpec};
+use crate::structure::load_sharing::MAX_RIBBONS;
+use crate::structure::{Taper, TetherDesign, TetherProfile};
+
+/// Per-bay tables.
+#[derive(Clone, Debug)]
+pub struct BayTables {
+    /// Environment factors at the bay's middle.
+    pub factors: LocalFactors,
+    /// Critical hole width with 0..N-1 ribbons already cut (equal sharing), m.
+    pub critical_hole_width_m: Vec<f64>,
+    /// Smallest particle diameter that can sever an intact segment of this bay, m.
+    pub min_severing_diameter_m: f64,
+    /// Rate of strikes (all ribbons of the bay) by particles able to sever an intact segment,
+    /// per year.
+    pub damaging_strike_rate_per_year: f64,
+}
+
+/// The built model.
+#[derive(Debug)]
+pub struct Model {
+    /// The scenario it was built from.
+    pub scenario: Scenario,
+    /// Earth–Moon constants.
+    pub orbit: EarthMoon,
+    /// Cumulative flux model.
+    pub flux: Box<dyn FluxModel>,
+    /// Free-space velocity distribution.
+    pub velocity: VelocityDistribution,
+    /// Perforation law.
+    pub perforation: Box<dyn PerforationLaw>,
+    /// The tether profile.
+    pub profile: TetherProfile,
+    /// Per-bay tables, same order as `profile.bays`.
+    pub bays: Vec<BayTables>,
+}
+
+/// Build the flux model a scenario names.
+pub fn build_flux_model(scenario: &Scenario) -> Result<Box<dyn FluxModel>, ScenarioError> {
+    let env = &scenario.environment;
+    let model_err = |message: String| ScenarioError::Model {
+        path: "environment.flux_model".into(),
+        message,
+    };
+    Ok(match &env.flux_model {
+        FluxModelSpec::Builtin(name) if name == "grun1985" => {
+            Box::new(Grun1985::standard().map_err(|e| model_err(e.to_string()))?)
+        }
+        FluxModelSpec::Builtin(name) if name == "grun1985_tabulated" => Box::new(
+            TabulatedFlux::from_json(crate::environment::GRUN1985_TABULATED_JSON)
+                .map_err(|e| model_err(e.to_string()))?,
+        ),
+        FluxModelSpec::Builtin(name) => return Err(model_err(format!("unknown model `{name}`"))),
+        FluxModelSpec::Table { .. } => {
+            let text = env
+                .flux_table_json
+                .as_deref()
+                .ok_or_else(|| model_err("the table file was not read".into()))?;
+            Box::new(TabulatedFlux::from_json(text).map_err(|e| model_err(e.to_string()))?)
+        }
+    })
+}
+
+/// The structure's view of a scenario's tether.
+pub fn tether_design(scenario: &Scenario) -> TetherDesign {
+    let t = &scenario.tether;
+    TetherDesign {
+        side: t.side,
+        top_altitude_m: t.top_altitude_m,
+        ribbon_count: t.ribbon_count,
+        anchor_width_m: t.anchor_width_m,
+        thickness_m: t.thickness_m,
+        allowable_stress_pa: t.allowable_stress_pa,
+        density_kg_per_m3: t.material_density_kg_per_m3,
+        taper: match t.taper {
+            TaperSpec::None => Taper::Uniform,
+            TaperSpec::ConstantStress => Taper::ConstantStress,
+        },
+        design_safety_factor: t.design_safety_factor,
+        cross_link_spacing_m: t.cross_link_spacing_m,
+        cross_link_mass_kg: t.cross_link_mass_kg,
+        anchor_preload_n: t.anchor_preload_n,
+        traffic_load_n: t.traffic_load_n,
+    }
+}
+
+/// The perforation law a scenario names.
+pub fn build_perforation_law(
+    scenario: &Scenario,
+) -> Result<Box<dyn PerforationLaw>, ScenarioError> {
+    let err = |path: &str, message: String| ScenarioError::Model {
+        path: path.into(),
+        message,
+    };
+    Ok(match scenario.damage {
+        DamageSpec::ThinFilmHole { hole_factor } => Box::new(
+            ThinFilmHoleLaw::new(hole_factor)
+                .map_err(|e| err("damage.hole_factor", e.to_string()))?,
+        ),
+        DamageSpec::FractionOfWidth { fraction } => Box::new(
+            FractionOfWidth::new(fraction).map_err(|e| err("damage.fraction", e.to_string()))?,
+        ),
+    })
+}
+
+impl Model {
+    /// Build everything; refuses physically impossible designs with the reason.
+    pub fn build(scenario: Scenario) -> Result<Self, ScenarioError> {
+        let orbit = EarthMoon::standard();
+        let flux = build_flux_model(&scenario)?;
+        let env_err = |e: crate::environment::EnvironmentError| ScenarioError::Model {
+            path: "environment".into(),
+            message: e.to_string(),
+        };
+        let velocity = VelocityDistribution::ecss_table_c1().map_err(env_err)?;
+        let perforation = build_perforation_law(&scenario)?;
+        let profile = TetherProfile::build(&orbit, &tether_design(&scenario)).map_err(|e| {
+            ScenarioError::Infeasible {
+                reason: e.to_string(),
+            }
+        })?;
+        check_repair_feasible(&scenario, &profile)?;
+
+        let env = &scenario.environment;
+        let n = profile.design.ribbon_count;
+        let mut bays = Vec::with_capacity(profile.bays.len());
+        for (j, bay) in profile.bays.iter().enumerate() {
+            let factors = local_factors(
+                &orbit,
+                scenario.tether.side,
+                bay.mid_altitude_m(),
+                &velocity,
+                env.moon_focusing,
+                env.earth_focusing,
+                env.moon_shielding,
+            )
+            .map_err(env_err)?;
+            let critical: Vec<f64> = (0..n.min(MAX_RIBBONS))
+                .map(|k| profile.critical_hole_width_m(j, k))
+                .collect();
+            let target = RibbonTarget {
+                width_m: bay.width_m,
+                thickness_m: profile.design.thickness_m,
+                density_kg_per_m3: profile.design.density_kg_per_m3,
+            };
+            let d_min = perforation.min_diameter_for_hole_m(critical[0], &target);
+            let per_m = ribbon_strike_rate_per_m_per_year(
+                flux.as_ref(),
+                env.particle_density_kg_per_m3,
+                bay.width_m,
+                d_min,
+            );
+            let rate = per_m * bay.length_m() * n as f64 * factors.total() * env.flux_scale_factor;
+            bays.push(BayTables {
+                factors,
+                critical_hole_width_m: critical,
+                min_severing_diameter_m: d_min,
+                damaging_strike_rate_per_year: rate,
+            });
+        }
+        Ok(Model {
+            scenario,
+            orbit,
+            flux,
+            velocity,
+            perforation,
+            profile,
+            bays,
+        })
+    }
+
+    /// Sum of the per-bay damaging-strike rates, per year.
+    pub fn total_damaging_strike_rate_per_year(&self) -> f64 {
+        self.bays
+            .iter()
+            .map(|b| b.damaging_strike_rate_per_year)
+            .sum()
+    }
+}
+
+/// Refuse a repair fleet that cannot do its job at all.
+fn check_repair_feasible(
+    scenario: &Scenario,
+    profile: &TetherProfile,
+) -> Result<(), ScenarioError> {
+    let Some(r) = &scenario.repair else {
+        return Ok(());
+    };
+    let (j, m) = profile.heaviest_segment();
+    if m > r.payload_kg {
+        let bay = &profile.bays[j];
+        return Err(ScenarioError::Infeasible {
+            reason: format!(
+                "repair.climber.payload_kg = {} kg cannot carry one spare segment: bay {j} ({:.0}-{:.0} km) needs \
+                 {:.1} kg of ribbon ({:.1} mm x {:.1} um x {:.1} km). Raise the payload, shorten \
+                 tether.cross_link_spacing_km, or narrow the ribbons",
+                r.payload_kg,
+                bay.bottom_altitude_m / 1e3,
+                bay.top_altitude_m / 1e3,
+                m,
+                bay.width_m * 1e3,
+                profile.design.thickness_m * 1e6,
+                bay.length_m() / 1e3
+            ),
+        });
+    }
+    Ok(())
+}

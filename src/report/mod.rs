@@ -1,0 +1,14 @@
+//! Output: JSON, CSV, Markdown and text renderings of summaries, and atomic file writes.
+//!
+//! This is the only module that writes output files. It sees summaries (serialisable values
+//! built from a model or a run), never engine internals.
+
+mod atomic;
+pub mod design;
+pub mod env;
+pub mod run;
+pub mod table;
+
+pub use atomic::write_atomic;
+
+pub use crate::CAUTION;

@@ -1,0 +1,200 @@
+//! Run results: the text rendering of a [`RunSummary`], the manifest, and writing a run's
+//! output folder atomically.
+
+use std::path::Path;
+
+use serde::Serialize;
+
+use super::table::{sig, Table};
+use super::write_atomic;
+use crate::engine::RunSummary;
+
+/// Provenance of a run, written beside its summary.
+#[derive(Clone, Debug, Serialize)]
+pub struct Manifest {
+    /// Tool name.
+    pub tool: String,
+    /// Tool version.
+    pub version: String,
+    /// Scenario name.
+    pub scenario: String,
+    /// Scenario hash (hex).
+    pub scenario_hash: String,
+    /// Master seed.
+    pub seed: u64,
+    /// Histories run.
+    pub histories: u64,
+    /// Histories per batch.
+    pub batch_size: u64,
+    /// Worker threads used (results do not depend on it).
+    pub threads: usize,
+    /// Shard, if any.
+    pub shard: Option<[u64; 2]>,
+    /// Versions of the crates that determine the random numbers and statistics.
+    pub crate_versions: Vec<(String, String)>,
+    /// Random-stream scheme.
+    pub random_streams: String,
+    /// Wall-clock time of the run, s (not part of the results).
+    pub wall_time_s: f64,
+    /// The command line.
+    pub command: Vec<String>,
+}
+
+/// Versions of the crates that matter for reproducibility, read from the Cargo.lock that was
+/// compiled in.
+pub fn crate_versions() -> Vec<(String, String)> {
+    const LOCK: &str = include_str!("../../Cargo.lock");
+    const WANTED: &[&str] = &[
+        "rand",
+        "rand_core",
+        "rand_pcg",
+        "rand_distr",
+        "statrs",
+        "rayon",
+        "serde_json",
+    ];
+    let mut out = Vec::new();
+    let mut name: Option<&str> = None;
+    for line in LOCK.lines() {
+        if let Some(v) = line.strip_prefix("name = ") {
+            name = Some(v.trim_matches('"'));
+        } else if let Some(v) = line.strip_prefix("version = ") {
+            if let Some(n) = name.take() {
+                if WANTED.contains(&n) {
+                    out.push((n.to_string(), v.trim_matches('"').to_string()));
+                }
+            }
+        }
+    }
+    out
+}
+
+/// Human-readable summary of a run.
+pub fn run_text(s: &RunSummary) -> String {
+    let mut o = String::new();
+    let pct = |x: f64| format!("{:.3} %", 100.0 * x);
+    o.push_str(&format!(
+        "Monte Carlo: scenario \"{}\" (hash {}), seed {}, {} histories, {} mission years, tether-risk {}\n",
+        s.scenario, s.scenario_hash, s.seed, s.histories, s.mission_years, s.version
+    ));
+    if let Some([i, n]) = s.shard {
+        o.push_str(&format!(
+            "Shard {i} of {n}: a partial result; merge all shards for the full run.\n"
+        ));
+    }
+    o.push('\n');
+    let lp = &s.loss_probability;
+    o.push_str(&format!(
+        "Probability of system loss by mission end: {}  ({:.0} % interval {} .. {}, Clopper–Pearson; {} losses in {} histories)\n",
+        sig(lp.estimate, 4),
+        100.0 * lp.confidence,
+        sig(lp.ci_low, 4),
+        sig(lp.ci_high, 4),
+        s.tally.losses,
+        s.histories
+    ));
+    if s.tally.losses == 0 {
+        o.push_str("  No loss was seen: the upper bound is what these histories can rule out. For small probabilities use `tether-risk estimate` or more histories.\n");
+    }
+    o.push_str(&format!(
+        "Cut segments per year (whole tether): {}  ({} .. {}); mean cuts per history {}\n",
+        sig(s.cuts_per_year.estimate, 4),
+        sig(s.cuts_per_year.ci_low, 4),
+        sig(s.cuts_per_year.ci_high, 4),
+        sig(s.mean_cuts, 4)
+    ));
+    o.push_str(&format!(
+        "Losses by cause: {} direct cut, {} cascade; {} of cuts came from load redistribution\n",
+        s.losses_by_cause.direct_cut,
+        s.losses_by_cause.cascade,
+        pct(s.cascade_cut_fraction)
+    ));
+    o.push_str(&format!(
+        "Time with at least one cut bay: {} of the mission; strikes sampled per history {}; sub-critical holes per history {}\n\n",
+        pct(s.fraction_of_time_with_cut_bay),
+        sig(s.strikes_per_history, 4),
+        sig(s.subcritical_holes_per_history, 4)
+    ));
+    o.push_str("Survival by mission year\n");
+    o.push_str(&survival_table(s).to_text());
+    o.push_str("\nCuts and losses by altitude band\n");
+    o.push_str(&band_table(s).to_text());
+    o.push('\n');
+    o.push_str(&s.caution);
+    o.push('\n');
+    o
+}
+
+/// Survival by year as a table.
+pub fn survival_table(s: &RunSummary) -> Table {
+    let mut t = Table::new(["year", "survival", "ci_low", "ci_high", "loss_probability"]);
+    for p in &s.survival_by_year {
+        t.push([
+            sig(p.year, 4),
+            sig(p.estimate, 6),
+            sig(p.ci_low, 6),
+            sig(p.ci_high, 6),
+            sig(1.0 - p.estimate, 4),
+        ]);
+    }
+    t
+}
+
+/// Cuts and losses by altitude band as a table.
+pub fn band_table(s: &RunSummary) -> Table {
+    let mut t = Table::new([
+        "band_km",
+        "cuts_per_year",
+        "losses",
+        "loss_probability",
+        "ci_high",
+    ]);
+    for b in &s.cuts_by_altitude_band {
+        t.push([
+            format!("{:.0}-{:.0}", b.bottom_altitude_km, b.top_altitude_km),
+            sig(b.cuts_per_year, 4),
+            b.losses.to_string(),
+            sig(b.loss_probability.estimate, 4),
+            sig(b.loss_probability.ci_high, 4),
+        ]);
+    }
+    t
+}
+
+/// Write `summary.json`, `manifest.json` and the tables into `dir`, each atomically.
+pub fn write_run(dir: &Path, summary: &RunSummary, manifest: &Manifest) -> std::io::Result<()> {
+    std::fs::create_dir_all(dir)?;
+    let json = |v: &dyn erased::Json| v.to_json();
+    write_atomic(&dir.join("summary.json"), json(summary).as_bytes())?;
+    write_atomic(&dir.join("manifest.json"), json(manifest).as_bytes())?;
+    write_atomic(
+        &dir.join("survival_by_year.csv"),
+        survival_table(summary).to_csv().as_bytes(),
+    )?;
+    write_atomic(
+        &dir.join("survival_by_year.md"),
+        survival_table(summary).to_markdown().as_bytes(),
+    )?;
+    write_atomic(
+        &dir.join("altitude_bands.csv"),
+        band_table(summary).to_csv().as_bytes(),
+    )?;
+    write_atomic(
+        &dir.join("altitude_bands.md"),
+        band_table(summary).to_markdown().as_bytes(),
+    )?;
+    Ok(())
+}
+
+mod erased {
+    /// Pretty JSON of any serialisable value.
+    pub trait Json {
+        fn to_json(&self) -> String;
+    }
+    impl<T: serde::Serialize> Json for T {
+        fn to_json(&self) -> String {
+            serde_json::to_string_pretty(self).unwrap_or_else(|e| format!("{{\"error\": \"{e}\"}}"))
+                + "\n"
+        }
+    }
+}

@@ -1,0 +1,344 @@
+//! What a scenario file says: serde structs with unit-suffixed field names and no validation
+//! beyond types. [`super::validate`] turns a [`ScenarioSpec`] into a checked, SI-unit
+//! [`super::Scenario`].
+//!
+//! Every struct refuses unknown fields, so a misspelt field is an error (with the nearest valid
+//! name suggested) rather than a silently ignored setting.
+
+use std::collections::BTreeMap;
+
+use serde::{Deserialize, Serialize};
+
+use crate::orbit::Side;
+use crate::structure::load_sharing::Arrangement;
+
+/// A whole scenario document, one section per concern.
+#[derive(Clone, Debug, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct ScenarioSpec {
+    /// Short name used in reports.
+    pub name: String,
+    /// Free text describing the scenario.
+    #[serde(default)]
+    pub description: String,
+    /// The meteoroid environment.
+    pub environment: EnvironmentSpec,
+    /// The tether design.
+    pub tether: TetherSpec,
+    /// How a strike turns into ribbon damage.
+    #[serde(default)]
+    pub damage: DamageSpec,
+    /// Repair logistics; `null` means no repair.
+    #[serde(default)]
+    pub repair: Option<RepairSpec>,
+    /// Run settings.
+    pub run: RunSpec,
+}
+
+/// Which cumulative flux model to use.
+#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+#[serde(untagged)]
+pub enum FluxModelSpec {
+    /// A built-in model by name: `"grun1985"` or `"grun1985_tabulated"`.
+    Builtin(String),
+    /// A tabulated model read from a JSON file (path relative to the scenario file).
+    Table {
+        /// Path to the table file.
+        table_file: String,
+    },
+}
+
+/// The meteoroid environment section.
+#[derive(Clone, Debug, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct EnvironmentSpec {
+    /// Cumulative flux model.
+    pub flux_model: FluxModelSpec,
+    /// Meteoroid bulk density for mass <-> diameter, g/cm^3 (ECSS: 2.5 with the Grün model).
+    #[serde(default = "default_particle_density")]
+    pub particle_density_g_per_cm3: f64,
+    /// Velocity distribution: `"ecss_table_c1"`.
+    #[serde(default = "default_velocity")]
+    pub velocity_distribution: String,
+    /// Apply the Moon's gravitational focusing.
+    #[serde(default = "yes")]
+    pub moon_focusing: bool,
+    /// Apply the Earth's gravitational focusing at the tether's distance from Earth.
+    #[serde(default = "yes")]
+    pub earth_focusing: bool,
+    /// Apply the Moon's geometric shielding (1 + cos eta)/2.
+    #[serde(default = "yes")]
+    pub moon_shielding: bool,
+    /// Multiplier on the model flux, dimensionless (ECSS J.2.3.2: uncertainty 0.33 to 3).
+    #[serde(default = "one")]
+    pub flux_scale_factor: f64,
+}
+
+/// Width schedule of the ribbons along the tether.
+#[derive(Clone, Copy, Debug, Serialize, Deserialize, PartialEq, Eq)]
+#[serde(rename_all = "snake_case")]
+pub enum TaperSpec {
+    /// Every bay has the anchor width.
+    None,
+    /// Each bay is widened (never narrowed below the anchor width) so that its largest intact
+    /// stress is the allowable stress divided by `design_safety_factor`.
+    ConstantStress,
+}
+
+/// How a cut ribbon's load reaches the survivors.
+#[derive(Clone, Copy, Debug, Serialize, Deserialize, PartialEq, Eq)]
+#[serde(rename_all = "snake_case")]
+pub enum LoadSharingSpec {
+    /// Equal sharing among the bay's surviving ribbons (Daniels).
+    Equal,
+    /// Nearest surviving neighbours take the load (Harlow–Phoenix local sharing).
+    Local,
+    /// No redistribution: a ribbon's tension never changes (for comparisons with closed forms).
+    None,
+}
+
+/// Ribbon material, generic name.
+#[derive(Clone, Debug, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct MaterialSpec {
+    /// Generic material name (PBO, para-aramid, UHMWPE, carbon fibre...).
+    pub name: String,
+    /// Ultimate tensile strength of the ribbon material, GPa.
+    pub ultimate_strength_gpa: f64,
+    /// Material density, g/cm^3.
+    pub density_g_per_cm3: f64,
+    /// Named strength knock-down factors (long gauge, ageing, joints...), each in (0, 1];
+    /// the allowable stress is the ultimate strength times their product.
+    #[serde(default)]
+    pub strength_knockdowns: BTreeMap<String, f64>,
+}
+
+/// The tether section.
+#[derive(Clone, Debug, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct TetherSpec {
+    /// `near` (through L1, towards Earth) or `far` (through L2).
+    pub side: Side,
+    /// Anchor latitude on the Moon, degrees (must be on the equator: 0).
+    #[serde(default)]
+    pub anchor_latitude_deg: f64,
+    /// Anchor longitude on the Moon, degrees (0 = sub-Earth point for `near`, 180 for `far`).
+    pub anchor_longitude_deg: f64,
+    /// Altitude of the top end (counterweight) above the lunar surface, km.
+    pub top_altitude_km: f64,
+    /// Number of parallel ribbons.
+    pub ribbon_count: u32,
+    /// Ribbon width at the anchor, mm.
+    pub ribbon_width_mm: f64,
+    /// Ribbon thickness, micrometres.
+    pub ribbon_thickness_um: f64,
+    /// Ribbon material.
+    pub material: MaterialSpec,
+    /// Width schedule.
+    #[serde(default = "default_taper")]
+    pub taper: TaperSpec,
+    /// Allowable stress over the largest intact stress that the taper aims for, dimensionless.
+    #[serde(default = "default_design_safety_factor")]
+    pub design_safety_factor: f64,
+    /// Placement of ribbons across the tether (for local load sharing).
+    #[serde(default = "default_arrangement")]
+    pub arrangement: Arrangement,
+    /// Load-sharing rule after a cut.
+    #[serde(default = "default_load_sharing")]
+    pub load_sharing: LoadSharingSpec,
+    /// Distance between adjacent cross-links along the tether, km.
+    pub cross_link_spacing_km: f64,
+    /// Mass of one cross-link, kg.
+    pub cross_link_mass_kg: f64,
+    /// Tension held by the anchor, N.
+    pub anchor_preload_n: f64,
+    /// Design envelope of climber traffic, added to the tension in every bay, N.
+    #[serde(default)]
+    pub traffic_load_n: f64,
+}
+
+/// How a strike turns into a hole.
+#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+#[serde(tag = "law", rename_all = "snake_case", deny_unknown_fields)]
+pub enum DamageSpec {
+    /// Default: perforation above the ballistic limit, hole width = hole_factor x particle diameter.
+    ThinFilmHole {
+        /// Hole width over particle diameter, dimensionless (engineering assumption, 1.0 to 1.7).
+        #[serde(default = "default_hole_factor")]
+        hole_factor: f64,
+    },
+    /// Classical criterion: a particle of at least `fraction` of the ribbon width severs it.
+    FractionOfWidth {
+        /// Fraction of the ribbon width, dimensionless (classically 1/3).
+        #[serde(default = "default_fraction")]
+        fraction: f64,
+    },
+}
+
+impl Default for DamageSpec {
+    fn default() -> Self {
+        DamageSpec::ThinFilmHole {
+            hole_factor: default_hole_factor(),
+        }
+    }
+}
+
+fn default_hole_factor() -> f64 {
+    1.3
+}
+fn default_fraction() -> f64 {
+    1.0 / 3.0
+}
+
+/// A repair depot on the tether.
+#[derive(Clone, Debug, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct StationSpec {
+    /// Station name.
+    pub name: String,
+    /// Altitude above the lunar surface, km.
+    pub altitude_km: f64,
+    /// Climbers based here.
+    pub climbers: u32,
+    /// Spare segments on hand at the start of the mission.
+    pub initial_stock_segments: u32,
+}
+
+/// The repair climber design (all climbers are alike).
+#[derive(Clone, Debug, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct ClimberSpec {
+    /// Climbing speed away from the Moon, m/s.
+    pub speed_up_m_per_s: f64,
+    /// Descending speed towards the Moon, m/s.
+    pub speed_down_m_per_s: f64,
+    /// Largest spare-ribbon mass the climber can carry, kg.
+    pub payload_kg: f64,
+    /// Time to load and prepare at the station before leaving, hours.
+    #[serde(default)]
+    pub turnaround_hours: f64,
+    /// Time to splice one segment on site, hours.
+    pub splice_hours: f64,
+}
+
+/// How a cut is noticed.
+#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+#[serde(tag = "kind", rename_all = "snake_case", deny_unknown_fields)]
+pub enum DetectionSpec {
+    /// A fixed delay after the cut.
+    Fixed {
+        /// Delay, hours.
+        delay_hours: f64,
+    },
+    /// An exponentially distributed delay.
+    Exponential {
+        /// Mean delay, hours.
+        mean_hours: f64,
+    },
+    /// Cuts are found at the next periodic inspection.
+    PeriodicInspection {
+        /// Time between inspections, hours.
+        interval_hours: f64,
+    },
+}
+
+/// How spare stock is replenished.
+#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+#[serde(tag = "kind", rename_all = "snake_case", deny_unknown_fields)]
+pub enum ResupplySpec {
+    /// No resupply during the mission.
+    None,
+    /// A delivery of `batch_segments` to every station every `interval_days`.
+    Periodic {
+        /// Time between deliveries, days.
+        interval_days: f64,
+        /// Segments per delivery and station.
+        batch_segments: u32,
+    },
+    /// Order `batch_segments` when a station's stock falls to `reorder_point_segments`.
+    ReorderPoint {
+        /// Stock level that triggers an order, segments.
+        reorder_point_segments: u32,
+        /// Segments per order.
+        batch_segments: u32,
+        /// Time from order to delivery, days.
+        lead_time_days: f64,
+    },
+}
+
+/// Order in which waiting repairs are served.
+#[derive(Clone, Copy, Debug, Serialize, Deserialize, PartialEq, Eq)]
+#[serde(rename_all = "snake_case")]
+pub enum DispatchSpec {
+    /// Most cut segments in the bay first, then lowest margin.
+    MostEndangered,
+    /// First come, first served.
+    FirstCome,
+}
+
+/// The repair section.
+#[derive(Clone, Debug, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RepairSpec {
+    /// Depots.
+    pub stations: Vec<StationSpec>,
+    /// Climber design.
+    pub climber: ClimberSpec,
+    /// Detection of cuts.
+    pub detection: DetectionSpec,
+    /// Resupply of spare segments.
+    #[serde(default = "default_resupply")]
+    pub resupply: ResupplySpec,
+    /// Dispatch policy.
+    #[serde(default = "default_dispatch")]
+    pub dispatch: DispatchSpec,
+}
+
+/// The run section.
+#[derive(Clone, Debug, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RunSpec {
+    /// Mission length, years (Julian, 365.25 d).
+    pub mission_years: f64,
+    /// Number of Monte Carlo histories.
+    pub histories: u64,
+    /// Master seed.
+    pub seed: u64,
+    /// Confidence level of reported intervals, dimensionless.
+    #[serde(default = "default_confidence")]
+    pub confidence: f64,
+}
+
+fn default_particle_density() -> f64 {
+    2.5
+}
+fn default_velocity() -> String {
+    "ecss_table_c1".to_string()
+}
+fn yes() -> bool {
+    true
+}
+fn one() -> f64 {
+    1.0
+}
+fn default_taper() -> TaperSpec {
+    TaperSpec::None
+}
+fn default_design_safety_factor() -> f64 {
+    2.0
+}
+fn default_arrangement() -> Arrangement {
+    Arrangement::Row
+}
+fn default_load_sharing() -> LoadSharingSpec {
+    LoadSharingSpec::Equal
+}
+fn default_resupply() -> ResupplySpec {
+    ResupplySpec::None
+}
+fn default_dispatch() -> DispatchSpec {
+    DispatchSpec::MostEndangered
+}
+fn default_confidence() -> f64 {
+    0.95
+}

@@ -1,0 +1,739 @@
+//! Range checks and conversion to SI. Every check names the field path, the value, the allowed
+//! range and the unit. The ranges are wide engineering envelopes: they catch typos and unit
+//! mistakes (mm for m, GPa for MPa), not design choices.
+
+use super::error::ScenarioError;
+use super::spec::*;
+use crate::orbit::Side;
+use crate::structure::load_sharing::{Arrangement, MAX_RIBBONS};
+
+/// Seconds in a Julian year (365.25 d), the year of the flux models.
+pub const SECONDS_PER_YEAR: f64 = 3.15576e7;
+
+/// Largest number of bays a scenario may have (memory of per-bay tables stays small).
+pub const MAX_BAYS: usize = 2_000_000;
+
+/// The environment section in SI units.
+#[derive(Clone, Debug)]
+pub struct EnvironmentSettings {
+    /// Flux model choice.
+    pub flux_model: FluxModelSpec,
+    /// Text of a tabulated flux model file, when one is used.
+    pub flux_table_json: Option<String>,
+    /// Meteoroid density, kg/m^3.
+    pub particle_density_kg_per_m3: f64,
+    /// Velocity distribution name.
+    pub velocity_distribution: String,
+    /// Moon focusing on.
+    pub moon_focusing: bool,
+    /// Earth focusing on.
+    pub earth_focusing: bool,
+    /// Moon shielding on.
+    pub moon_shielding: bool,
+    /// Flux multiplier.
+    pub flux_scale_factor: f64,
+}
+
+/// The tether section in SI units.
+#[derive(Clone, Debug)]
+pub struct TetherSettings {
+    /// Near (L1) or far (L2) side.
+    pub side: Side,
+    /// Top end altitude above the lunar surface, m.
+    pub top_altitude_m: f64,
+    /// Ribbon count.
+    pub ribbon_count: usize,
+    /// Ribbon width at the anchor, m.
+    pub anchor_width_m: f64,
+    /// Ribbon thickness, m.
+    pub thickness_m: f64,
+    /// Generic material name.
+    pub material_name: String,
+    /// Ultimate strength, Pa.
+    pub ultimate_strength_pa: f64,
+    /// Product of the strength knock-down factors.
+    pub knockdown: f64,
+    /// Allowable stress = ultimate strength x knock-downs, Pa.
+    pub allowable_stress_pa: f64,
+    /// Material density, kg/m^3.
+    pub material_density_kg_per_m3: f64,
+    /// Width schedule.
+    pub taper: TaperSpec,
+    /// Target intact margin of the taper.
+    pub design_safety_factor: f64,
+    /// Ribbon arrangement.
+    pub arrangement: Arrangement,
+    /// Load-sharing rule.
+    pub load_sharing: LoadSharingSpec,
+    /// Cross-link spacing, m.
+    pub cross_link_spacing_m: f64,
+    /// Cross-link mass, kg.
+    pub cross_link_mass_kg: f64,
+    /// Anchor preload, N.
+    pub anchor_preload_n: f64,
+    /// Traffic load envelope, N.
+    pub traffic_load_n: f64,
+}
+
+/// A station in SI units.
+#[derive(Clone, Debug)]
+pub struct StationSettings {
+    /// Name.
+    pub name: String,
+    /// Altitude, m.
+    pub altitude_m: f64,
+    /// Climbers based here.
+    pub climbers: u32,
+    /// Initial stock, segments.
+    pub initial_stock_segments: u32,
+}
+
+/// The repair section in SI units.
+#[derive(Clone, Debug)]
+pub struct RepairSettings {
+    /// Stations, in the order given.
+    pub stations: Vec<StationSettings>,
+    /// Climb speed, m/s.
+    pub speed_up_m_per_s: f64,
+    /// Descent speed, m/s.
+    pub speed_down_m_per_s: f64,
+    /// Payload, kg.
+    pub payload_kg: f64,
+    /// Turnaround, s.
+    pub turnaround_s: f64,
+    /// Splice duration, s.
+    pub splice_s: f64,
+    /// Detection model (hours as written; converted where used).
+    pub detection: DetectionSpec,
+    /// Resupply model.
+    pub resupply: ResupplySpec,
+    /// Dispatch policy.
+    pub dispatch: DispatchSpec,
+}
+
+/// The run section in SI units.
+#[derive(Clone, Debug)]
+pub struct RunSettings {
+    /// Mission length, s.
+    pub mission_s: f64,
+    /// Mission length, years.
+    pub mission_years: f64,
+    /// Histories.
+    pub histories: u64,
+    /// Master seed.
+    pub seed: u64,
+    /// Confidence level.
+    pub confidence: f64,
+}
+
+/// A validated scenario in SI units. Build one with [`Scenario::from_spec`].
+#[derive(Clone, Debug)]
+pub struct Scenario {
+    /// The spec as written (kept for reports and hashing).
+    pub spec: ScenarioSpec,
+    /// Stable hash of the spec and any table it reads.
+    pub hash: u64,
+    /// Environment.
+    pub environment: EnvironmentSettings,
+    /// Tether.
+    pub tether: TetherSettings,
+    /// Damage law, validated.
+    pub damage: DamageSpec,
+    /// Repair, if any.
+    pub repair: Option<RepairSettings>,
+    /// Run settings.
+    pub run: RunSettings,
+}
+
+/// Allowed interval of a number.
+struct Range {
+    lo: f64,
+    hi: f64,
+    lo_open: bool,
+}
+
+impl Range {
+    fn open_closed(lo: f64, hi: f64) -> Self {
+        Range {
+            lo,
+            hi,
+            lo_open: true,
+        }
+    }
+    fn closed(lo: f64, hi: f64) -> Self {
+        Range {
+            lo,
+            hi,
+            lo_open: false,
+        }
+    }
+    fn text(&self) -> String {
+        format!(
+            "{}{}, {}]",
+            if self.lo_open { "(" } else { "[" },
+            fmt_num(self.lo),
+            fmt_num(self.hi)
+        )
+    }
+    fn contains(&self, v: f64) -> bool {
+        v.is_finite()
+            && (if self.lo_open {
+                v > self.lo
+            } else {
+                v >= self.lo
+            })
+            && v <= self.hi
+    }
+}
+
+fn fmt_num(v: f64) -> String {
+    if v != 0.0 && (v.abs() >= 1e6 || v.abs() < 1e-3) {
+        format!("{v:e}")
+    } else {
+        format!("{v}")
+    }
+}
+
+fn check(
+    path: &str,
+    value: f64,
+    range: Range,
+    unit: &str,
+    note: &str,
+) -> Result<f64, ScenarioError> {
+    if range.contains(value) {
+        Ok(value)
+    } else {
+        Err(ScenarioError::OutOfRange {
+            path: path.to_string(),
+            value: fmt_num(value),
+            allowed: range.text(),
+            unit: unit.to_string(),
+            note: note.to_string(),
+        })
+    }
+}
+
+fn check_count(path: &str, value: u64, lo: u64, hi: u64, unit: &str) -> Result<u64, ScenarioError> {
+    if (lo..=hi).contains(&value) {
+        Ok(value)
+    } else {
+        Err(ScenarioError::OutOfRange {
+            path: path.to_string(),
+            value: value.to_string(),
+            allowed: format!("[{lo}, {hi}]"),
+            unit: unit.to_string(),
+            note: String::new(),
+        })
+    }
+}
+
+fn choice(path: &str, value: &str, allowed: &[&str]) -> Result<(), ScenarioError> {
+    if allowed.contains(&value) {
+        Ok(())
+    } else {
+        Err(ScenarioError::UnknownChoice {
+            path: path.to_string(),
+            value: value.to_string(),
+            suggestion: super::nearest(value, allowed.iter().copied()),
+            expected: allowed.iter().map(|s| s.to_string()).collect(),
+        })
+    }
+}
+
+/// Built-in flux model names.
+pub const BUILTIN_FLUX_MODELS: &[&str] = &["grun1985", "grun1985_tabulated"];
+
+impl Scenario {
+    /// Validate a spec. `flux_table_json` is the text of the table file when the spec names one.
+    pub fn from_spec(
+        spec: ScenarioSpec,
+        flux_table_json: Option<String>,
+    ) -> Result<Self, ScenarioError> {
+        let hash = super::scenario_hash(&spec, flux_table_json.as_deref());
+        let environment = validate_environment(&spec.environment, flux_table_json)?;
+        let tether = validate_tether(&spec.tether)?;
+        let damage = validate_damage(&spec.damage)?;
+        let repair = match &spec.repair {
+            Some(r) => Some(validate_repair(r, tether.top_altitude_m)?),
+            None => None,
+        };
+        let run = validate_run(&spec.run)?;
+        Ok(Scenario {
+            spec,
+            hash,
+            environment,
+            tether,
+            damage,
+            repair,
+            run,
+        })
+    }
+
+    /// The scenario hash as 16 hex digits.
+    pub fn hash_hex(&self) -> String {
+        format!("{:016x}", self.hash)
+    }
+}
+
+fn validate_environment(
+    e: &EnvironmentSpec,
+    flux_table_json: Option<String>,
+) -> Result<EnvironmentSettings, ScenarioError> {
+    if let FluxModelSpec::Builtin(name) = &e.flux_model {
+        choice("environment.flux_model", name, BUILTIN_FLUX_MODELS)?;
+    }
+    if matches!(e.flux_model, FluxModelSpec::Table { .. }) && flux_table_json.is_none() {
+        return Err(ScenarioError::Model {
+            path: "environment.flux_model.table_file".into(),
+            message: "a tabulated flux model needs its file; load the scenario from a file path"
+                .into(),
+        });
+    }
+    let rho = check(
+        "environment.particle_density_g_per_cm3",
+        e.particle_density_g_per_cm3,
+        Range::closed(0.1, 10.0),
+        "g/cm^3",
+        "ECSS-E-ST-10-04C J.2.1.2 quotes meteoroid densities of 0.15 to 8 g/cm^3",
+    )?;
+    choice(
+        "environment.velocity_distribution",
+        &e.velocity_distribution,
+        &["ecss_table_c1"],
+    )?;
+    let scale = check(
+        "environment.flux_scale_factor",
+        e.flux_scale_factor,
+        Range::closed(0.0, 100.0),
+        "(dimensionless)",
+        "ECSS gives a flux uncertainty factor of 0.33 to 3",
+    )?;
+    Ok(EnvironmentSettings {
+        flux_model: e.flux_model.clone(),
+        flux_table_json,
+        particle_density_kg_per_m3: rho * 1000.0,
+        velocity_distribution: e.velocity_distribution.clone(),
+        moon_focusing: e.moon_focusing,
+        earth_focusing: e.earth_focusing,
+        moon_shielding: e.moon_shielding,
+        flux_scale_factor: scale,
+    })
+}
+
+fn validate_tether(t: &TetherSpec) -> Result<TetherSettings, ScenarioError> {
+    let lat = check(
+        "tether.anchor_latitude_deg",
+        t.anchor_latitude_deg,
+        Range::closed(-90.0, 90.0),
+        "deg",
+        "",
+    )?;
+    if lat.abs() > 1e-6 {
+        return Err(ScenarioError::Infeasible {
+            reason: format!(
+                "tether.anchor_latitude_deg = {lat} deg: the tether hangs along the Earth–Moon line, so its anchor must be on the lunar equator (0 deg)"
+            ),
+        });
+    }
+    let lon = check(
+        "tether.anchor_longitude_deg",
+        t.anchor_longitude_deg,
+        Range::closed(-180.0, 360.0),
+        "deg",
+        "",
+    )?;
+    let wanted = match t.side {
+        Side::Near => 0.0,
+        Side::Far => 180.0,
+    };
+    let lon_norm = lon.rem_euclid(360.0);
+    if (lon_norm - wanted).abs() > 1e-6 && (lon_norm - wanted).abs() < 360.0 - 1e-6 {
+        return Err(ScenarioError::Infeasible {
+            reason: format!(
+                "tether.anchor_longitude_deg = {lon} deg: a {} tether balanced through {} must hang from the {} point, longitude {wanted} deg",
+                if t.side == Side::Near { "near-side" } else { "far-side" },
+                if t.side == Side::Near { "L1" } else { "L2" },
+                if t.side == Side::Near { "sub-Earth" } else { "anti-Earth" },
+            ),
+        });
+    }
+    let top_km = check(
+        "tether.top_altitude_km",
+        t.top_altitude_km,
+        Range::open_closed(0.0, 300_000.0),
+        "km",
+        "",
+    )?;
+    let n = check_count(
+        "tether.ribbon_count",
+        u64::from(t.ribbon_count),
+        1,
+        MAX_RIBBONS as u64,
+        "ribbons",
+    )?;
+    let w_mm = check(
+        "tether.ribbon_width_mm",
+        t.ribbon_width_mm,
+        Range::open_closed(0.0, 5_000.0),
+        "mm",
+        "",
+    )?;
+    let th_um = check(
+        "tether.ribbon_thickness_um",
+        t.ribbon_thickness_um,
+        Range::open_closed(0.0, 10_000.0),
+        "um",
+        "",
+    )?;
+    if th_um * 1e-3 > w_mm {
+        return Err(ScenarioError::Infeasible {
+            reason: format!(
+                "tether.ribbon_thickness_um = {th_um} um is more than the width tether.ribbon_width_mm = {w_mm} mm: a ribbon is thinner than it is wide"
+            ),
+        });
+    }
+    if t.material.name.trim().is_empty() {
+        return Err(ScenarioError::Model {
+            path: "tether.material.name".into(),
+            message: "give the material a generic name (for example PBO, para-aramid, UHMWPE, carbon fibre)".into(),
+        });
+    }
+    let sigma = check(
+        "tether.material.ultimate_strength_gpa",
+        t.material.ultimate_strength_gpa,
+        Range::open_closed(0.0, 200.0),
+        "GPa",
+        "",
+    )?;
+    let rho = check(
+        "tether.material.density_g_per_cm3",
+        t.material.density_g_per_cm3,
+        Range::closed(0.1, 25.0),
+        "g/cm^3",
+        "",
+    )?;
+    let mut knockdown = 1.0;
+    for (name, &f) in &t.material.strength_knockdowns {
+        knockdown *= check(
+            &format!("tether.material.strength_knockdowns.{name}"),
+            f,
+            Range::open_closed(0.0, 1.0),
+            "(dimensionless)",
+            "a knock-down factor multiplies the ultimate strength",
+        )?;
+    }
+    let sf = check(
+        "tether.design_safety_factor",
+        t.design_safety_factor,
+        Range::closed(1.0, 100.0),
+        "(dimensionless)",
+        "",
+    )?;
+    let spacing_km = check(
+        "tether.cross_link_spacing_km",
+        t.cross_link_spacing_km,
+        Range::open_closed(0.0, 300_000.0),
+        "km",
+        "",
+    )?;
+    if spacing_km > top_km {
+        return Err(ScenarioError::Infeasible {
+            reason: format!(
+                "tether.cross_link_spacing_km = {spacing_km} km is longer than the tether ({top_km} km from anchor to top): there must be at least one bay"
+            ),
+        });
+    }
+    let bays = (top_km / spacing_km).ceil();
+    if bays > MAX_BAYS as f64 {
+        return Err(ScenarioError::OutOfRange {
+            path: "tether.cross_link_spacing_km".into(),
+            value: fmt_num(spacing_km),
+            allowed: format!(
+                "[{}, {}]",
+                fmt_num(top_km / MAX_BAYS as f64),
+                fmt_num(top_km)
+            ),
+            unit: "km".into(),
+            note: format!("at most {MAX_BAYS} bays"),
+        });
+    }
+    let cl_mass = check(
+        "tether.cross_link_mass_kg",
+        t.cross_link_mass_kg,
+        Range::closed(0.0, 1e4),
+        "kg",
+        "",
+    )?;
+    let preload = check(
+        "tether.anchor_preload_n",
+        t.anchor_preload_n,
+        Range::closed(0.0, 1e9),
+        "N",
+        "",
+    )?;
+    let traffic = check(
+        "tether.traffic_load_n",
+        t.traffic_load_n,
+        Range::closed(0.0, 1e9),
+        "N",
+        "",
+    )?;
+    Ok(TetherSettings {
+        side: t.side,
+        top_altitude_m: top_km * 1e3,
+        ribbon_count: n as usize,
+        anchor_width_m: w_mm * 1e-3,
+        thickness_m: th_um * 1e-6,
+        material_name: t.material.name.clone(),
+        ultimate_strength_pa: sigma * 1e9,
+        knockdown,
+        allowable_stress_pa: sigma * 1e9 * knockdown,
+        material_density_kg_per_m3: rho * 1e3,
+        taper: t.taper,
+        design_safety_factor: sf,
+        arrangement: t.arrangement,
+        load_sharing: t.load_sharing,
+        cross_link_spacing_m: spacing_km * 1e3,
+        cross_link_mass_kg: cl_mass,
+        anchor_preload_n: preload,
+        traffic_load_n: traffic,
+    })
+}
+
+fn validate_damage(d: &DamageSpec) -> Result<DamageSpec, ScenarioError> {
+    match d {
+        DamageSpec::ThinFilmHole { hole_factor } => {
+            check(
+                "damage.hole_factor",
+                *hole_factor,
+                Range::closed(1.0, 3.0),
+                "(dimensionless)",
+                "hole width over particle diameter; thin-film experiments suggest 1.0 to 1.7",
+            )?;
+        }
+        DamageSpec::FractionOfWidth { fraction } => {
+            check(
+                "damage.fraction",
+                *fraction,
+                Range::open_closed(0.0, 1.0),
+                "(fraction of ribbon width)",
+                "classically 1/3",
+            )?;
+        }
+    }
+    Ok(d.clone())
+}
+
+fn validate_repair(r: &RepairSpec, top_altitude_m: f64) -> Result<RepairSettings, ScenarioError> {
+    if r.stations.is_empty() {
+        return Err(ScenarioError::Model {
+            path: "repair.stations".into(),
+            message: "at least one station is needed when repair is given (use \"repair\": null for no repair)".into(),
+        });
+    }
+    let mut stations = Vec::with_capacity(r.stations.len());
+    let mut total_climbers = 0u64;
+    for (i, s) in r.stations.iter().enumerate() {
+        let p = format!("repair.stations[{i}]");
+        let top_km = top_altitude_m / 1e3;
+        let alt = check(
+            &format!("{p}.altitude_km"),
+            s.altitude_km,
+            Range::closed(0.0, 1e6),
+            "km",
+            "",
+        )?;
+        if alt > top_km {
+            return Err(ScenarioError::Infeasible {
+                reason: format!(
+                    "{p}.altitude_km = {alt} km: station `{}` is off the tether, which runs from 0 km to {top_km} km",
+                    s.name
+                ),
+            });
+        }
+        check_count(
+            &format!("{p}.climbers"),
+            u64::from(s.climbers),
+            0,
+            10_000,
+            "climbers",
+        )?;
+        check_count(
+            &format!("{p}.initial_stock_segments"),
+            u64::from(s.initial_stock_segments),
+            0,
+            1_000_000,
+            "segments",
+        )?;
+        total_climbers += u64::from(s.climbers);
+        stations.push(StationSettings {
+            name: s.name.clone(),
+            altitude_m: alt * 1e3,
+            climbers: s.climbers,
+            initial_stock_segments: s.initial_stock_segments,
+        });
+    }
+    if total_climbers == 0 {
+        return Err(ScenarioError::Model {
+            path: "repair.stations".into(),
+            message: "no station has a climber, so no repair can ever happen (use \"repair\": null for no repair)".into(),
+        });
+    }
+    let c = &r.climber;
+    let up = check(
+        "repair.climber.speed_up_m_per_s",
+        c.speed_up_m_per_s,
+        Range::open_closed(0.0, 1e4),
+        "m/s",
+        "",
+    )?;
+    let down = check(
+        "repair.climber.speed_down_m_per_s",
+        c.speed_down_m_per_s,
+        Range::open_closed(0.0, 1e4),
+        "m/s",
+        "",
+    )?;
+    let payload = check(
+        "repair.climber.payload_kg",
+        c.payload_kg,
+        Range::open_closed(0.0, 1e7),
+        "kg",
+        "",
+    )?;
+    let turnaround = check(
+        "repair.climber.turnaround_hours",
+        c.turnaround_hours,
+        Range::closed(0.0, 1e5),
+        "h",
+        "",
+    )?;
+    let splice = check(
+        "repair.climber.splice_hours",
+        c.splice_hours,
+        Range::closed(0.0, 1e5),
+        "h",
+        "",
+    )?;
+    match &r.detection {
+        DetectionSpec::Fixed { delay_hours } => {
+            check(
+                "repair.detection.delay_hours",
+                *delay_hours,
+                Range::closed(0.0, 1e6),
+                "h",
+                "",
+            )?;
+        }
+        DetectionSpec::Exponential { mean_hours } => {
+            check(
+                "repair.detection.mean_hours",
+                *mean_hours,
+                Range::open_closed(0.0, 1e6),
+                "h",
+                "",
+            )?;
+        }
+        DetectionSpec::PeriodicInspection { interval_hours } => {
+            check(
+                "repair.detection.interval_hours",
+                *interval_hours,
+                Range::open_closed(0.0, 1e6),
+                "h",
+                "",
+            )?;
+        }
+    }
+    match &r.resupply {
+        ResupplySpec::None => {}
+        ResupplySpec::Periodic {
+            interval_days,
+            batch_segments,
+        } => {
+            check(
+                "repair.resupply.interval_days",
+                *interval_days,
+                Range::open_closed(0.0, 1e5),
+                "d",
+                "",
+            )?;
+            check_count(
+                "repair.resupply.batch_segments",
+                u64::from(*batch_segments),
+                1,
+                1_000_000,
+                "segments",
+            )?;
+        }
+        ResupplySpec::ReorderPoint {
+            reorder_point_segments,
+            batch_segments,
+            lead_time_days,
+        } => {
+            check_count(
+                "repair.resupply.reorder_point_segments",
+                u64::from(*reorder_point_segments),
+                0,
+                1_000_000,
+                "segments",
+            )?;
+            check_count(
+                "repair.resupply.batch_segments",
+                u64::from(*batch_segments),
+                1,
+                1_000_000,
+                "segments",
+            )?;
+            check(
+                "repair.resupply.lead_time_days",
+                *lead_time_days,
+                Range::closed(0.0, 1e5),
+                "d",
+                "",
+            )?;
+        }
+    }
+    Ok(RepairSettings {
+        stations,
+        speed_up_m_per_s: up,
+        speed_down_m_per_s: down,
+        payload_kg: payload,
+        turnaround_s: turnaround * 3600.0,
+        splice_s: splice * 3600.0,
+        detection: r.detection.clone(),
+        resupply: r.resupply.clone(),
+        dispatch: r.dispatch,
+    })
+}
+
+fn validate_run(r: &RunSpec) -> Result<RunSettings, ScenarioError> {
+    let years = check(
+        "run.mission_years",
+        r.mission_years,
+        Range::closed(0.0, 1000.0),
+        "years",
+        "",
+    )?;
+    let histories = check_count(
+        "run.histories",
+        r.histories,
+        1,
+        1_000_000_000_000,
+        "histories",
+    )?;
+    let confidence = check(
+        "run.confidence",
+        r.confidence,
+        Range::closed(0.5, 0.999999),
+        "(fraction)",
+        "",
+    )?;
+    Ok(RunSettings {
+        mission_s: years * SECONDS_PER_YEAR,
+        mission_years: years,
+        histories,
+        seed: r.seed,
+        confidence,
+    })
+}

@@ -1,0 +1,6 @@
+//! Integration tests: they run the real `tether-risk` binary in a temporary folder.
+
+mod util;
+
+mod bad_input;
+mod commands;
