@@ -33,6 +33,30 @@ pub struct ScenarioSpec {
     pub repair: Option<RepairSpec>,
     /// Run settings.
     pub run: RunSpec,
+    /// Validation mode (for checking the engine against closed forms, not for design):
+    /// replaces strikes by a constant cut rate per segment and repair logistics by exponential
+    /// repair with a fixed number of crews per bay and no travel.
+    #[serde(default)]
+    pub validation_mode: Option<ValidationModeSpec>,
+}
+
+/// Validation mode: each bay of N ribbons becomes a repairable k-out-of-N system.
+#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+#[serde(deny_unknown_fields)]
+pub struct ValidationModeSpec {
+    /// Cut rate of each intact segment, per day.
+    pub cut_rate_per_segment_per_day: f64,
+    /// Repair rate of one crew, per day (0: no repair).
+    pub repair_rate_per_crew_per_day: f64,
+    /// Crews per bay working in parallel on that bay's cut segments.
+    pub crews_per_bay: u32,
+    /// Intact ribbons a bay needs to carry its load (k of k-out-of-N); fewer is a system loss.
+    #[serde(default = "one_ribbon")]
+    pub required_ribbons: u32,
+}
+
+fn one_ribbon() -> u32 {
+    1
 }
 
 /// Which cumulative flux model to use.

@@ -143,6 +143,21 @@ pub struct Scenario {
     pub repair: Option<RepairSettings>,
     /// Run settings.
     pub run: RunSettings,
+    /// Validation mode in SI units, when set.
+    pub validation_mode: Option<ValidationSettings>,
+}
+
+/// Validation mode in SI units.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct ValidationSettings {
+    /// Cut rate per intact segment, 1/s.
+    pub cut_rate_per_s: f64,
+    /// Repair rate per crew, 1/s.
+    pub repair_rate_per_s: f64,
+    /// Crews per bay.
+    pub crews_per_bay: u32,
+    /// Intact ribbons a bay needs.
+    pub required_ribbons: u32,
 }
 
 /// Allowed interval of a number.
@@ -259,6 +274,10 @@ impl Scenario {
             None => None,
         };
         let run = validate_run(&spec.run)?;
+        let validation_mode = match &spec.validation_mode {
+            Some(v) => Some(validate_validation_mode(v, tether.ribbon_count)?),
+            None => None,
+        };
         Ok(Scenario {
             spec,
             hash,
@@ -267,6 +286,7 @@ impl Scenario {
             damage,
             repair,
             run,
+            validation_mode,
         })
     }
 
@@ -704,6 +724,38 @@ fn validate_repair(r: &RepairSpec, top_altitude_m: f64) -> Result<RepairSettings
         detection: r.detection.clone(),
         resupply: r.resupply.clone(),
         dispatch: r.dispatch,
+    })
+}
+
+fn validate_validation_mode(v: &ValidationModeSpec, ribbons: usize) -> Result<ValidationSettings, ScenarioError> {
+    let day = 86_400.0;
+    let cut = check(
+        "validation_mode.cut_rate_per_segment_per_day",
+        v.cut_rate_per_segment_per_day,
+        Range::closed(0.0, 1e6),
+        "per day",
+        "",
+    )?;
+    let rep = check(
+        "validation_mode.repair_rate_per_crew_per_day",
+        v.repair_rate_per_crew_per_day,
+        Range::closed(0.0, 1e6),
+        "per day",
+        "",
+    )?;
+    check_count("validation_mode.crews_per_bay", u64::from(v.crews_per_bay), 0, 64, "crews")?;
+    check_count(
+        "validation_mode.required_ribbons",
+        u64::from(v.required_ribbons),
+        1,
+        ribbons as u64,
+        "ribbons (at most tether.ribbon_count)",
+    )?;
+    Ok(ValidationSettings {
+        cut_rate_per_s: cut / day,
+        repair_rate_per_s: rep / day,
+        crews_per_bay: v.crews_per_bay,
+        required_ribbons: v.required_ribbons,
     })
 }
 
