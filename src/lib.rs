@@ -22,6 +22,7 @@ pub mod engine;
 pub mod environment;
 pub mod model;
 pub mod orbit;
+pub mod repair;
 pub mod report;
 pub mod scenario;
 pub mod stats;

@@ -37,6 +37,9 @@ pub struct Args {
     /// sub-critical holes (slower; does not change loss estimates).
     #[arg(long, default_value_t = 1.0)]
     pub floor_fraction: f64,
+    /// Largest acceptable stock-out probability per station, for the recommended initial stock.
+    #[arg(long, default_value_t = 0.05)]
+    pub stockout_target: f64,
     /// Output format on stdout.
     #[arg(long, value_enum, default_value_t)]
     pub format: Format,
@@ -56,6 +59,13 @@ pub fn simulate_model(
         .into());
     }
     let seed = a.seed.unwrap_or(model.scenario.run.seed);
+    if !(a.stockout_target > 0.0 && a.stockout_target < 1.0) {
+        return Err(InputError(format!(
+            "--stockout-target = {} is out of range: allowed (0, 1) (probability)",
+            a.stockout_target
+        ))
+        .into());
+    }
     let engine = Engine::new(model, a.floor_fraction).map_err(|e| InputError(e.to_string()))?;
     let opts = RunOptions {
         histories,
@@ -72,7 +82,7 @@ pub fn simulate_model(
     let start = Instant::now();
     let tally = engine.run(&opts, &|done| bar.set_position(done))?;
     bar.finish_and_clear();
-    let summary = RunSummary::from_tally(&engine, tally, histories, seed, None);
+    let summary = RunSummary::from_tally(&engine, tally, histories, seed, None, a.stockout_target);
     let manifest = Manifest {
         tool: "tether-risk".into(),
         version: tether_risk::VERSION.into(),

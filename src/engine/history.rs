@@ -1,18 +1,23 @@
 //! One history: the loop reads in one screen.
 //!
-//! next strike -> (repair events due before it) -> apply strike: hole, worst cross-section,
-//! load check and cascade -> record cuts -> loss ends the history.
+//! next strike -> repair events due before it (detections, departures, arrivals, splices,
+//! returns, resupplies) -> apply strike: hole, worst cross-section, load check and cascade ->
+//! record cuts, schedule their detection -> a loss ends the history.
 //!
 //! A segment's state is its largest hole (the worst cross-section; see the sampler's notes on why
 //! holes along a bay do not add) and whether it is cut. Only bays touched in this history hold
 //! state, in a reusable arena: nothing is allocated per strike or per history once the arena
 //! has grown to the largest number of bays touched in a history.
-
-use rand::Rng;
+//!
+//! Strike gaps are exponential, so drawing the next strike time before handling the repair
+//! events that come earlier is exact (memorylessness), and the strike stream's draws do not
+//! depend on repair: two scenarios differing only in repair see the same strikes.
 
 use crate::damage::{removed_width_m, Impact, RibbonTarget};
+use crate::repair::{EventKind, Fleet, RepairPlan, RepairTally};
 use crate::structure::load_sharing::{settle_bay, MAX_RIBBONS};
 
+use super::rng::{stream, Purpose};
 use super::sampler::Strike;
 use super::tally::{Loss, LossCause, Tally};
 use super::Engine;
@@ -27,25 +32,33 @@ pub struct Scratch {
     worst_hole_m: Vec<f64>,
     intact: Vec<bool>,
     cuts_in_bay: Vec<u32>,
+    /// Times of the bay's current cuts, oldest first (stride N).
+    cut_times: Vec<f64>,
     bays_with_cuts: u32,
     cut_since_s: f64,
+    cut_time_acc_s: f64,
     max_cuts: u32,
+    fleet: Option<Fleet>,
+    /// Validation mode: damaged bays and their cut counts.
+    pub(crate) validation_bays: Vec<(u32, u64)>,
 }
 
 impl Scratch {
-    /// Scratch for a tether of `bays` bays and `ribbons` ribbons.
-    pub fn new(bays: usize, ribbons: usize) -> Self {
+    /// Scratch for a tether of `bays` bays and `ribbons` ribbons, with repair state if needed.
+    pub fn new(bays: usize, ribbons: usize, plan: Option<(&RepairPlan, f64)>) -> Self {
         Scratch {
             slot_of_bay: vec![UNTOUCHED; bays],
             touched: Vec::with_capacity(64),
             worst_hole_m: Vec::with_capacity(64 * ribbons),
             intact: Vec::with_capacity(64 * ribbons),
             cuts_in_bay: Vec::with_capacity(64),
+            cut_times: Vec::with_capacity(64 * ribbons),
+            fleet: plan.map(|(p, mission)| Fleet::new(p, mission)),
             ..Default::default()
         }
     }
 
-    fn reset(&mut self) {
+    pub(crate) fn reset(&mut self) {
         for &b in &self.touched {
             self.slot_of_bay[b as usize] = UNTOUCHED;
         }
@@ -53,12 +66,14 @@ impl Scratch {
         self.worst_hole_m.clear();
         self.intact.clear();
         self.cuts_in_bay.clear();
+        self.cut_times.clear();
         self.bays_with_cuts = 0;
         self.cut_since_s = 0.0;
+        self.cut_time_acc_s = 0.0;
         self.max_cuts = 0;
     }
 
-    fn slot(&mut self, bay: u32, ribbons: usize) -> usize {
+    pub(crate) fn slot(&mut self, bay: u32, ribbons: usize) -> usize {
         let s = self.slot_of_bay[bay as usize];
         if s != UNTOUCHED {
             return s as usize;
@@ -68,8 +83,39 @@ impl Scratch {
         self.slot_of_bay[bay as usize] = s as u32;
         self.worst_hole_m.extend(std::iter::repeat_n(0.0, ribbons));
         self.intact.extend(std::iter::repeat_n(true, ribbons));
+        self.cut_times.extend(std::iter::repeat_n(0.0, ribbons));
         self.cuts_in_bay.push(0);
         s
+    }
+
+    pub(crate) fn note_max_cuts(&mut self, cuts: u32) {
+        self.max_cuts = self.max_cuts.max(cuts);
+    }
+
+    fn cuts_in(&self, bay: u32) -> u32 {
+        match self.slot_of_bay[bay as usize] {
+            UNTOUCHED => 0,
+            s => self.cuts_in_bay[s as usize],
+        }
+    }
+
+    /// Record `newly` new cuts in the bay of `slot` at `t`.
+    fn add_cuts(&mut self, slot: usize, ribbons: usize, newly: u32, t: f64) {
+        let before = self.cuts_in_bay[slot];
+        for k in 0..newly {
+            let i = (before + k) as usize;
+            if i < ribbons {
+                self.cut_times[slot * ribbons + i] = t;
+            }
+        }
+        self.cuts_in_bay[slot] = before + newly;
+        self.max_cuts = self.max_cuts.max(self.cuts_in_bay[slot]);
+        if before == 0 {
+            if self.bays_with_cuts == 0 {
+                self.cut_since_s = t;
+            }
+            self.bays_with_cuts += 1;
+        }
     }
 }
 
@@ -87,7 +133,7 @@ pub struct HistoryOutcome {
 /// Event-log entry for replaying a history.
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub enum LogEvent {
-    /// A strike and the hole it made (m, 0 for none).
+    /// A strike and the width it removed (m, 0 for none).
     Strike {
         /// Time, s.
         time_s: f64,
@@ -107,43 +153,107 @@ pub enum LogEvent {
         /// Survivors left in the bay.
         survivors: u32,
     },
+    /// A repair event.
+    Repair {
+        /// Time, s.
+        time_s: f64,
+        /// What happened.
+        kind: EventKind,
+    },
     /// System loss.
     Loss(Loss),
 }
 
 impl Engine<'_> {
-    /// Run history `index` with the strike stream `rng`, adding its scores to `tally`.
-    /// `log`, when given, receives every event (for `--replay-history`).
-    pub fn run_history<R: Rng + ?Sized>(
+    /// Run history `index`, adding its scores to `tally`. `log`, when given, receives every
+    /// event (for `--replay-history`).
+    pub fn run_history(
         &self,
-        rng: &mut R,
+        index: u64,
+        seed: u64,
         scratch: &mut Scratch,
         tally: &mut Tally,
         mut log: Option<&mut Vec<LogEvent>>,
     ) -> HistoryOutcome {
+        if let Some(v) = self.model.scenario.validation_mode {
+            return self.run_validation_history(index, seed, &v, scratch, tally, log);
+        }
+        let mut rng = stream(seed, Purpose::Strikes, index);
+        let mut repair_rng = stream(seed, Purpose::Repair, index);
         scratch.reset();
+        let mut fleet = scratch.fleet.take();
+        if let (Some(f), Some(plan)) = (fleet.as_mut(), self.repair.as_ref()) {
+            f.reset(plan);
+        }
         let mission = self.mission_s;
         let mut out = HistoryOutcome::default();
         let mut t = 0.0;
-        loop {
-            let t_next = t + self.sampler.next_gap_s(rng);
+        'history: loop {
+            let t_next = t + self.sampler.next_gap_s(&mut rng);
+            if let (Some(f), Some(plan)) = (fleet.as_mut(), self.repair.as_ref()) {
+                let horizon = t_next.min(mission);
+                while f.queue.next_time().is_some_and(|te| te <= horizon) {
+                    let Some(ev) = f.queue.pop() else { break };
+                    if let Some(l) = log.as_deref_mut() {
+                        l.push(LogEvent::Repair {
+                            time_s: ev.time_s,
+                            kind: ev.kind,
+                        });
+                    }
+                    self.handle_repair_event(ev.time_s, ev.kind, plan, f, scratch, tally);
+                }
+            }
             if t_next > mission {
                 break;
             }
             t = t_next;
-            let strike = self.sampler.sample(rng);
+            let strike = self.sampler.sample(&mut rng);
             out.strikes += 1;
-            if let Some(loss) =
-                self.apply_strike(t, &strike, scratch, tally, &mut out, log.as_deref_mut())
-            {
+            let (newly, loss) =
+                self.apply_strike(t, &strike, scratch, tally, &mut out, log.as_deref_mut());
+            if newly > 0 {
+                if let (Some(f), Some(plan)) = (fleet.as_mut(), self.repair.as_ref()) {
+                    let cuts = scratch.cuts_in(strike.bay);
+                    for _ in 0..newly {
+                        f.on_cut(plan, &mut repair_rng, strike.bay, cuts, t);
+                    }
+                }
+            }
+            if let Some(mut loss) = loss {
+                if fleet
+                    .as_ref()
+                    .is_some_and(|f| f.bay_waits_for_stock(loss.bay))
+                {
+                    loss.cause = LossCause::StockoutDelay;
+                }
                 out.loss = Some(loss);
-                break;
+                break 'history;
             }
         }
         let end = out.loss.map_or(mission, |l| l.time_s);
-        if scratch.bays_with_cuts > 0 {
-            tally.time_with_cut_bay_s += (end - scratch.cut_since_s).max(0.0).round() as u64;
+        if let (Some(f), Some(plan)) = (fleet.as_mut(), self.repair.as_ref()) {
+            f.finish(plan, end, &mut tally.repair);
         }
+        scratch.fleet = fleet;
+        self.close_history(end, scratch, tally, &out, log);
+        out
+    }
+
+    /// Scores common to every history kind.
+    pub(crate) fn close_history(
+        &self,
+        end: f64,
+        scratch: &mut Scratch,
+        tally: &mut Tally,
+        out: &HistoryOutcome,
+        log: Option<&mut Vec<LogEvent>>,
+    ) {
+        let mut cut_time = scratch.cut_time_acc_s;
+        if scratch.bays_with_cuts > 0 {
+            cut_time += (end - scratch.cut_since_s).max(0.0);
+        }
+        tally.time_with_cut_bay_s += cut_time.round() as u64;
+        tally.time_observed_s += end.max(0.0).round() as u64;
         tally.histories += 1;
         tally.strikes += out.strikes;
         tally.cuts += u64::from(out.cuts);
@@ -164,15 +274,95 @@ impl Engine<'_> {
                 l.push(LogEvent::Loss(loss));
             }
         }
-        out
     }
 
-    fn year_of(&self, time_s: f64) -> usize {
+    pub(crate) fn year_of(&self, time_s: f64) -> usize {
         let y = (time_s / crate::scenario::SECONDS_PER_YEAR) as usize;
         y.min(self.years.saturating_sub(1))
     }
 
-    /// Apply one strike at time `t`; returns the loss if the bay lost its last load path.
+    fn handle_repair_event(
+        &self,
+        t: f64,
+        kind: EventKind,
+        plan: &RepairPlan,
+        fleet: &mut Fleet,
+        scratch: &mut Scratch,
+        tally: &mut Tally,
+    ) {
+        let policy = self.policy.as_ref();
+        let rt = &mut tally.repair;
+        match kind {
+            EventKind::Detect { bay } => {
+                fleet.on_detect(bay, scratch.cuts_in(bay), t, rt);
+                fleet.dispatch(plan, policy, t, rt);
+            }
+            EventKind::Arrive {
+                station,
+                bay,
+                segments,
+            } => fleet.on_arrive(plan, station, bay, segments, t),
+            EventKind::SpliceDone {
+                station,
+                bay,
+                segments,
+            } => {
+                self.splice(t, bay, segments, scratch, rt);
+                fleet.on_splice_done(plan, station, bay, t);
+            }
+            EventKind::Return { station } => {
+                fleet.on_return(station, t);
+                fleet.dispatch(plan, policy, t, rt);
+            }
+            EventKind::Resupply { station } => {
+                fleet.on_resupply(plan, station, t);
+                fleet.dispatch(plan, policy, t, rt);
+            }
+        }
+    }
+
+    /// Replace up to `segments` cut segments of `bay` with new ribbon.
+    fn splice(&self, t: f64, bay: u32, segments: u32, scratch: &mut Scratch, rt: &mut RepairTally) {
+        let n = self.ribbons;
+        let slot = scratch.slot(bay, n);
+        let base = slot * n;
+        let mut left = segments.min(scratch.cuts_in_bay[slot]);
+        let done = left;
+        for i in 0..n {
+            if left == 0 {
+                break;
+            }
+            if !scratch.intact[base + i] {
+                scratch.intact[base + i] = true;
+                scratch.worst_hole_m[base + i] = 0.0;
+                left -= 1;
+            }
+        }
+        // Times of the oldest cuts, paired first in first out.
+        let cuts = scratch.cuts_in_bay[slot] as usize;
+        for k in 0..done as usize {
+            let dt_h = (t - scratch.cut_times[base + k]) / 3600.0;
+            rt.time_to_splice_hist[RepairTally::splice_bin(dt_h)] += 1;
+            rt.time_to_splice_sum_s += (dt_h * 3600.0).round() as u64;
+        }
+        scratch
+            .cut_times
+            .copy_within(base + done as usize..base + cuts.min(n), base);
+        scratch.cuts_in_bay[slot] -= done;
+        rt.splices += u64::from(done);
+        if let Some(c) = rt.splices_by_year.get_mut(self.year_of(t)) {
+            *c += u64::from(done);
+        }
+        if done > 0 && scratch.cuts_in_bay[slot] == 0 {
+            scratch.bays_with_cuts -= 1;
+            if scratch.bays_with_cuts == 0 {
+                scratch.cut_time_acc_s += t - scratch.cut_since_s;
+            }
+        }
+    }
+
+    /// Apply one strike at time `t`; returns the number of new cuts and the loss if the bay
+    /// lost its last load path.
     fn apply_strike(
         &self,
         t: f64,
@@ -181,7 +371,7 @@ impl Engine<'_> {
         tally: &mut Tally,
         out: &mut HistoryOutcome,
         log: Option<&mut Vec<LogEvent>>,
-    ) -> Option<Loss> {
+    ) -> (u32, Option<Loss>) {
         let n = self.ribbons;
         let j = s.bay as usize;
         let slot = scratch.slot(s.bay, n);
@@ -215,7 +405,7 @@ impl Engine<'_> {
             });
         }
         if removed <= scratch.worst_hole_m[base + r] {
-            return None;
+            return (0, None);
         }
         scratch.worst_hole_m[base + r] = removed;
         let mut capacity = [0.0f64; MAX_RIBBONS];
@@ -233,11 +423,11 @@ impl Engine<'_> {
             &capacity[..n],
             bay.max_tension_n,
         ) else {
-            return None;
+            return (0, None);
         };
         if outcome.newly_cut == 0 {
             tally.subcritical_holes += 1;
-            return None;
+            return (0, None);
         }
         let struck_cut = !intact[r];
         let newly = outcome.newly_cut;
@@ -249,15 +439,7 @@ impl Engine<'_> {
         if let Some(c) = tally.cuts_by_year.get_mut(y) {
             *c += u64::from(newly);
         }
-        let before = scratch.cuts_in_bay[slot];
-        scratch.cuts_in_bay[slot] += newly;
-        scratch.max_cuts = scratch.max_cuts.max(scratch.cuts_in_bay[slot]);
-        if before == 0 {
-            if scratch.bays_with_cuts == 0 {
-                scratch.cut_since_s = t;
-            }
-            scratch.bays_with_cuts += 1;
-        }
+        scratch.add_cuts(slot, n, newly, t);
         if let Some(l) = log {
             l.push(LogEvent::Cut {
                 time_s: t,
@@ -267,16 +449,20 @@ impl Engine<'_> {
             });
         }
         if outcome.survivors == 0 {
-            return Some(Loss {
-                time_s: t,
-                bay: s.bay,
-                cause: if newly > 1 {
-                    LossCause::Cascade
-                } else {
-                    LossCause::DirectCut
-                },
-            });
+            let cause = if newly > 1 {
+                LossCause::Cascade
+            } else {
+                LossCause::DirectCut
+            };
+            return (
+                newly,
+                Some(Loss {
+                    time_s: t,
+                    bay: s.bay,
+                    cause,
+                }),
+            );
         }
-        None
+        (newly, None)
     }
 }

@@ -14,17 +14,23 @@ mod rng;
 mod sampler;
 mod summary;
 mod tally;
+mod validation;
 
 pub use history::{HistoryOutcome, LogEvent, Scratch};
 pub use rng::{splitmix64, stream, Purpose};
 pub use sampler::{open01, unit, Strike, StrikeSampler};
-pub use summary::{Interval, RunSummary, SurvivalPoint};
+pub use summary::{
+    BandRow, CauseCounts, CountQuantiles, DurationStats, Interval, LittleLaw, RepairSummary,
+    RunSummary, SpareSummary, StationDemand, StationProbability, StationStock, SurvivalPoint,
+};
 pub use tally::{Loss, LossCause, Tally};
 
 use rayon::prelude::*;
 use thiserror::Error;
 
 use crate::model::Model;
+use crate::repair::{DispatchPolicy, FirstCome, MostEndangered, RepairPlan};
+use crate::scenario::DispatchSpec;
 use crate::scenario::{LoadSharingSpec, SECONDS_PER_YEAR};
 use crate::structure::load_sharing::{EqualSharing, LoadSharing, LocalSharing, NoRedistribution};
 
@@ -69,6 +75,8 @@ pub struct Engine<'m> {
     model: &'m Model,
     sampler: StrikeSampler,
     sharing: Box<dyn LoadSharing>,
+    repair: Option<RepairPlan>,
+    policy: Box<dyn DispatchPolicy>,
     mission_s: f64,
     years: usize,
     bay_band: Vec<u16>,
@@ -106,10 +114,25 @@ impl<'m> Engine<'m> {
                     .min(ALTITUDE_BANDS - 1) as u16
             })
             .collect();
+        let repair = if model.scenario.validation_mode.is_some() {
+            None
+        } else {
+            model
+                .scenario
+                .repair
+                .as_ref()
+                .map(|r| RepairPlan::new(r, &model.profile, model.scenario.run.mission_s))
+        };
+        let policy: Box<dyn DispatchPolicy> = match repair.as_ref().map(|r| r.dispatch) {
+            Some(DispatchSpec::FirstCome) => Box::new(FirstCome),
+            _ => Box::new(MostEndangered),
+        };
         Ok(Engine {
             model,
             sampler,
             sharing,
+            repair,
+            policy,
             mission_s: model.scenario.run.mission_s,
             years: model.scenario.run.mission_years.ceil() as usize,
             bay_band,
@@ -138,7 +161,12 @@ impl<'m> Engine<'m> {
 
     /// An empty tally shaped for this engine.
     pub fn empty_tally(&self) -> Tally {
-        Tally::new(self.years, ALTITUDE_BANDS, self.ribbons)
+        Tally::new(
+            self.years,
+            ALTITUDE_BANDS,
+            self.ribbons,
+            self.repair.as_ref().map_or(0, |r| r.stations.len()),
+        )
     }
 
     /// Run one batch: histories `[b * BATCH_SIZE, min((b + 1) * BATCH_SIZE, histories))`.
@@ -147,19 +175,17 @@ impl<'m> Engine<'m> {
         let lo = b * BATCH_SIZE;
         let hi = histories.min(lo.saturating_add(BATCH_SIZE));
         for h in lo..hi {
-            let mut rng = stream(seed, Purpose::Strikes, h);
-            self.run_history(&mut rng, scratch, &mut tally, None);
+            self.run_history(h, seed, scratch, &mut tally, None);
         }
         tally
     }
 
     /// Replay one history with its event log.
     pub fn replay(&self, history: u64, seed: u64) -> (HistoryOutcome, Vec<LogEvent>) {
-        let mut scratch = Scratch::new(self.model.profile.bays.len(), self.ribbons);
+        let mut scratch = self.new_scratch();
         let mut tally = self.empty_tally();
         let mut log = Vec::new();
-        let mut rng = stream(seed, Purpose::Strikes, history);
-        let out = self.run_history(&mut rng, &mut scratch, &mut tally, Some(&mut log));
+        let out = self.run_history(history, seed, &mut scratch, &mut tally, Some(&mut log));
         (out, log)
     }
 
@@ -179,7 +205,6 @@ impl<'m> Engine<'m> {
             Some((i, n)) => (0..batches).filter(|b| b % n == i).collect(),
             None => (0..batches).collect(),
         };
-        let bays = self.model.profile.bays.len();
         let mut total = self.empty_tally();
         let mut done = 0u64;
         for chunk in mine.chunks(BATCHES_PER_CHUNK as usize) {
@@ -187,7 +212,7 @@ impl<'m> Engine<'m> {
                 chunk
                     .par_iter()
                     .map_init(
-                        || Scratch::new(bays, self.ribbons),
+                        || self.new_scratch(),
                         |scratch, &b| self.run_batch(b, opts.histories, opts.seed, scratch),
                     )
                     .collect()
@@ -199,6 +224,20 @@ impl<'m> Engine<'m> {
             progress(done);
         }
         Ok(total)
+    }
+
+    /// Reusable per-thread state for this engine.
+    pub fn new_scratch(&self) -> Scratch {
+        Scratch::new(
+            self.model.profile.bays.len(),
+            self.ribbons,
+            self.repair.as_ref().map(|p| (p, self.mission_s)),
+        )
+    }
+
+    /// The repair plan, when repair is simulated.
+    pub fn repair_plan(&self) -> Option<&RepairPlan> {
+        self.repair.as_ref()
     }
 
     /// Mission length, s.

@@ -8,6 +8,7 @@ use crate::stats::clopper_pearson;
 
 use super::tally::Tally;
 use super::{Engine, ALTITUDE_BANDS, BATCH_SIZE};
+use crate::repair::RepairTally;
 
 /// An estimate with a two-sided interval.
 #[derive(Clone, Copy, Debug, PartialEq, Serialize, Deserialize)]
@@ -57,6 +58,8 @@ pub struct CauseCounts {
     pub direct_cut: u64,
     /// Overload cascade after a cut.
     pub cascade: u64,
+    /// Lost while its repair waited for spare stock.
+    pub stockout_delay: u64,
 }
 
 /// Everything a run reports.
@@ -102,6 +105,10 @@ pub struct RunSummary {
     pub max_cuts_in_one_bay: Vec<u64>,
     /// Fraction of mission time with at least one cut bay (mean over histories).
     pub fraction_of_time_with_cut_bay: f64,
+    /// Repair logistics (absent without repair).
+    pub repair: Option<RepairSummary>,
+    /// Spare-ribbon demand (absent without repair).
+    pub spares: Option<SpareSummary>,
     /// The raw counts (for merging shards).
     pub tally: Tally,
     /// The engineering caution.
@@ -133,7 +140,12 @@ impl RunSummary {
         histories_requested: u64,
         seed: u64,
         shard: Option<(u64, u64)>,
+        stockout_target: f64,
     ) -> Self {
+        let (repair, spares) = match Self::repair_parts(engine, &tally, stockout_target) {
+            Some((r, s)) => (Some(r), Some(s)),
+            None => (None, None),
+        };
         let model = engine.model();
         let sc = &model.scenario;
         let conf = sc.run.confidence;
@@ -203,6 +215,7 @@ impl RunSummary {
             losses_by_cause: CauseCounts {
                 direct_cut: tally.losses_by_cause[0],
                 cascade: tally.losses_by_cause[1],
+                stockout_delay: tally.losses_by_cause[2],
             },
             cascade_cut_fraction: if tally.cuts > 0 {
                 tally.cascade_cuts as f64 / tally.cuts as f64
@@ -217,8 +230,281 @@ impl RunSummary {
             } else {
                 0.0
             },
+            repair,
+            spares,
             tally,
             caution: crate::CAUTION.to_string(),
         }
+    }
+}
+
+/// Mean and quantiles of a duration, hours.
+#[derive(Clone, Copy, Debug, PartialEq, Serialize, Deserialize)]
+pub struct DurationStats {
+    /// Mean.
+    pub mean: f64,
+    /// Median.
+    pub p50: f64,
+    /// 90th percentile.
+    pub p90: f64,
+    /// 99th percentile.
+    pub p99: f64,
+}
+
+/// Little's law check for the repair queue.
+#[derive(Clone, Copy, Debug, PartialEq, Serialize, Deserialize)]
+pub struct LittleLaw {
+    /// Time-average number of segments waiting for dispatch.
+    pub mean_waiting_segments: f64,
+    /// Arrival rate of detected segments, per hour.
+    pub arrival_rate_per_hour: f64,
+    /// Mean wait from detection to dispatch, hours.
+    pub mean_wait_hours: f64,
+    /// arrival rate x mean wait (equals the mean number waiting by Little's law).
+    pub arrival_rate_times_wait: f64,
+}
+
+/// A per-station probability.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct StationProbability {
+    /// Station name.
+    pub station: String,
+    /// The probability, with a Clopper–Pearson interval.
+    pub probability: Interval,
+}
+
+/// A per-station stock level.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct StationStock {
+    /// Station name.
+    pub station: String,
+    /// Segments.
+    pub segments: u64,
+}
+
+/// Quantiles of a count distribution.
+#[derive(Clone, Copy, Debug, PartialEq, Serialize, Deserialize)]
+pub struct CountQuantiles {
+    /// Mean.
+    pub mean: f64,
+    /// Median.
+    pub p50: u64,
+    /// 90th percentile.
+    pub p90: u64,
+    /// 95th percentile.
+    pub p95: u64,
+    /// 99th percentile.
+    pub p99: u64,
+}
+
+/// Spare demand at one station.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct StationDemand {
+    /// Station name.
+    pub station: String,
+    /// Segments drawn over the whole mission.
+    pub mission: CountQuantiles,
+    /// Segments drawn in one demand interval.
+    pub per_interval: CountQuantiles,
+    /// Largest demand in any interval of a history.
+    pub max_per_interval: CountQuantiles,
+    /// Demand interval (the resupply interval, or the mission), days.
+    pub interval_days: f64,
+    /// Probability of each mission demand (index = segments), for plots.
+    pub mission_distribution: Vec<f64>,
+}
+
+/// Repair logistics results.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct RepairSummary {
+    /// Time from cut to splice, hours (quantiles from a histogram with 2.3 % wide bins).
+    pub time_to_splice_hours: DurationStats,
+    /// Segments spliced per year, whole tether.
+    pub splices_per_year: f64,
+    /// Climber busy time over available climber time.
+    pub climber_utilisation: f64,
+    /// Little's law for the queue.
+    pub queue: LittleLaw,
+    /// Probability that a station runs out of stock when a job needs it, per station.
+    pub stockout_probability: Vec<StationProbability>,
+    /// Smallest initial stock per station that keeps the probability of any interval's demand
+    /// exceeding it below the target.
+    pub recommended_initial_stock: Vec<StationStock>,
+    /// The stock-out target used.
+    pub stockout_target: f64,
+    /// Time-to-splice histogram as (bin centre hours, probability), for plots.
+    pub time_to_splice_distribution: Vec<(f64, f64)>,
+}
+
+/// Spare-ribbon demand.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct SpareSummary {
+    /// Per-station demand quantiles.
+    pub demand_quantiles: Vec<StationDemand>,
+}
+
+/// Smallest value v with P(X <= v) >= p from integer counts.
+fn count_quantile(hist: &[u64], p: f64) -> u64 {
+    let total: u64 = hist.iter().sum();
+    if total == 0 {
+        return 0;
+    }
+    let need = (p * total as f64).ceil().max(1.0) as u64;
+    let mut cum = 0;
+    for (v, &c) in hist.iter().enumerate() {
+        cum += c;
+        if cum >= need {
+            return v as u64;
+        }
+    }
+    (hist.len() - 1) as u64
+}
+
+fn count_stats(hist: &[u64]) -> CountQuantiles {
+    let total: u64 = hist.iter().sum();
+    let mean = if total > 0 {
+        hist.iter()
+            .enumerate()
+            .map(|(v, &c)| v as f64 * c as f64)
+            .sum::<f64>()
+            / total as f64
+    } else {
+        0.0
+    };
+    CountQuantiles {
+        mean,
+        p50: count_quantile(hist, 0.5),
+        p90: count_quantile(hist, 0.9),
+        p95: count_quantile(hist, 0.95),
+        p99: count_quantile(hist, 0.99),
+    }
+}
+
+impl RunSummary {
+    /// Repair and spare results from a tally (None without repair).
+    pub fn repair_parts(
+        engine: &Engine<'_>,
+        tally: &Tally,
+        stockout_target: f64,
+    ) -> Option<(RepairSummary, SpareSummary)> {
+        let plan = engine.repair_plan()?;
+        let rt = &tally.repair;
+        let conf = engine.model().scenario.run.confidence;
+        let h = tally.histories.max(1) as f64;
+        let years = engine.mission_years();
+        let splice_total: u64 = rt.time_to_splice_hist.iter().sum();
+        let splice_q = |p: f64| {
+            RepairTally::splice_bin_centre_hours(count_quantile(&rt.time_to_splice_hist, p) as usize)
+        };
+        let time_to_splice_hours = DurationStats {
+            mean: if rt.splices > 0 {
+                rt.time_to_splice_sum_s as f64 / rt.splices as f64 / 3600.0
+            } else {
+                0.0
+            },
+            p50: if splice_total > 0 { splice_q(0.5) } else { 0.0 },
+            p90: if splice_total > 0 { splice_q(0.9) } else { 0.0 },
+            p99: if splice_total > 0 {
+                splice_q(0.99)
+            } else {
+                0.0
+            },
+        };
+        let observed_h = tally.time_observed_s as f64 / 3600.0;
+        let climbers: u32 = plan.stations.iter().map(|s| s.climbers).sum();
+        let arrival = if observed_h > 0.0 {
+            rt.queue_arrivals as f64 / observed_h
+        } else {
+            0.0
+        };
+        let wait_h = if rt.queue_arrivals > 0 {
+            rt.queue_wait_sum_s as f64 / rt.queue_arrivals as f64 / 3600.0
+        } else {
+            0.0
+        };
+        let queue = LittleLaw {
+            mean_waiting_segments: if observed_h > 0.0 {
+                rt.queue_area_s as f64 / 3600.0 / observed_h
+            } else {
+                0.0
+            },
+            arrival_rate_per_hour: arrival,
+            mean_wait_hours: wait_h,
+            arrival_rate_times_wait: arrival * wait_h,
+        };
+        let mut stockout_probability = Vec::new();
+        let mut recommended = Vec::new();
+        let mut demand = Vec::new();
+        for (i, s) in plan.stations.iter().enumerate() {
+            stockout_probability.push(StationProbability {
+                station: s.name.clone(),
+                probability: cp(
+                    rt.stockout_histories.get(i).copied().unwrap_or(0),
+                    tally.histories,
+                    conf,
+                ),
+            });
+            let empty = Vec::new();
+            let maxi = rt.demand_max_interval.get(i).unwrap_or(&empty);
+            recommended.push(StationStock {
+                station: s.name.clone(),
+                segments: count_quantile(maxi, 1.0 - stockout_target),
+            });
+            let mission = rt.demand_mission.get(i).unwrap_or(&empty);
+            let total: u64 = mission.iter().sum();
+            let last = mission.iter().rposition(|&c| c > 0).unwrap_or(0);
+            demand.push(StationDemand {
+                station: s.name.clone(),
+                mission: count_stats(mission),
+                per_interval: count_stats(rt.demand_interval.get(i).unwrap_or(&empty)),
+                max_per_interval: count_stats(maxi),
+                interval_days: plan.demand_interval_s / 86_400.0,
+                mission_distribution: mission[..=last]
+                    .iter()
+                    .map(|&c| {
+                        if total > 0 {
+                            c as f64 / total as f64
+                        } else {
+                            0.0
+                        }
+                    })
+                    .collect(),
+            });
+        }
+        let splice_dist = rt
+            .time_to_splice_hist
+            .iter()
+            .enumerate()
+            .filter(|(_, &c)| c > 0)
+            .map(|(b, &c)| {
+                (
+                    RepairTally::splice_bin_centre_hours(b),
+                    c as f64 / splice_total.max(1) as f64,
+                )
+            })
+            .collect();
+        Some((
+            RepairSummary {
+                time_to_splice_hours,
+                splices_per_year: if years > 0.0 {
+                    rt.splices as f64 / h / years
+                } else {
+                    0.0
+                },
+                climber_utilisation: if climbers > 0 && tally.time_observed_s > 0 {
+                    rt.busy_s as f64 / (f64::from(climbers) * tally.time_observed_s as f64)
+                } else {
+                    0.0
+                },
+                queue,
+                stockout_probability,
+                recommended_initial_stock: recommended,
+                stockout_target,
+                time_to_splice_distribution: splice_dist,
+            },
+            SpareSummary {
+                demand_quantiles: demand,
+            },
+        ))
     }
 }

@@ -5,6 +5,8 @@
 
 use serde::{Deserialize, Serialize};
 
+use crate::repair::RepairTally;
+
 /// Why a bay lost its last load path.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize, Deserialize)]
 #[serde(rename_all = "snake_case")]
@@ -13,6 +15,8 @@ pub enum LossCause {
     DirectCut,
     /// A cut overloaded the survivors and they failed in a cascade.
     Cascade,
+    /// The bay was lost while its repair waited for spare stock.
+    StockoutDelay,
 }
 
 /// A system loss inside one history.
@@ -33,8 +37,8 @@ pub struct Tally {
     pub histories: u64,
     /// Histories that ended in system loss.
     pub losses: u64,
-    /// Losses by cause: [direct cut, cascade].
-    pub losses_by_cause: [u64; 2],
+    /// Losses by cause: [direct cut, cascade, stock-out delay].
+    pub losses_by_cause: [u64; 3],
     /// Losses whose time falls in mission year y (0-based), y < years.
     pub losses_by_year: Vec<u64>,
     /// Losses by altitude band.
@@ -57,17 +61,22 @@ pub struct Tally {
     pub max_cuts_in_bay: Vec<u64>,
     /// Sum over histories of mission time with at least one cut bay, s (rounded to whole s).
     pub time_with_cut_bay_s: u64,
+    /// Sum over histories of the time observed (mission, or until loss), s.
+    pub time_observed_s: u64,
+    /// Repair logistics counts (empty without repair).
+    pub repair: RepairTally,
 }
 
 impl Tally {
     /// An empty tally with the given numbers of years, altitude bands and ribbons.
-    pub fn new(years: usize, bands: usize, ribbons: usize) -> Self {
+    pub fn new(years: usize, bands: usize, ribbons: usize, stations: usize) -> Self {
         Tally {
             losses_by_year: vec![0; years],
             losses_by_band: vec![0; bands],
             cuts_by_band: vec![0; bands],
             cuts_by_year: vec![0; years],
             max_cuts_in_bay: vec![0; ribbons + 1],
+            repair: RepairTally::new(stations, years),
             ..Default::default()
         }
     }
@@ -76,7 +85,7 @@ impl Tally {
     pub fn merge(&mut self, o: &Tally) {
         self.histories += o.histories;
         self.losses += o.losses;
-        for i in 0..2 {
+        for i in 0..3 {
             self.losses_by_cause[i] += o.losses_by_cause[i];
         }
         add(&mut self.losses_by_year, &o.losses_by_year);
@@ -90,6 +99,8 @@ impl Tally {
         self.subcritical_holes += o.subcritical_holes;
         add(&mut self.max_cuts_in_bay, &o.max_cuts_in_bay);
         self.time_with_cut_bay_s += o.time_with_cut_bay_s;
+        self.time_observed_s += o.time_observed_s;
+        self.repair.merge(&o.repair);
     }
 }
 

@@ -104,9 +104,10 @@ pub fn run_text(s: &RunSummary) -> String {
         sig(s.mean_cuts, 4)
     ));
     o.push_str(&format!(
-        "Losses by cause: {} direct cut, {} cascade; {} of cuts came from load redistribution\n",
+        "Losses by cause: {} direct cut, {} cascade, {} while waiting for spare stock; {} of cuts came from load redistribution\n",
         s.losses_by_cause.direct_cut,
         s.losses_by_cause.cascade,
+        s.losses_by_cause.stockout_delay,
         pct(s.cascade_cut_fraction)
     ));
     o.push_str(&format!(
@@ -115,6 +116,31 @@ pub fn run_text(s: &RunSummary) -> String {
         sig(s.strikes_per_history, 4),
         sig(s.subcritical_holes_per_history, 4)
     ));
+    if let (Some(r), Some(sp)) = (&s.repair, &s.spares) {
+        o.push_str("Repair logistics\n");
+        let t = &r.time_to_splice_hours;
+        o.push_str(&format!(
+            "  time from cut to splice: mean {} h, P50 {} h, P90 {} h, P99 {} h\n",
+            sig(t.mean, 3),
+            sig(t.p50, 3),
+            sig(t.p90, 3),
+            sig(t.p99, 3)
+        ));
+        o.push_str(&format!(
+            "  splices per year {}; climber utilisation {}; mean wait for a climber {} h (Little's law: {} waiting = {} x {})\n",
+            sig(r.splices_per_year, 4),
+            pct(r.climber_utilisation),
+            sig(r.queue.mean_wait_hours, 3),
+            sig(r.queue.mean_waiting_segments, 3),
+            sig(r.queue.arrival_rate_per_hour, 3),
+            sig(r.queue.mean_wait_hours, 3)
+        ));
+        o.push_str(&stock_table(r, sp).to_text());
+        o.push_str(&format!(
+            "  recommended initial stock: smallest stock whose chance of being exceeded by one interval's demand is below {}\n\n",
+            pct(r.stockout_target)
+        ));
+    }
     o.push_str("Survival by mission year\n");
     o.push_str(&survival_table(s).to_text());
     o.push_str("\nCuts and losses by altitude band\n");
@@ -135,6 +161,42 @@ pub fn survival_table(s: &RunSummary) -> Table {
             sig(p.ci_low, 6),
             sig(p.ci_high, 6),
             sig(1.0 - p.estimate, 4),
+        ]);
+    }
+    t
+}
+
+/// Spare demand, stock-out probability and recommended stock per station.
+pub fn stock_table(r: &crate::engine::RepairSummary, sp: &crate::engine::SpareSummary) -> Table {
+    let mut t = Table::new([
+        "station",
+        "mission_demand_p50",
+        "p90",
+        "p95",
+        "p99",
+        "per_interval_p95",
+        "interval_days",
+        "stockout_probability",
+        "ci_high",
+        "recommended_stock",
+    ]);
+    for ((d, so), rec) in sp
+        .demand_quantiles
+        .iter()
+        .zip(&r.stockout_probability)
+        .zip(&r.recommended_initial_stock)
+    {
+        t.push([
+            d.station.clone(),
+            d.mission.p50.to_string(),
+            d.mission.p90.to_string(),
+            d.mission.p95.to_string(),
+            d.mission.p99.to_string(),
+            d.per_interval.p95.to_string(),
+            sig(d.interval_days, 4),
+            sig(so.probability.estimate, 3),
+            sig(so.probability.ci_high, 3),
+            rec.segments.to_string(),
         ]);
     }
     t

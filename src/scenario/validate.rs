@@ -727,7 +727,10 @@ fn validate_repair(r: &RepairSpec, top_altitude_m: f64) -> Result<RepairSettings
     })
 }
 
-fn validate_validation_mode(v: &ValidationModeSpec, ribbons: usize) -> Result<ValidationSettings, ScenarioError> {
+fn validate_validation_mode(
+    v: &ValidationModeSpec,
+    ribbons: usize,
+) -> Result<ValidationSettings, ScenarioError> {
     let day = 86_400.0;
     let cut = check(
         "validation_mode.cut_rate_per_segment_per_day",
@@ -743,7 +746,13 @@ fn validate_validation_mode(v: &ValidationModeSpec, ribbons: usize) -> Result<Va
         "per day",
         "",
     )?;
-    check_count("validation_mode.crews_per_bay", u64::from(v.crews_per_bay), 0, 64, "crews")?;
+    check_count(
+        "validation_mode.crews_per_bay",
+        u64::from(v.crews_per_bay),
+        0,
+        64,
+        "crews",
+    )?;
     check_count(
         "validation_mode.required_ribbons",
         u64::from(v.required_ribbons),

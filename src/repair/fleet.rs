@@ -1,0 +1,489 @@
+//! The per-history repair state: the event queue, stations' stock and idle climbers, waiting
+//! jobs, and the repair tallies. Reused across histories (cleared, not reallocated).
+
+use std::cmp::Ordering;
+use std::collections::BinaryHeap;
+
+use rand::Rng;
+use serde::{Deserialize, Serialize};
+
+use super::dispatch::{DispatchPolicy, Job};
+use super::{Detection, RepairPlan, Resupply};
+
+/// What happens at an event.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum EventKind {
+    /// A cut in `bay` is detected.
+    Detect {
+        /// Bay.
+        bay: u32,
+    },
+    /// A climber from `station` arrives at `bay` carrying `segments`.
+    Arrive {
+        /// Home station.
+        station: u32,
+        /// Bay.
+        bay: u32,
+        /// Spare segments carried.
+        segments: u32,
+    },
+    /// The climber has spliced `segments` in `bay`.
+    SpliceDone {
+        /// Home station.
+        station: u32,
+        /// Bay.
+        bay: u32,
+        /// Segments replaced.
+        segments: u32,
+    },
+    /// The climber is back at `station`.
+    Return {
+        /// Station.
+        station: u32,
+    },
+    /// A delivery reaches `station`.
+    Resupply {
+        /// Station.
+        station: u32,
+    },
+}
+
+/// A timed event; ordered by time, then by insertion.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Event {
+    /// Time, s.
+    pub time_s: f64,
+    /// Insertion number (tie-break).
+    pub seq: u64,
+    /// What happens.
+    pub kind: EventKind,
+}
+
+impl Eq for Event {}
+impl Ord for Event {
+    fn cmp(&self, o: &Self) -> Ordering {
+        // BinaryHeap is a max-heap: reverse so the earliest (then first inserted) pops first.
+        o.time_s.total_cmp(&self.time_s).then(o.seq.cmp(&self.seq))
+    }
+}
+impl PartialOrd for Event {
+    fn partial_cmp(&self, o: &Self) -> Option<Ordering> {
+        Some(self.cmp(o))
+    }
+}
+
+/// Events of one history, earliest first.
+#[derive(Clone, Debug, Default)]
+pub struct EventQueue {
+    heap: BinaryHeap<Event>,
+    seq: u64,
+}
+
+impl EventQueue {
+    /// Schedule an event.
+    pub fn push(&mut self, time_s: f64, kind: EventKind) {
+        self.seq += 1;
+        self.heap.push(Event {
+            time_s,
+            seq: self.seq,
+            kind,
+        });
+    }
+    /// Time of the next event.
+    pub fn next_time(&self) -> Option<f64> {
+        self.heap.peek().map(|e| e.time_s)
+    }
+    /// Remove and return the next event.
+    pub fn pop(&mut self) -> Option<Event> {
+        self.heap.pop()
+    }
+    fn clear(&mut self) {
+        self.heap.clear();
+        self.seq = 0;
+    }
+}
+
+/// Bins per decade of the time-to-splice histogram (resolution about 2.3 %).
+pub const SPLICE_BINS_PER_DECADE: usize = 100;
+/// Lower edge of the time-to-splice histogram, hours.
+pub const SPLICE_HIST_MIN_HOURS: f64 = 0.01;
+/// Decades covered (0.01 h to 1e5 h).
+pub const SPLICE_HIST_DECADES: usize = 7;
+/// Largest demand count held in the demand histograms (larger counts go to the last bin).
+pub const DEMAND_MAX: usize = 2000;
+
+/// Mergeable repair counts (integers, so merging is exact).
+#[derive(Clone, Debug, Default, PartialEq, Eq, Serialize, Deserialize)]
+pub struct RepairTally {
+    /// Segments spliced.
+    pub splices: u64,
+    /// Splices by mission year.
+    pub splices_by_year: Vec<u64>,
+    /// Histogram of time from cut to splice (log bins, see the constants).
+    pub time_to_splice_hist: Vec<u64>,
+    /// Sum of times from cut to splice, s.
+    pub time_to_splice_sum_s: u64,
+    /// Detected segments that entered the queue.
+    pub queue_arrivals: u64,
+    /// Sum of waits from detection to dispatch, s.
+    pub queue_wait_sum_s: u64,
+    /// Integral over time of the number of segments waiting, segment x s.
+    pub queue_area_s: u64,
+    /// Climber busy time (dispatch to return), s.
+    pub busy_s: u64,
+    /// Histories with at least one stock-out, per station.
+    pub stockout_histories: Vec<u64>,
+    /// Stock-out events, per station.
+    pub stockout_events: Vec<u64>,
+    /// Per station: histogram of segments drawn over the mission.
+    pub demand_mission: Vec<Vec<u64>>,
+    /// Per station: histogram of segments drawn in one demand interval (every interval of
+    /// every history is one sample).
+    pub demand_interval: Vec<Vec<u64>>,
+    /// Per station: histogram over histories of the largest demand in any interval.
+    pub demand_max_interval: Vec<Vec<u64>>,
+}
+
+impl RepairTally {
+    /// Empty tally for `stations` stations and `years` mission years.
+    pub fn new(stations: usize, years: usize) -> Self {
+        let bins = SPLICE_BINS_PER_DECADE * SPLICE_HIST_DECADES;
+        RepairTally {
+            splices_by_year: vec![0; years],
+            time_to_splice_hist: vec![0; bins],
+            stockout_histories: vec![0; stations],
+            stockout_events: vec![0; stations],
+            demand_mission: vec![vec![0; DEMAND_MAX + 1]; stations],
+            demand_interval: vec![vec![0; DEMAND_MAX + 1]; stations],
+            demand_max_interval: vec![vec![0; DEMAND_MAX + 1]; stations],
+            ..Default::default()
+        }
+    }
+
+    /// Add another tally.
+    pub fn merge(&mut self, o: &RepairTally) {
+        self.splices += o.splices;
+        add(&mut self.splices_by_year, &o.splices_by_year);
+        add(&mut self.time_to_splice_hist, &o.time_to_splice_hist);
+        self.time_to_splice_sum_s += o.time_to_splice_sum_s;
+        self.queue_arrivals += o.queue_arrivals;
+        self.queue_wait_sum_s += o.queue_wait_sum_s;
+        self.queue_area_s += o.queue_area_s;
+        self.busy_s += o.busy_s;
+        add(&mut self.stockout_histories, &o.stockout_histories);
+        add(&mut self.stockout_events, &o.stockout_events);
+        for (a, b) in [
+            (&mut self.demand_mission, &o.demand_mission),
+            (&mut self.demand_interval, &o.demand_interval),
+            (&mut self.demand_max_interval, &o.demand_max_interval),
+        ] {
+            if a.len() < b.len() {
+                a.resize(b.len(), vec![0; DEMAND_MAX + 1]);
+            }
+            for (x, y) in a.iter_mut().zip(b) {
+                add(x, y);
+            }
+        }
+    }
+
+    /// Bin of a time-to-splice in hours.
+    pub fn splice_bin(hours: f64) -> usize {
+        let bins = SPLICE_BINS_PER_DECADE * SPLICE_HIST_DECADES;
+        if hours.is_nan() || hours <= SPLICE_HIST_MIN_HOURS {
+            return 0;
+        }
+        (((hours / SPLICE_HIST_MIN_HOURS).log10() * SPLICE_BINS_PER_DECADE as f64) as usize)
+            .min(bins - 1)
+    }
+
+    /// Geometric centre of a time-to-splice bin, hours.
+    pub fn splice_bin_centre_hours(bin: usize) -> f64 {
+        SPLICE_HIST_MIN_HOURS * 10f64.powf((bin as f64 + 0.5) / SPLICE_BINS_PER_DECADE as f64)
+    }
+}
+
+fn add(a: &mut Vec<u64>, b: &[u64]) {
+    if a.len() < b.len() {
+        a.resize(b.len(), 0);
+    }
+    for (x, y) in a.iter_mut().zip(b) {
+        *x += *y;
+    }
+}
+
+/// Per-history fleet state.
+#[derive(Debug)]
+pub struct Fleet {
+    /// Pending events.
+    pub queue: EventQueue,
+    stock: Vec<u32>,
+    idle: Vec<u32>,
+    order_outstanding: Vec<bool>,
+    jobs: Vec<Job>,
+    stockout_seen: Vec<bool>,
+    demand: Vec<u32>,
+    intervals: usize,
+    waiting: u32,
+    area: f64,
+    area_t: f64,
+    busy: f64,
+    wait_sum: f64,
+}
+
+impl Fleet {
+    /// Fleet state for a plan and mission length.
+    pub fn new(plan: &RepairPlan, mission_s: f64) -> Self {
+        let n = plan.stations.len();
+        let intervals = plan.demand_intervals(mission_s);
+        Fleet {
+            queue: EventQueue::default(),
+            stock: vec![0; n],
+            idle: vec![0; n],
+            order_outstanding: vec![false; n],
+            jobs: Vec::with_capacity(16),
+            stockout_seen: vec![false; n],
+            demand: vec![0; n * intervals],
+            intervals,
+            waiting: 0,
+            area: 0.0,
+            area_t: 0.0,
+            busy: 0.0,
+            wait_sum: 0.0,
+        }
+    }
+
+    /// Reset to the mission start: stock and climbers home, first resupply scheduled.
+    pub fn reset(&mut self, plan: &RepairPlan) {
+        self.queue.clear();
+        for (i, s) in plan.stations.iter().enumerate() {
+            self.stock[i] = s.initial_stock;
+            self.idle[i] = s.climbers;
+            self.order_outstanding[i] = false;
+            self.stockout_seen[i] = false;
+        }
+        self.jobs.clear();
+        self.demand.iter_mut().for_each(|d| *d = 0);
+        self.waiting = 0;
+        self.area = 0.0;
+        self.area_t = 0.0;
+        self.busy = 0.0;
+        self.wait_sum = 0.0;
+        if let Resupply::Periodic { interval_s, .. } = plan.resupply {
+            for s in 0..plan.stations.len() {
+                self.queue
+                    .push(interval_s, EventKind::Resupply { station: s as u32 });
+            }
+        }
+    }
+
+    /// Jobs waiting now.
+    pub fn jobs(&self) -> &[Job] {
+        &self.jobs
+    }
+
+    fn advance_area(&mut self, t: f64) {
+        self.area += f64::from(self.waiting) * (t - self.area_t);
+        self.area_t = t;
+    }
+
+    /// A new cut in `bay` at `t`: schedule its detection (repair stream for random delays).
+    pub fn on_cut<R: Rng + ?Sized>(
+        &mut self,
+        plan: &RepairPlan,
+        rng: &mut R,
+        bay: u32,
+        cuts_in_bay: u32,
+        t: f64,
+    ) {
+        let delay = match plan.detection {
+            Detection::Fixed(d) => d,
+            Detection::Exponential(mean) => {
+                let u = 1.0 - (rng.next_u64() >> 11) as f64 * (1.0 / (1u64 << 53) as f64);
+                -mean * u.ln()
+            }
+            Detection::Periodic(every) => {
+                let next = ((t / every).floor() + 1.0) * every;
+                next - t
+            }
+        };
+        self.queue.push(t + delay, EventKind::Detect { bay });
+        for j in self.jobs.iter_mut().filter(|j| j.bay == bay) {
+            j.cuts_in_bay = cuts_in_bay;
+        }
+    }
+
+    /// A detection event: the cut joins (or becomes) its bay's waiting job.
+    pub fn on_detect(&mut self, bay: u32, cuts_in_bay: u32, t: f64, tally: &mut RepairTally) {
+        self.advance_area(t);
+        self.waiting += 1;
+        tally.queue_arrivals += 1;
+        // Waits are summed per segment from detection to dispatch; the sum starts now.
+        self.wait_sum -= t;
+        if let Some(j) = self.jobs.iter_mut().find(|j| j.bay == bay) {
+            j.segments += 1;
+            j.cuts_in_bay = cuts_in_bay;
+        } else {
+            self.jobs.push(Job {
+                bay,
+                segments: 1,
+                detected_s: t,
+                cuts_in_bay,
+                stockout: false,
+            });
+        }
+    }
+
+    /// Serve waiting jobs while a climber and stock allow.
+    pub fn dispatch(
+        &mut self,
+        plan: &RepairPlan,
+        policy: &dyn DispatchPolicy,
+        t: f64,
+        tally: &mut RepairTally,
+    ) {
+        while !self.jobs.is_empty() && self.idle.iter().any(|&c| c > 0) {
+            let k = policy.choose(&self.jobs, plan);
+            let bay = self.jobs[k].bay as usize;
+            // Nearest station with an idle climber and stock; note stock-outs at nearer ones.
+            let mut best: Option<(usize, f64)> = None;
+            let mut nearest_idle: Option<(usize, f64)> = None;
+            for s in 0..plan.stations.len() {
+                if self.idle[s] == 0 {
+                    continue;
+                }
+                let tt = plan.travel_out_s(s, bay);
+                if nearest_idle.is_none_or(|(_, b)| tt < b) {
+                    nearest_idle = Some((s, tt));
+                }
+                if self.stock[s] > 0 && best.is_none_or(|(_, b)| tt < b) {
+                    best = Some((s, tt));
+                }
+            }
+            let Some((s, travel)) = best else {
+                // Idle climbers but no stock anywhere they are: a stock-out at the nearest.
+                if let Some((s, _)) = nearest_idle {
+                    if !self.jobs[k].stockout {
+                        self.jobs[k].stockout = true;
+                        tally.stockout_events[s] += 1;
+                        self.stockout_seen[s] = true;
+                    }
+                }
+                return;
+            };
+            let n = self.jobs[k]
+                .segments
+                .min(plan.capacity_per_trip[bay])
+                .min(self.stock[s]);
+            self.stock[s] -= n;
+            self.idle[s] -= 1;
+            let interval = ((t / plan.demand_interval_s) as usize).min(self.intervals - 1);
+            self.demand[s * self.intervals + interval] += n;
+            self.advance_area(t);
+            self.waiting -= n;
+            self.wait_sum += f64::from(n) * t;
+            self.jobs[k].segments -= n;
+            if self.jobs[k].segments == 0 {
+                self.jobs.swap_remove(k);
+            }
+            self.busy -= t;
+            self.queue.push(
+                t + plan.turnaround_s + travel,
+                EventKind::Arrive {
+                    station: s as u32,
+                    bay: bay as u32,
+                    segments: n,
+                },
+            );
+            if let Resupply::ReorderPoint {
+                reorder_point,
+                lead_time_s,
+                ..
+            } = plan.resupply
+            {
+                if self.stock[s] <= reorder_point && !self.order_outstanding[s] {
+                    self.order_outstanding[s] = true;
+                    self.queue
+                        .push(t + lead_time_s, EventKind::Resupply { station: s as u32 });
+                }
+            }
+        }
+    }
+
+    /// The climber reached the bay: schedule the end of splicing.
+    pub fn on_arrive(&mut self, plan: &RepairPlan, station: u32, bay: u32, segments: u32, t: f64) {
+        self.queue.push(
+            t + f64::from(segments) * plan.splice_s,
+            EventKind::SpliceDone {
+                station,
+                bay,
+                segments,
+            },
+        );
+    }
+
+    /// Splicing done: send the climber home.
+    pub fn on_splice_done(&mut self, plan: &RepairPlan, station: u32, bay: u32, t: f64) {
+        let back = plan.travel_back_s(station as usize, bay as usize);
+        self.queue.push(t + back, EventKind::Return { station });
+    }
+
+    /// The climber is home and free.
+    pub fn on_return(&mut self, station: u32, t: f64) {
+        self.idle[station as usize] += 1;
+        self.busy += t;
+    }
+
+    /// A delivery arrived.
+    pub fn on_resupply(&mut self, plan: &RepairPlan, station: u32, t: f64) {
+        let s = station as usize;
+        match plan.resupply {
+            Resupply::Periodic { interval_s, batch } => {
+                self.stock[s] = self.stock[s].saturating_add(batch);
+                self.queue
+                    .push(t + interval_s, EventKind::Resupply { station });
+            }
+            Resupply::ReorderPoint { batch, .. } => {
+                self.stock[s] = self.stock[s].saturating_add(batch);
+                self.order_outstanding[s] = false;
+            }
+            Resupply::None => {}
+        }
+    }
+
+    /// Close the history at `end_s`: count open waits and busy climbers up to the end, and add
+    /// the per-history demand and stock-out scores.
+    pub fn finish(&mut self, plan: &RepairPlan, end_s: f64, tally: &mut RepairTally) {
+        self.advance_area(end_s);
+        let waiting_now = f64::from(self.waiting);
+        let wait_sum = self.wait_sum + waiting_now * end_s;
+        let busy_now: u32 = plan
+            .stations
+            .iter()
+            .enumerate()
+            .map(|(i, s)| s.climbers - self.idle[i].min(s.climbers))
+            .sum();
+        let busy = self.busy + f64::from(busy_now) * end_s;
+        tally.queue_wait_sum_s += wait_sum.max(0.0).round() as u64;
+        tally.queue_area_s += self.area.max(0.0).round() as u64;
+        tally.busy_s += busy.max(0.0).round() as u64;
+        for s in 0..plan.stations.len() {
+            if self.stockout_seen[s] {
+                tally.stockout_histories[s] += 1;
+            }
+            let row = &self.demand[s * self.intervals..(s + 1) * self.intervals];
+            let total: u32 = row.iter().sum();
+            tally.demand_mission[s][(total as usize).min(DEMAND_MAX)] += 1;
+            let mut max = 0;
+            for &d in row {
+                tally.demand_interval[s][(d as usize).min(DEMAND_MAX)] += 1;
+                max = max.max(d);
+            }
+            tally.demand_max_interval[s][(max as usize).min(DEMAND_MAX)] += 1;
+        }
+    }
+
+    /// Whether a job waiting for stock exists for `bay`.
+    pub fn bay_waits_for_stock(&self, bay: u32) -> bool {
+        self.jobs.iter().any(|j| j.bay == bay && j.stockout)
+    }
+}

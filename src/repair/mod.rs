@@ -1,0 +1,202 @@
+//! Repair logistics: stations (depots) with climbers and spare stock, climber trips, detection of
+//! cuts, dispatch policy, resupply, and the per-history event queue that holds them.
+//!
+//! The engine owns the history loop; this module owns what happens between strikes: a cut is
+//! detected after a delay, becomes a job for its bay, waits for an idle climber at a station with
+//! stock, and is served by a trip: turnaround at the station, travel to the bay, one splice per
+//! segment carried, travel back. A splice replaces a segment with new ribbon (holes cleared).
+//!
+//! **Climber motion.** Climbers move at a constant speed up and a constant speed down. A real
+//! climber is power-limited near the Moon, where the effective gravity is 1.6 m/s^2, and nearly
+//! weightless near L1; a constant speed is the speed the power budget sustains and is the input
+//! a fleet designer controls. Travel time is |altitude difference| / speed.
+//!
+//! **Capacity.** A climber carries as many spare segments for one bay as its payload allows
+//! (payload / segment mass, at least one: the model refuses a climber that cannot lift one) and
+//! repairs all detected cuts of that bay it can carry in one trip.
+//!
+//! Randomness (exponential detection delays) comes only from the repair stream, so changing the
+//! repair settings leaves every strike identical.
+
+mod dispatch;
+mod fleet;
+
+pub use dispatch::{DispatchPolicy, FirstCome, Job, MostEndangered};
+pub use fleet::{Event, EventKind, EventQueue, Fleet, RepairTally};
+
+use crate::scenario::{DetectionSpec, DispatchSpec, RepairSettings, ResupplySpec};
+use crate::structure::TetherProfile;
+
+/// How cuts are detected.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub enum Detection {
+    /// Fixed delay, s.
+    Fixed(f64),
+    /// Exponential delay with this mean, s.
+    Exponential(f64),
+    /// Found at the next inspection; inspections every this many s from mission start.
+    Periodic(f64),
+}
+
+/// How stock is replenished.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub enum Resupply {
+    /// Never.
+    None,
+    /// Every `interval_s` each station receives `batch` segments.
+    Periodic {
+        /// Interval, s.
+        interval_s: f64,
+        /// Segments per delivery.
+        batch: u32,
+    },
+    /// When a station's stock falls to `reorder_point`, `batch` arrive after `lead_time_s`.
+    ReorderPoint {
+        /// Trigger level, segments.
+        reorder_point: u32,
+        /// Segments per order.
+        batch: u32,
+        /// Delay, s.
+        lead_time_s: f64,
+    },
+}
+
+/// A station as the simulation needs it.
+#[derive(Clone, Debug)]
+pub struct Station {
+    /// Name.
+    pub name: String,
+    /// Altitude, m.
+    pub altitude_m: f64,
+    /// Climbers based here.
+    pub climbers: u32,
+    /// Initial stock, segments.
+    pub initial_stock: u32,
+}
+
+/// Everything fixed about repair for one built model.
+#[derive(Clone, Debug)]
+pub struct RepairPlan {
+    /// Stations.
+    pub stations: Vec<Station>,
+    /// Climb speed, m/s.
+    pub speed_up_m_per_s: f64,
+    /// Descent speed, m/s.
+    pub speed_down_m_per_s: f64,
+    /// Turnaround at the station before leaving, s.
+    pub turnaround_s: f64,
+    /// Splice time per segment, s.
+    pub splice_s: f64,
+    /// Detection model.
+    pub detection: Detection,
+    /// Resupply model.
+    pub resupply: Resupply,
+    /// Dispatch policy.
+    pub dispatch: DispatchSpec,
+    /// Segments a climber can carry for bay j.
+    pub capacity_per_trip: Vec<u32>,
+    /// Mid altitude of bay j, m.
+    pub bay_altitude_m: Vec<f64>,
+    /// Intact margin of bay j (for the most-endangered policy's tie-break).
+    pub bay_margin: Vec<f64>,
+    /// Interval over which spare demand is counted, s (resupply interval, or the mission).
+    pub demand_interval_s: f64,
+}
+
+impl RepairPlan {
+    /// Build from validated settings and the tether profile.
+    pub fn new(r: &RepairSettings, profile: &TetherProfile, mission_s: f64) -> Self {
+        let h = 3600.0;
+        let detection = match r.detection {
+            DetectionSpec::Fixed { delay_hours } => Detection::Fixed(delay_hours * h),
+            DetectionSpec::Exponential { mean_hours } => Detection::Exponential(mean_hours * h),
+            DetectionSpec::PeriodicInspection { interval_hours } => {
+                Detection::Periodic(interval_hours * h)
+            }
+        };
+        let day = 86_400.0;
+        let resupply = match r.resupply {
+            ResupplySpec::None => Resupply::None,
+            ResupplySpec::Periodic {
+                interval_days,
+                batch_segments,
+            } => Resupply::Periodic {
+                interval_s: interval_days * day,
+                batch: batch_segments,
+            },
+            ResupplySpec::ReorderPoint {
+                reorder_point_segments,
+                batch_segments,
+                lead_time_days,
+            } => Resupply::ReorderPoint {
+                reorder_point: reorder_point_segments,
+                batch: batch_segments,
+                lead_time_s: lead_time_days * day,
+            },
+        };
+        let capacity_per_trip = (0..profile.bays.len())
+            .map(|j| {
+                let m = profile.segment_mass_kg(j);
+                if m > 0.0 {
+                    ((r.payload_kg / m).floor() as u32).max(1)
+                } else {
+                    u32::MAX
+                }
+            })
+            .collect();
+        let demand_interval_s = match resupply {
+            Resupply::Periodic { interval_s, .. } => interval_s.min(mission_s.max(1.0)),
+            _ => mission_s.max(1.0),
+        };
+        RepairPlan {
+            stations: r
+                .stations
+                .iter()
+                .map(|s| Station {
+                    name: s.name.clone(),
+                    altitude_m: s.altitude_m,
+                    climbers: s.climbers,
+                    initial_stock: s.initial_stock_segments,
+                })
+                .collect(),
+            speed_up_m_per_s: r.speed_up_m_per_s,
+            speed_down_m_per_s: r.speed_down_m_per_s,
+            turnaround_s: r.turnaround_s,
+            splice_s: r.splice_s,
+            detection,
+            resupply,
+            dispatch: r.dispatch,
+            capacity_per_trip,
+            bay_altitude_m: profile.bays.iter().map(|b| b.mid_altitude_m()).collect(),
+            bay_margin: (0..profile.bays.len()).map(|j| profile.margin(j)).collect(),
+            demand_interval_s,
+        }
+    }
+
+    /// One-way travel time from station `s` to bay `j`, s.
+    #[inline]
+    pub fn travel_out_s(&self, s: usize, j: usize) -> f64 {
+        let d = self.bay_altitude_m[j] - self.stations[s].altitude_m;
+        if d >= 0.0 {
+            d / self.speed_up_m_per_s
+        } else {
+            -d / self.speed_down_m_per_s
+        }
+    }
+
+    /// Travel time back from bay `j` to station `s`, s.
+    #[inline]
+    pub fn travel_back_s(&self, s: usize, j: usize) -> f64 {
+        let d = self.stations[s].altitude_m - self.bay_altitude_m[j];
+        if d >= 0.0 {
+            d / self.speed_up_m_per_s
+        } else {
+            -d / self.speed_down_m_per_s
+        }
+    }
+
+    /// Number of demand intervals in a mission.
+    pub fn demand_intervals(&self, mission_s: f64) -> usize {
+        ((mission_s / self.demand_interval_s).ceil() as usize).max(1)
+    }
+}
