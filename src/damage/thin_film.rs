@@ -127,11 +127,21 @@ impl PerforationLaw for ThinFilmHoleLaw {
         "thin_film_hole"
     }
 
+    /// Runs once per strike, so the test d > D_c is done in logarithms (four `ln` instead of
+    /// four `powf`): lambda ln d > ln t - ln(K_f K1) - beta ln rho - gamma ln(v cos), using
+    /// gamma = xi. It is the same inequality as [`Self::ballistic_limit_diameter_m`].
     fn hole_width_m(&self, impact: &Impact, target: &RibbonTarget) -> f64 {
+        const { assert!(GAMMA == XI) };
         let d = impact.diameter_m;
-        let d_c = self.ballistic_limit_diameter_m(impact, target);
+        let t_al_cm =
+            target.thickness_m * target.density_kg_per_m3 / ALUMINIUM_DENSITY_KG_PER_M3 * 100.0;
+        let cos_a = impact.incidence_rad.cos().clamp(0.0, 1.0);
+        let lhs = LAMBDA * (d * 100.0).ln()
+            + (self.perforation_factor_kf * self.material_constant_k1).ln()
+            + BETA * (impact.density_kg_per_m3 / 1000.0).ln()
+            + GAMMA * (impact.speed_m_per_s / 1000.0 * cos_a).ln();
         // NaN in any input makes the comparison false: no hole.
-        if d > 0.0 && d.is_finite() && d > d_c {
+        if d > 0.0 && d.is_finite() && lhs > t_al_cm.ln() {
             self.hole_factor * d
         } else {
             0.0
@@ -169,6 +179,26 @@ mod tests {
         let film = RibbonTarget::new(0.03, 25e-6, 1420.0).unwrap();
         let d_c_film = law.ballistic_limit_diameter_m(&impact, &film);
         assert!((d_c_film / 2.9e-6 - 1.0).abs() < 0.02, "{d_c_film}");
+    }
+
+    #[test]
+    fn log_domain_test_agrees_with_the_ballistic_limit() {
+        // The fast per-strike test must be the same inequality as eq. (J-4) written out.
+        let law = ThinFilmHoleLaw::default();
+        let film = RibbonTarget::new(0.03, 20e-6, 1560.0).unwrap();
+        for &d in &[1e-7, 3e-7, 1e-6, 2.9e-6, 3e-6, 1e-5, 1e-3] {
+            for &v in &[1_000.0, 5_000.0, 20_000.0, 70_000.0] {
+                for &a in &[0.0, 0.5, 1.2, 1.5, 1.5707] {
+                    let impact = Impact::new(d, v, a, 2500.0).unwrap();
+                    let d_c = law.ballistic_limit_diameter_m(&impact, &film);
+                    if (d / d_c - 1.0).abs() < 1e-9 {
+                        continue;
+                    }
+                    let holed = law.hole_width_m(&impact, &film) > 0.0;
+                    assert_eq!(holed, d > d_c, "d {d} v {v} a {a} d_c {d_c}");
+                }
+            }
+        }
     }
 
     #[test]

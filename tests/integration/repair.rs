@@ -1,0 +1,249 @@
+//! Repair logistics checked against independent answers: the birth–death Markov chain of a
+//! repairable k-out-of-n system, Little's law, and common random numbers.
+
+use serde_json::{json, Value};
+use tether_risk::engine::{Engine, LogEvent, RunOptions, RunSummary, Tally};
+use tether_risk::model::Model;
+use tether_risk::scenario::{parse_spec, Scenario};
+
+use crate::util::DEMO;
+
+fn model_of(v: &Value) -> Model {
+    let spec = parse_spec(&v.to_string()).expect("scenario parses");
+    Model::build(Scenario::from_spec(spec, None).expect("scenario valid")).expect("model builds")
+}
+
+fn run(model: &Model, histories: u64, seed: u64) -> Tally {
+    let engine = Engine::new(model, 1.0).unwrap();
+    let opts = RunOptions {
+        histories,
+        seed,
+        threads: 2,
+        floor_fraction: 1.0,
+        shard: None,
+    };
+    engine.run(&opts, &|_| {}).unwrap()
+}
+
+/// One bay of four carbon-fibre ribbons from the surface past L1, in validation mode.
+fn one_bay_validation(crews: u32) -> Value {
+    let mut v: Value = serde_json::from_str(DEMO).unwrap();
+    v["tether"]["top_altitude_km"] = json!(60000.0);
+    v["tether"]["cross_link_spacing_km"] = json!(60000.0);
+    v["tether"]["ribbon_count"] = json!(4);
+    v["tether"]["taper"] = json!("none");
+    v["tether"]["material"] =
+        json!({"name": "carbon fibre", "ultimate_strength_gpa": 7.0, "density_g_per_cm3": 1.79});
+    v["tether"]["anchor_preload_n"] = json!(10.0);
+    v["tether"]["traffic_load_n"] = json!(0.0);
+    v["repair"] = Value::Null;
+    v["run"]["mission_years"] = json!(10.0);
+    v["validation_mode"] = json!({
+        "cut_rate_per_segment_per_day": 0.01,
+        "repair_rate_per_crew_per_day": 0.05,
+        "crews_per_bay": crews,
+        "required_ribbons": 1
+    });
+    v
+}
+
+fn assert_within_3se(p_hat: f64, p: f64, n: u64, what: &str) {
+    let se = (p * (1.0 - p) / n as f64).sqrt();
+    assert!(
+        (p_hat - p).abs() < 3.0 * se,
+        "{what}: simulated {p_hat}, expected {p} (3 se = {})",
+        3.0 * se
+    );
+}
+
+#[test]
+fn one_out_of_four_one_crew_matches_birth_death_chain() {
+    // Repairable 1-out-of-4, lambda = 0.01/day, mu = 0.05/day, one crew: R(10 yr = 3652.5 d) =
+    // 0.101688 (birth–death chain in the Barlow & Proschan form, shared REFERENCES.md §8; value
+    // computed by matrix exponential and checked against the first-passage MTTF of 1625 d).
+    let n = 20_000;
+    let t = run(&model_of(&one_bay_validation(1)), n, 11);
+    assert_within_3se(
+        t.losses as f64 / n as f64,
+        1.0 - 0.101688,
+        n,
+        "1-of-4, one crew",
+    );
+}
+
+#[test]
+fn one_out_of_four_four_crews_matches_birth_death_chain() {
+    // Same system with four crews: R(10 yr) = 0.59463 (REFERENCES.md §8, MTTF 7000 d).
+    let n = 20_000;
+    let t = run(&model_of(&one_bay_validation(4)), n, 12);
+    assert_within_3se(
+        t.losses as f64 / n as f64,
+        1.0 - 0.59463,
+        n,
+        "1-of-4, four crews",
+    );
+}
+
+#[test]
+fn two_out_of_four_one_crew_one_year() {
+    // 2-out-of-4, one crew: R(1 yr = 365.25 d) = 0.33726 (REFERENCES.md §8).
+    let mut v = one_bay_validation(1);
+    v["validation_mode"]["required_ribbons"] = json!(2);
+    v["run"]["mission_years"] = json!(1.0);
+    let n = 20_000;
+    let t = run(&model_of(&v), n, 13);
+    assert_within_3se(
+        t.losses as f64 / n as f64,
+        1.0 - 0.33726,
+        n,
+        "2-of-4, one crew",
+    );
+}
+
+/// The demo with a scarce fleet and a high flux so that repairs queue.
+fn congested() -> Value {
+    let mut v: Value = serde_json::from_str(DEMO).unwrap();
+    v["environment"]["flux_scale_factor"] = json!(100.0);
+    v["repair"]["stations"][0]["climbers"] = json!(1);
+    v["repair"]["stations"][1]["climbers"] = json!(0);
+    v["repair"]["climber"]["turnaround_hours"] = json!(200.0);
+    v["run"]["mission_years"] = json!(3.0);
+    v
+}
+
+#[test]
+fn littles_law_holds_for_the_repair_queue() {
+    // Little's law (Little 1961, Operations Research 9, 383): time-average number waiting =
+    // arrival rate x mean wait. The two sides come from separate bookkeeping (an integral of the
+    // queue length over event times, and per-segment detection-to-dispatch waits).
+    let m = model_of(&congested());
+    let engine = Engine::new(&m, 1.0).unwrap();
+    let opts = RunOptions {
+        histories: 400,
+        seed: 5,
+        threads: 2,
+        floor_fraction: 1.0,
+        shard: None,
+    };
+    let tally = engine.run(&opts, &|_| {}).unwrap();
+    let s = RunSummary::from_tally(&engine, tally, 400, 5, None, 0.05);
+    let q = s.repair.unwrap().queue;
+    assert!(
+        q.mean_waiting_segments > 0.005,
+        "the scenario must queue: {q:?}"
+    );
+    let rel = (q.mean_waiting_segments - q.arrival_rate_times_wait).abs() / q.mean_waiting_segments;
+    // Only whole-second rounding per history separates the two sides.
+    assert!(rel < 1e-4, "{q:?}");
+}
+
+#[test]
+fn repair_settings_leave_strikes_identical() {
+    // Common random numbers: strikes come from their own stream, so two scenarios differing only
+    // in repair see exactly the same strikes (until one of them ends in a loss).
+    let a = model_of(&congested());
+    let mut vb = congested();
+    vb["repair"]["climber"]["speed_up_m_per_s"] = json!(5.0);
+    vb["repair"]["detection"] = json!({"kind": "exponential", "mean_hours": 48.0});
+    let b = model_of(&vb);
+    let (ea, eb) = (Engine::new(&a, 1.0).unwrap(), Engine::new(&b, 1.0).unwrap());
+    let mut differing_repairs = 0;
+    for h in 0..20 {
+        let (_, la) = ea.replay(h, 99);
+        let (_, lb) = eb.replay(h, 99);
+        let strikes = |l: &[LogEvent]| -> Vec<(f64, u32, u32, f64)> {
+            l.iter()
+                .filter_map(|e| match e {
+                    LogEvent::Strike { time_s, strike, .. } => {
+                        Some((*time_s, strike.bay, strike.ribbon, strike.diameter_m))
+                    }
+                    _ => None,
+                })
+                .collect()
+        };
+        let (sa, sb) = (strikes(&la), strikes(&lb));
+        let k = sa.len().min(sb.len());
+        assert!(k > 0);
+        assert_eq!(sa[..k], sb[..k], "history {h}");
+        let repairs = |l: &[LogEvent]| {
+            l.iter()
+                .filter(|e| matches!(e, LogEvent::Repair { .. }))
+                .count()
+        };
+        if repairs(&la) != repairs(&lb) || la.len() != lb.len() {
+            differing_repairs += 1;
+        }
+    }
+    assert!(
+        differing_repairs > 0,
+        "the repair settings should change the repair events"
+    );
+}
+
+#[test]
+fn repair_that_never_acts_equals_no_repair_bit_for_bit() {
+    // With detection later than the mission end, repair never acts: every damage score must equal
+    // the run without repair exactly.
+    let mut v: Value = serde_json::from_str(DEMO).unwrap();
+    v["environment"]["flux_scale_factor"] = json!(20.0);
+    v["run"]["mission_years"] = json!(5.0);
+    let mut never = v.clone();
+    never["repair"]["detection"] = json!({"kind": "fixed", "delay_hours": 1.0e6});
+    let mut none = v.clone();
+    none["repair"] = Value::Null;
+    let (a, b) = (
+        run(&model_of(&never), 3000, 3),
+        run(&model_of(&none), 3000, 3),
+    );
+    assert!(
+        a.cuts > 0 && a.losses > 0,
+        "the check needs cuts and losses"
+    );
+    assert_eq!(a.losses, b.losses);
+    assert_eq!(a.losses_by_year, b.losses_by_year);
+    assert_eq!(a.losses_by_cause, b.losses_by_cause);
+    assert_eq!(a.cuts, b.cuts);
+    assert_eq!(a.cuts_sq, b.cuts_sq);
+    assert_eq!(a.cuts_by_band, b.cuts_by_band);
+    assert_eq!(a.strikes, b.strikes);
+    assert_eq!(a.subcritical_holes, b.subcritical_holes);
+    assert_eq!(a.max_cuts_in_bay, b.max_cuts_in_bay);
+    assert_eq!(a.time_with_cut_bay_s, b.time_with_cut_bay_s);
+    assert_eq!(a.repair.splices, 0);
+}
+
+#[test]
+fn repair_lowers_loss_and_counts_spares() {
+    let mut v: Value = serde_json::from_str(DEMO).unwrap();
+    v["environment"]["flux_scale_factor"] = json!(20.0);
+    v["run"]["mission_years"] = json!(5.0);
+    let with = run(&model_of(&v), 3000, 4);
+    let mut none = v.clone();
+    none["repair"] = Value::Null;
+    let without = run(&model_of(&none), 3000, 4);
+    assert!(
+        with.losses < without.losses,
+        "{} vs {}",
+        with.losses,
+        without.losses
+    );
+    assert!(with.repair.splices > 0);
+    let drawn: u64 = with
+        .repair
+        .demand_mission
+        .iter()
+        .map(|h| {
+            h.iter()
+                .enumerate()
+                .map(|(k, &c)| k as u64 * c)
+                .sum::<u64>()
+        })
+        .sum();
+    // Every splice used one spare segment drawn at dispatch; trips still under way at the end
+    // have drawn stock but not spliced yet.
+    assert!(
+        drawn >= with.repair.splices,
+        "{drawn} drawn, {} spliced",
+        with.repair.splices
+    );
+}
