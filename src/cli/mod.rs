@@ -1,6 +1,7 @@
 //! Command-line interface: clap definitions, one file per subcommand. The only code that prints.
 
 mod check;
+mod demo;
 mod env;
 mod init;
 mod output;
@@ -21,6 +22,8 @@ struct Cli {
 
 #[derive(Subcommand, Debug)]
 enum Command {
+    /// Run the whole chain on the built-in demo scenario into out/demo/.
+    Demo(demo::Args),
     /// Write the built-in demo scenario to FILE for editing.
     Init(init::Args),
     /// Validate a scenario and print the derived design quantities.
@@ -49,6 +52,7 @@ pub enum Format {
 pub fn run() -> anyhow::Result<()> {
     let cli = Cli::parse();
     match cli.command {
+        Command::Demo(a) => demo::run(a),
         Command::Init(a) => init::run(a),
         Command::Check(a) => check::run(a),
         Command::Env(a) => env::run(a),

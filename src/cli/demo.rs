@@ -1,0 +1,62 @@
+//! `tether-risk demo`: the whole chain on the built-in scenario, into `out/demo/`.
+
+use std::path::PathBuf;
+
+use tether_risk::model::Model;
+use tether_risk::report::design::{DesignSummary, ProfileSummary};
+use tether_risk::report::run::run_text;
+use tether_risk::report::write_atomic;
+use tether_risk::scenario;
+
+use super::output::print;
+use super::simulate::{simulate_model, Args as SimArgs};
+use super::Format;
+
+/// Arguments of `demo`.
+#[derive(clap::Args, Debug)]
+#[command(after_help = "Example:\n  tether-risk demo            # writes out/demo/ and prints where the results are\n\nThe demo replaces any earlier results in its output folder.")]
+pub struct Args {
+    /// Output folder.
+    #[arg(long, default_value = "out/demo")]
+    out: PathBuf,
+    /// Worker threads; 0 means one per core.
+    #[arg(long, default_value_t = 0)]
+    threads: usize,
+}
+
+pub fn run(a: Args) -> anyhow::Result<()> {
+    let dir = &a.out;
+    std::fs::create_dir_all(dir).map_err(|e| anyhow::anyhow!("cannot create {}: {e}", dir.display()))?;
+    let write = |name: &str, text: &str| -> anyhow::Result<()> {
+        write_atomic(&dir.join(name), text.as_bytes()).map_err(|e| anyhow::anyhow!("cannot write {name}: {e}"))
+    };
+    write("scenario.json", scenario::DEMO_SCENARIO_JSON)?;
+    let model = Model::build(scenario::demo())?;
+
+    print("1/3 design check\n")?;
+    let design = DesignSummary::from_model(&model);
+    write("design.txt", &design.to_text())?;
+    write("design.json", &(serde_json::to_string_pretty(&design)? + "\n"))?;
+
+    print("2/3 tether profile\n")?;
+    let profile = ProfileSummary::from_model(&model);
+    write("profile.csv", &profile.table().to_csv())?;
+    write("profile.json", &(serde_json::to_string_pretty(&profile)? + "\n"))?;
+
+    print("3/3 Monte Carlo with repair\n")?;
+    let sim = SimArgs {
+        file: "demo".into(),
+        histories: None,
+        seed: None,
+        threads: a.threads,
+        out: Some(dir.clone()),
+        force: true,
+        floor_fraction: 1.0,
+        stockout_target: 0.05,
+        format: Format::Text,
+    };
+    let summary = simulate_model(&model, &sim, dir)?;
+    let text = run_text(&summary);
+    write("simulate.txt", &text)?;
+    print(&format!("\n{}\n{text}\nResults are in {}/\n", design.to_text(), dir.display()))
+}
