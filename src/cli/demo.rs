@@ -14,7 +14,9 @@ use super::Format;
 
 /// Arguments of `demo`.
 #[derive(clap::Args, Debug)]
-#[command(after_help = "Example:\n  tether-risk demo            # writes out/demo/ and prints where the results are\n\nThe demo replaces any earlier results in its output folder.")]
+#[command(
+    after_help = "Example:\n  tether-risk demo            # writes out/demo/ and prints where the results are\n\nThe demo replaces any earlier results in its output folder."
+)]
 pub struct Args {
     /// Output folder.
     #[arg(long, default_value = "out/demo")]
@@ -26,9 +28,11 @@ pub struct Args {
 
 pub fn run(a: Args) -> anyhow::Result<()> {
     let dir = &a.out;
-    std::fs::create_dir_all(dir).map_err(|e| anyhow::anyhow!("cannot create {}: {e}", dir.display()))?;
+    std::fs::create_dir_all(dir)
+        .map_err(|e| anyhow::anyhow!("cannot create {}: {e}", dir.display()))?;
     let write = |name: &str, text: &str| -> anyhow::Result<()> {
-        write_atomic(&dir.join(name), text.as_bytes()).map_err(|e| anyhow::anyhow!("cannot write {name}: {e}"))
+        write_atomic(&dir.join(name), text.as_bytes())
+            .map_err(|e| anyhow::anyhow!("cannot write {name}: {e}"))
     };
     write("scenario.json", scenario::DEMO_SCENARIO_JSON)?;
     let model = Model::build(scenario::demo())?;
@@ -36,12 +40,18 @@ pub fn run(a: Args) -> anyhow::Result<()> {
     print("1/3 design check\n")?;
     let design = DesignSummary::from_model(&model);
     write("design.txt", &design.to_text())?;
-    write("design.json", &(serde_json::to_string_pretty(&design)? + "\n"))?;
+    write(
+        "design.json",
+        &(serde_json::to_string_pretty(&design)? + "\n"),
+    )?;
 
     print("2/3 tether profile\n")?;
     let profile = ProfileSummary::from_model(&model);
     write("profile.csv", &profile.table().to_csv())?;
-    write("profile.json", &(serde_json::to_string_pretty(&profile)? + "\n"))?;
+    write(
+        "profile.json",
+        &(serde_json::to_string_pretty(&profile)? + "\n"),
+    )?;
 
     print("3/3 Monte Carlo with repair\n")?;
     let sim = SimArgs {
@@ -53,10 +63,15 @@ pub fn run(a: Args) -> anyhow::Result<()> {
         force: true,
         floor_fraction: 1.0,
         stockout_target: 0.05,
+        rare_event: None,
         format: Format::Text,
     };
     let summary = simulate_model(&model, &sim, dir)?;
     let text = run_text(&summary);
     write("simulate.txt", &text)?;
-    print(&format!("\n{}\n{text}\nResults are in {}/\n", design.to_text(), dir.display()))
+    print(&format!(
+        "\n{}\n{text}\nResults are in {}/\n",
+        design.to_text(),
+        dir.display()
+    ))
 }

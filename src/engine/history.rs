@@ -41,6 +41,8 @@ pub struct Scratch {
     fleet: Option<Fleet>,
     /// Validation mode: damaged bays and their cut counts.
     pub(crate) validation_bays: Vec<(u32, u64)>,
+    /// Bays with at least one cut and their strike rates, 1/s.
+    damaged: Vec<(u32, f64)>,
 }
 
 impl Scratch {
@@ -68,6 +70,7 @@ impl Scratch {
         self.cuts_in_bay.clear();
         self.cut_times.clear();
         self.bays_with_cuts = 0;
+        self.damaged.clear();
         self.cut_since_s = 0.0;
         self.cut_time_acc_s = 0.0;
         self.max_cuts = 0;
@@ -92,6 +95,10 @@ impl Scratch {
         self.max_cuts = self.max_cuts.max(cuts);
     }
 
+    fn damaged_rate(&self) -> f64 {
+        self.damaged.iter().map(|d| d.1).sum()
+    }
+
     fn cuts_in(&self, bay: u32) -> u32 {
         match self.slot_of_bay[bay as usize] {
             UNTOUCHED => 0,
@@ -100,7 +107,7 @@ impl Scratch {
     }
 
     /// Record `newly` new cuts in the bay of `slot` at `t`.
-    fn add_cuts(&mut self, slot: usize, ribbons: usize, newly: u32, t: f64) {
+    fn add_cuts(&mut self, slot: usize, ribbons: usize, newly: u32, t: f64, bay_rate_s: f64) {
         let before = self.cuts_in_bay[slot];
         for k in 0..newly {
             let i = (before + k) as usize;
@@ -115,12 +122,84 @@ impl Scratch {
                 self.cut_since_s = t;
             }
             self.bays_with_cuts += 1;
+            self.damaged.push((self.touched[slot], bay_rate_s));
         }
     }
 }
 
+/// The rare-event change of measure inside one history: strikes on bays that already have a cut
+/// are made `theta` times as frequent by an extra Poisson process of rate (theta - 1) x (strike
+/// rate of the damaged bays), and the history carries the likelihood ratio
+/// theta^-(strikes on damaged bays) x exp((theta - 1) x integral of that rate over time)
+/// (failure biasing by rate inflation; Heidelberger 1995, ACM TOMACS 5, 43).
+struct Bias {
+    theta: f64,
+    ln_theta: f64,
+    log_w: f64,
+    rate_s: f64,
+    t_last: f64,
+    next_extra_s: f64,
+    rng: rand_pcg::Pcg64Mcg,
+}
+
+impl Bias {
+    fn new(theta: f64, rng: rand_pcg::Pcg64Mcg) -> Self {
+        Bias {
+            theta,
+            ln_theta: theta.ln(),
+            log_w: 0.0,
+            rate_s: 0.0,
+            t_last: 0.0,
+            next_extra_s: f64::INFINITY,
+            rng,
+        }
+    }
+
+    fn active(&self) -> bool {
+        self.theta > 1.0
+    }
+
+    /// The damaged set changed at `t` (or an extra strike was used): close the compensator
+    /// integral at the old rate and draw the next extra strike at the new one.
+    fn changed(&mut self, t: f64, damaged_rate_s: f64) {
+        if !self.active() {
+            return;
+        }
+        self.log_w += (self.theta - 1.0) * self.rate_s * (t - self.t_last);
+        self.t_last = t;
+        self.rate_s = damaged_rate_s;
+        let extra = (self.theta - 1.0) * damaged_rate_s;
+        self.next_extra_s = if extra > 0.0 {
+            t - super::sampler::open01(&mut self.rng).ln() / extra
+        } else {
+            f64::INFINITY
+        };
+    }
+
+    /// A damaged bay chosen in proportion to its strike rate.
+    fn pick_damaged(&mut self, damaged: &[(u32, f64)]) -> usize {
+        let total: f64 = damaged.iter().map(|d| d.1).sum();
+        let mut x = super::sampler::unit(&mut self.rng) * total;
+        for &(b, r) in damaged {
+            if x < r {
+                return b as usize;
+            }
+            x -= r;
+        }
+        damaged.last().map_or(0, |d| d.0 as usize)
+    }
+
+    /// Likelihood ratio of the history observed until `end`.
+    fn weight_at(&self, end: f64) -> f64 {
+        if !self.active() {
+            return 1.0;
+        }
+        (self.log_w + (self.theta - 1.0) * self.rate_s * (end - self.t_last)).exp()
+    }
+}
+
 /// What happened in one history, beyond what went into the tally.
-#[derive(Clone, Copy, Debug, Default, PartialEq)]
+#[derive(Clone, Copy, Debug, PartialEq)]
 pub struct HistoryOutcome {
     /// The system loss, if any.
     pub loss: Option<Loss>,
@@ -128,6 +207,8 @@ pub struct HistoryOutcome {
     pub cuts: u32,
     /// Strikes sampled.
     pub strikes: u64,
+    /// Likelihood ratio of the history (1 without the rare-event estimator).
+    pub weight: f64,
 }
 
 /// Event-log entry for replaying a history.
@@ -164,6 +245,17 @@ pub enum LogEvent {
     Loss(Loss),
 }
 
+impl Default for HistoryOutcome {
+    fn default() -> Self {
+        HistoryOutcome {
+            loss: None,
+            cuts: 0,
+            strikes: 0,
+            weight: 1.0,
+        }
+    }
+}
+
 impl Engine<'_> {
     /// Run history `index`, adding its scores to `tally`. `log`, when given, receives every
     /// event (for `--replay-history`).
@@ -180,6 +272,7 @@ impl Engine<'_> {
         }
         let mut rng = stream(seed, Purpose::Strikes, index);
         let mut repair_rng = stream(seed, Purpose::Repair, index);
+        let mut bias = Bias::new(self.bias_factor, stream(seed, Purpose::Bias, index));
         scratch.reset();
         let mut fleet = scratch.fleet.take();
         if let (Some(f), Some(plan)) = (fleet.as_mut(), self.repair.as_ref()) {
@@ -187,12 +280,18 @@ impl Engine<'_> {
         }
         let mission = self.mission_s;
         let mut out = HistoryOutcome::default();
-        let mut t = 0.0;
-        'history: loop {
-            let t_next = t + self.sampler.next_gap_s(&mut rng);
-            if let (Some(f), Some(plan)) = (fleet.as_mut(), self.repair.as_ref()) {
-                let horizon = t_next.min(mission);
-                while f.queue.next_time().is_some_and(|te| te <= horizon) {
+        let mut t_strike = self.sampler.next_gap_s(&mut rng);
+        loop {
+            let t_repair = fleet
+                .as_ref()
+                .and_then(|f| f.queue.next_time())
+                .unwrap_or(f64::INFINITY);
+            if t_strike.min(t_repair).min(bias.next_extra_s) > mission {
+                break;
+            }
+            // Repair events first on ties, then extra (biased) strikes, then natural strikes.
+            if t_repair <= t_strike && t_repair <= bias.next_extra_s {
+                if let (Some(f), Some(plan)) = (fleet.as_mut(), self.repair.as_ref()) {
                     let Some(ev) = f.queue.pop() else { break };
                     if let Some(l) = log.as_deref_mut() {
                         l.push(LogEvent::Repair {
@@ -200,17 +299,37 @@ impl Engine<'_> {
                             kind: ev.kind,
                         });
                     }
+                    let damaged_before = scratch.damaged.len();
                     self.handle_repair_event(ev.time_s, ev.kind, plan, f, scratch, tally);
+                    if scratch.damaged.len() != damaged_before {
+                        bias.changed(ev.time_s, scratch.damaged_rate());
+                    }
                 }
+                continue;
             }
-            if t_next > mission {
-                break;
-            }
-            t = t_next;
-            let strike = self.sampler.sample(&mut rng);
+            let (t, strike) = if bias.next_extra_s < t_strike {
+                let t = bias.next_extra_s;
+                let j = bias.pick_damaged(&scratch.damaged);
+                let s = self.sampler.sample_in_bay(&mut bias.rng, j);
+                bias.next_extra_s = f64::INFINITY; // drawn again below
+                (t, s)
+            } else {
+                let t = t_strike;
+                t_strike = t + self.sampler.next_gap_s(&mut rng);
+                (t, self.sampler.sample(&mut rng))
+            };
             out.strikes += 1;
+            if bias.active() && scratch.cuts_in(strike.bay) > 0 {
+                bias.log_w -= bias.ln_theta;
+            }
+            let damaged_before = scratch.damaged.len();
             let (newly, loss) =
                 self.apply_strike(t, &strike, scratch, tally, &mut out, log.as_deref_mut());
+            if bias.active()
+                && (scratch.damaged.len() != damaged_before || bias.next_extra_s.is_infinite())
+            {
+                bias.changed(t, scratch.damaged_rate());
+            }
             if newly > 0 {
                 if let (Some(f), Some(plan)) = (fleet.as_mut(), self.repair.as_ref()) {
                     let cuts = scratch.cuts_in(strike.bay);
@@ -227,7 +346,7 @@ impl Engine<'_> {
                     loss.cause = LossCause::StockoutDelay;
                 }
                 out.loss = Some(loss);
-                break 'history;
+                break;
             }
         }
         let end = out.loss.map_or(mission, |l| l.time_s);
@@ -235,6 +354,7 @@ impl Engine<'_> {
             f.finish(plan, end, &mut tally.repair);
         }
         scratch.fleet = fleet;
+        out.weight = bias.weight_at(end);
         self.close_history(end, scratch, tally, &out, log);
         out
     }
@@ -261,6 +381,16 @@ impl Engine<'_> {
         let m = (scratch.max_cuts as usize).min(tally.max_cuts_in_bay.len().saturating_sub(1));
         if let Some(c) = tally.max_cuts_in_bay.get_mut(m) {
             *c += 1;
+        }
+        if let (Some(loss), Some(wb)) = (out.loss, tally.weighted.last_mut()) {
+            let w = out.weight;
+            wb.sum_w += w;
+            wb.sum_w2 += w * w;
+            wb.max_w = wb.max_w.max(w);
+            let y = self.year_of(loss.time_s);
+            if let Some(c) = wb.sum_w_by_year.get_mut(y) {
+                *c += w;
+            }
         }
         if let Some(loss) = out.loss {
             tally.losses += 1;
@@ -354,6 +484,7 @@ impl Engine<'_> {
             *c += u64::from(done);
         }
         if done > 0 && scratch.cuts_in_bay[slot] == 0 {
+            scratch.damaged.retain(|d| d.0 != bay);
             scratch.bays_with_cuts -= 1;
             if scratch.bays_with_cuts == 0 {
                 scratch.cut_time_acc_s += t - scratch.cut_since_s;
@@ -439,7 +570,7 @@ impl Engine<'_> {
         if let Some(c) = tally.cuts_by_year.get_mut(y) {
             *c += u64::from(newly);
         }
-        scratch.add_cuts(slot, n, newly, t);
+        scratch.add_cuts(slot, n, newly, t, self.sampler.bay_rate_per_s(j));
         if let Some(l) = log {
             l.push(LogEvent::Cut {
                 time_s: t,

@@ -23,7 +23,7 @@ pub use summary::{
     BandRow, CauseCounts, CountQuantiles, DurationStats, Interval, LittleLaw, RepairSummary,
     RunSummary, SpareSummary, StationDemand, StationProbability, StationStock, SurvivalPoint,
 };
-pub use tally::{Loss, LossCause, Tally};
+pub use tally::{Loss, LossCause, Tally, WeightedBatch};
 
 use rayon::prelude::*;
 use thiserror::Error;
@@ -85,6 +85,7 @@ pub struct Engine<'m> {
     thickness_m: f64,
     ribbon_density: f64,
     per_width_capacity: f64,
+    bias_factor: f64,
 }
 
 impl<'m> Engine<'m> {
@@ -141,7 +142,26 @@ impl<'m> Engine<'m> {
             thickness_m: t.thickness_m,
             ribbon_density: t.material_density_kg_per_m3,
             per_width_capacity: t.thickness_m * t.allowable_stress_pa,
+            bias_factor: 1.0,
         })
+    }
+
+    /// Switch on the rare-event estimator: strikes (validation mode: cuts) on bays that already
+    /// have a cut become `factor` times as frequent, and every history carries its likelihood
+    /// ratio. `factor` = 1 is plain Monte Carlo.
+    pub fn with_rare_event(mut self, factor: f64) -> Result<Self, EngineError> {
+        if !(factor.is_finite() && factor >= 1.0 && factor <= 1e6) {
+            return Err(EngineError::Options(format!(
+                "rare-event boost factor = {factor} is out of range: allowed [1, 1e6] (dimensionless)"
+            )));
+        }
+        self.bias_factor = factor;
+        Ok(self)
+    }
+
+    /// The rare-event boost factor (1: plain Monte Carlo).
+    pub fn rare_event_factor(&self) -> f64 {
+        self.bias_factor
     }
 
     /// The strike sampler.
@@ -174,6 +194,13 @@ impl<'m> Engine<'m> {
         let mut tally = self.empty_tally();
         let lo = b * BATCH_SIZE;
         let hi = histories.min(lo.saturating_add(BATCH_SIZE));
+        if self.bias_factor > 1.0 {
+            tally.weighted.push(WeightedBatch {
+                batch: b,
+                sum_w_by_year: vec![0.0; self.years],
+                ..Default::default()
+            });
+        }
         for h in lo..hi {
             self.run_history(h, seed, scratch, &mut tally, None);
         }

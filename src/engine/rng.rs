@@ -20,6 +20,9 @@ pub enum Purpose {
     Repair = 0x5245_5041,
     /// Analysis (bootstrap and the like).
     Analysis = 0x414e_4c59,
+    /// Extra strikes of the rare-event estimator (importance sampling), kept apart so the
+    /// natural strikes stay identical with and without it.
+    Bias = 0x4249_4153,
 }
 
 /// SplitMix64 finaliser: a bijective 64-bit mixer with full avalanche.

@@ -126,6 +126,7 @@ struct VelocityBand {
 #[derive(Debug)]
 pub struct StrikeSampler {
     bay_alias: AliasTable,
+    bay_rate_per_s: Vec<f64>,
     bays: Vec<BaySampling>,
     total_rate_per_s: f64,
     ribbon_count: u32,
@@ -320,6 +321,7 @@ impl StrikeSampler {
         };
         Ok(StrikeSampler {
             bay_alias,
+            bay_rate_per_s: rates.iter().map(|r| r / SECONDS_PER_YEAR).collect(),
             bays,
             total_rate_per_s: total_per_year / SECONDS_PER_YEAR,
             ribbon_count: n as u32,
@@ -334,6 +336,11 @@ impl StrikeSampler {
     /// Total strike rate above the floors, whole tether, per second.
     pub fn total_rate_per_s(&self) -> f64 {
         self.total_rate_per_s
+    }
+
+    /// Strike rate above the floor on bay `j` (all its ribbons), per second.
+    pub fn bay_rate_per_s(&self, j: usize) -> f64 {
+        self.bay_rate_per_s[j]
     }
 
     /// Sampling floor diameter of bay `j`, m.

@@ -105,6 +105,9 @@ pub struct RunSummary {
     pub max_cuts_in_one_bay: Vec<u64>,
     /// Fraction of mission time with at least one cut bay (mean over histories).
     pub fraction_of_time_with_cut_bay: f64,
+    /// Rare-event estimator diagnostics (absent for plain Monte Carlo). When present,
+    /// `loss_probability` and `survival_by_year` are the weighted estimates.
+    pub rare_event: Option<RareEventSummary>,
     /// Repair logistics (absent without repair).
     pub repair: Option<RepairSummary>,
     /// Spare-ribbon demand (absent without repair).
@@ -151,13 +154,20 @@ impl RunSummary {
         let conf = sc.run.confidence;
         let h = tally.histories.max(1) as f64;
         let years = engine.mission_years();
-        let loss_probability = cp(tally.losses, tally.histories, conf);
+        let rare_event = RareEventSummary::from_tally(engine, &tally, conf);
+        let loss_probability = match &rare_event {
+            Some(r) => r.loss_probability,
+            None => cp(tally.losses, tally.histories, conf),
+        };
 
         let mut survival_by_year = Vec::with_capacity(tally.losses_by_year.len());
         let mut cum = 0u64;
         for (y, &l) in tally.losses_by_year.iter().enumerate() {
             cum += l;
-            let i = cp(cum, tally.histories, conf);
+            let i = match &rare_event {
+                Some(r) => r.cumulative_by_year[y],
+                None => cp(cum, tally.histories, conf),
+            };
             survival_by_year.push(SurvivalPoint {
                 year: ((y + 1) as f64).min(years),
                 estimate: 1.0 - i.estimate,
@@ -230,6 +240,7 @@ impl RunSummary {
             } else {
                 0.0
             },
+            rare_event,
             repair,
             spares,
             tally,
@@ -506,5 +517,99 @@ impl RunSummary {
                 demand_quantiles: demand,
             },
         ))
+    }
+}
+
+/// Diagnostics of the rare-event (importance sampling) estimator.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct RareEventSummary {
+    /// Method and reference.
+    pub method: String,
+    /// Boost factor of strike (cut) rates on bays that already have a cut.
+    pub boost_factor: f64,
+    /// Weighted loss probability with a normal interval from the weighted samples.
+    pub loss_probability: Interval,
+    /// Standard error of the estimate.
+    pub std_error: f64,
+    /// Standard error over the estimate (absent when no loss was seen).
+    pub relative_error: Option<f64>,
+    /// Kish effective sample size of the lost histories' weights.
+    pub effective_sample_size: f64,
+    /// Largest single weight over the sum of weights.
+    pub largest_weight_share: f64,
+    /// Histories that ended in loss under the biased measure.
+    pub losses_observed: u64,
+    /// Weighted cumulative loss probability by year, with normal intervals.
+    pub cumulative_by_year: Vec<Interval>,
+}
+
+impl RareEventSummary {
+    fn from_tally(engine: &Engine<'_>, tally: &Tally, conf: f64) -> Option<Self> {
+        if tally.weighted.is_empty() {
+            return None;
+        }
+        let mut batches: Vec<&super::tally::WeightedBatch> = tally.weighted.iter().collect();
+        batches.sort_by_key(|b| b.batch);
+        let (mut sw, mut sw2, mut mx) = (0.0, 0.0, 0.0f64);
+        let years = batches[0].sum_w_by_year.len();
+        let mut by_year = vec![0.0; years];
+        for b in &batches {
+            sw += b.sum_w;
+            sw2 += b.sum_w2;
+            mx = mx.max(b.max_w);
+            for (a, x) in by_year.iter_mut().zip(&b.sum_w_by_year) {
+                *a += *x;
+            }
+        }
+        let n = tally.histories.max(1) as f64;
+        let z = z_of(conf);
+        let interval = |sum: f64, sum2: f64| {
+            let mean = sum / n;
+            let var = if n > 1.0 {
+                ((sum2 / n - mean * mean) * n / (n - 1.0)).max(0.0)
+            } else {
+                0.0
+            };
+            let se = (var / n).sqrt();
+            (
+                Interval {
+                    estimate: mean,
+                    ci_low: (mean - z * se).max(0.0),
+                    ci_high: (mean + z * se).min(1.0),
+                    confidence: conf,
+                },
+                se,
+            )
+        };
+        let (lp, se) = interval(sw, sw2);
+        // Per-year second moments are not kept; the yearly intervals use the end-of-mission
+        // second moment, which bounds every earlier year's (weights of earlier losses are a
+        // subset), so they are conservative.
+        let mut cum = 0.0;
+        let cumulative_by_year = by_year
+            .iter()
+            .map(|&w| {
+                cum += w;
+                let mean = cum / n;
+                let half = z * se;
+                Interval {
+                    estimate: mean,
+                    ci_low: (mean - half).max(0.0),
+                    ci_high: (mean + half).min(1.0),
+                    confidence: conf,
+                }
+            })
+            .collect();
+        Some(RareEventSummary {
+            method: "failure biasing by rate inflation on damaged bays, likelihood-ratio weights (Heidelberger 1995, ACM TOMACS 5, 43)".into(),
+            boost_factor: engine.rare_event_factor(),
+            loss_probability: lp,
+            std_error: se,
+            relative_error: (lp.estimate > 0.0).then(|| se / lp.estimate),
+            effective_sample_size: if sw2 > 0.0 { sw * sw / sw2 } else { 0.0 },
+            largest_weight_share: if sw > 0.0 { mx / sw } else { 0.0 },
+            losses_observed: tally.losses,
+            cumulative_by_year,
+        })
     }
 }

@@ -31,7 +31,7 @@ pub struct Loss {
 }
 
 /// Mergeable counts for a set of histories.
-#[derive(Clone, Debug, Default, PartialEq, Eq, Serialize, Deserialize)]
+#[derive(Clone, Debug, Default, PartialEq, Serialize, Deserialize)]
 pub struct Tally {
     /// Histories run.
     pub histories: u64,
@@ -65,6 +65,25 @@ pub struct Tally {
     pub time_observed_s: u64,
     /// Repair logistics counts (empty without repair).
     pub repair: RepairTally,
+    /// Rare-event estimator: one record per batch (empty for plain Monte Carlo). Float sums are
+    /// kept per batch and folded in batch order when the summary is formed, so the result does
+    /// not depend on threads or shards.
+    pub weighted: Vec<WeightedBatch>,
+}
+
+/// Likelihood-ratio sums of one batch (rare-event estimator).
+#[derive(Clone, Debug, Default, PartialEq, Serialize, Deserialize)]
+pub struct WeightedBatch {
+    /// Batch index.
+    pub batch: u64,
+    /// Sum of weight x loss indicator.
+    pub sum_w: f64,
+    /// Sum of squared weight x loss indicator.
+    pub sum_w2: f64,
+    /// Largest single weight of a lost history.
+    pub max_w: f64,
+    /// Sum of weight x indicator of a loss in each mission year.
+    pub sum_w_by_year: Vec<f64>,
 }
 
 impl Tally {
@@ -100,6 +119,7 @@ impl Tally {
         add(&mut self.max_cuts_in_bay, &o.max_cuts_in_bay);
         self.time_with_cut_bay_s += o.time_with_cut_bay_s;
         self.time_observed_s += o.time_observed_s;
+        self.weighted.extend(o.weighted.iter().cloned());
         self.repair.merge(&o.repair);
     }
 }

@@ -6,6 +6,11 @@
 //! Simulated as a continuous-time Markov chain by the direct method (Gillespie 1977, J. Phys.
 //! Chem. 81, 2340): the next event comes after an exponential time at the total rate, and is a
 //! cut or a repair in proportion to their rates. All draws use the strike stream.
+//!
+//! With the rare-event estimator on, the cut rate of intact segments in bays that already have a
+//! cut is multiplied by the boost factor theta, and the history carries the likelihood ratio
+//! theta^-(such cuts) x exp((theta - 1) x lambda x integral of their number over time) — the
+//! same failure biasing by rate inflation as for strikes (Heidelberger 1995, ACM TOMACS 5, 43).
 
 use crate::scenario::ValidationSettings;
 
@@ -30,35 +35,56 @@ impl Engine<'_> {
         let n = self.ribbons as u64;
         let bays = self.model.profile.bays.len() as u64;
         let required = u64::from(v.required_ribbons);
+        let crews = u64::from(v.crews_per_bay);
+        let theta = self.bias_factor;
+        let ln_theta = theta.ln();
+        let lambda = v.cut_rate_per_s;
+        let mut log_w = 0.0;
         let mut out = HistoryOutcome::default();
         let mut t = 0.0;
-        let mut total_cut: u64 = 0;
         // Bays with cuts and their counts (few at any time).
         let mut damaged: Vec<(u32, u64)> = std::mem::take(&mut scratch.validation_bays);
         damaged.clear();
         loop {
-            let cut_rate = v.cut_rate_per_s * (bays * n - total_cut) as f64;
-            let repair_rate: f64 = v.repair_rate_per_s
-                * damaged
-                    .iter()
-                    .map(|&(_, k)| k.min(u64::from(v.crews_per_bay)) as f64)
-                    .sum::<f64>();
-            let total = cut_rate + repair_rate;
+            let intact_damaged: u64 = damaged.iter().map(|&(_, k)| n - k).sum();
+            let undamaged_bays = bays - damaged.len() as u64;
+            let cut_u = lambda * (undamaged_bays * n) as f64;
+            let cut_d = theta * lambda * intact_damaged as f64;
+            let busy: u64 = damaged.iter().map(|&(_, k)| k.min(crews)).sum();
+            let repair = v.repair_rate_per_s * busy as f64;
+            let total = cut_u + cut_d + repair;
             if total <= 0.0 {
                 break;
             }
-            t += -open01(&mut rng).ln() / total;
+            let dt = -open01(&mut rng).ln() / total;
+            let dt_in_mission = dt.min(self.mission_s - t);
+            log_w += (theta - 1.0) * lambda * intact_damaged as f64 * dt_in_mission;
+            t += dt;
             if t > self.mission_s {
                 break;
             }
-            if unit(&mut rng) * total < cut_rate {
-                // A uniformly chosen intact segment: bay by rejection on its intact share.
-                let bay = loop {
-                    let b = ((unit(&mut rng) * bays as f64) as u64).min(bays - 1) as u32;
-                    let k = damaged.iter().find(|d| d.0 == b).map_or(0, |d| d.1);
-                    if unit(&mut rng) * (n as f64) < (n - k) as f64 {
-                        break b;
+            let x = unit(&mut rng) * total;
+            if x < cut_u + cut_d {
+                let bay = if x < cut_u {
+                    // A uniformly chosen undamaged bay, by rejection.
+                    loop {
+                        let b = ((unit(&mut rng) * bays as f64) as u64).min(bays - 1) as u32;
+                        if !damaged.iter().any(|d| d.0 == b) {
+                            break b;
+                        }
                     }
+                } else {
+                    log_w -= ln_theta;
+                    let mut y = unit(&mut rng) * intact_damaged as f64;
+                    let mut pick = damaged[damaged.len() - 1].0;
+                    for &(b, k) in &damaged {
+                        if y < (n - k) as f64 {
+                            pick = b;
+                            break;
+                        }
+                        y -= (n - k) as f64;
+                    }
+                    pick
                 };
                 let k = match damaged.iter_mut().find(|d| d.0 == bay) {
                     Some(d) => {
@@ -70,7 +96,6 @@ impl Engine<'_> {
                         1
                     }
                 };
-                total_cut += 1;
                 out.cuts += 1;
                 scratch.note_max_cuts(k as u32);
                 tally.cuts_by_band[self.bay_band[bay as usize] as usize] += 1;
@@ -87,21 +112,20 @@ impl Engine<'_> {
                 }
             } else {
                 // A repair, in proportion to the busy crews of each damaged bay.
-                let mut x = unit(&mut rng) * repair_rate / v.repair_rate_per_s;
+                let mut y = (x - cut_u - cut_d) / v.repair_rate_per_s;
                 let mut pick = damaged.len() - 1;
                 for (i, &(_, k)) in damaged.iter().enumerate() {
-                    let w = k.min(u64::from(v.crews_per_bay)) as f64;
-                    if x < w {
+                    let w = k.min(crews) as f64;
+                    if y < w {
                         pick = i;
                         break;
                     }
-                    x -= w;
+                    y -= w;
                 }
                 damaged[pick].1 -= 1;
                 if damaged[pick].1 == 0 {
                     damaged.swap_remove(pick);
                 }
-                total_cut -= 1;
                 tally.repair.splices += 1;
                 if let Some(c) = tally.repair.splices_by_year.get_mut(self.year_of(t)) {
                     *c += 1;
@@ -109,6 +133,7 @@ impl Engine<'_> {
             }
         }
         scratch.validation_bays = damaged;
+        out.weight = if theta > 1.0 { log_w.exp() } else { 1.0 };
         let end = out.loss.map_or(self.mission_s, |l| l.time_s);
         self.close_history(end, scratch, tally, &out, log);
         out

@@ -246,8 +246,14 @@ pub fn write_run(dir: &Path, summary: &RunSummary, manifest: &Manifest) -> std::
         band_table(summary).to_markdown().as_bytes(),
     )?;
     if let (Some(r), Some(sp)) = (&summary.repair, &summary.spares) {
-        write_atomic(&dir.join("spares.csv"), stock_table(r, sp).to_csv().as_bytes())?;
-        write_atomic(&dir.join("spares.md"), stock_table(r, sp).to_markdown().as_bytes())?;
+        write_atomic(
+            &dir.join("spares.csv"),
+            stock_table(r, sp).to_csv().as_bytes(),
+        )?;
+        write_atomic(
+            &dir.join("spares.md"),
+            stock_table(r, sp).to_markdown().as_bytes(),
+        )?;
     }
     Ok(())
 }
