@@ -9,8 +9,7 @@ use tether_risk::report::write_atomic;
 use tether_risk::scenario;
 
 use super::output::print;
-use super::simulate::{simulate_model, Args as SimArgs};
-use super::Format;
+use super::simulate::{execute, RunSettingsFile};
 
 /// Arguments of `demo`.
 #[derive(clap::Args, Debug)]
@@ -54,19 +53,16 @@ pub fn run(a: Args) -> anyhow::Result<()> {
     )?;
 
     print("3/3 Monte Carlo with repair\n")?;
-    let sim = SimArgs {
-        file: "demo".into(),
-        histories: None,
-        seed: None,
-        threads: a.threads,
-        out: Some(dir.clone()),
-        force: true,
+    let settings = RunSettingsFile {
+        histories: model.scenario.run.histories,
+        seed: model.scenario.run.seed,
+        shard: None,
         floor_fraction: 1.0,
+        rare_event: 1.0,
+        target_rel_error: None,
         stockout_target: 0.05,
-        rare_event: None,
-        format: Format::Text,
     };
-    let summary = simulate_model(&model, &sim, dir)?;
+    let summary = execute(&model, &settings, a.threads, dir, None, None)?;
     let text = run_text(&summary);
     write("simulate.txt", &text)?;
     print(&format!(

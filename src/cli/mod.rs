@@ -4,6 +4,7 @@ mod check;
 mod demo;
 mod env;
 mod init;
+mod interrupt;
 mod output;
 mod profile;
 mod simulate;

@@ -1,23 +1,28 @@
 //! `tether-risk simulate FILE`: the Monte Carlo.
 
-use std::path::PathBuf;
+use std::path::{Path, PathBuf};
+use std::sync::atomic::AtomicBool;
 use std::time::Instant;
 
-use tether_risk::engine::{Engine, RunOptions, RunSummary};
+use serde::{Deserialize, Serialize};
+use tether_risk::engine::{Checkpoint, Engine, LogEvent, RunOptions, RunStatus, RunSummary};
 use tether_risk::model::Model;
 use tether_risk::report::run::{crate_versions, run_text, write_run, Manifest};
+use tether_risk::report::write_atomic;
+use tether_risk::scenario::{self, Scenario};
 
 use super::output::{load_model, print, InputError};
 use super::Format;
 
 /// Arguments of `simulate`.
-#[derive(clap::Args, Debug)]
+#[derive(clap::Args, Debug, Clone)]
 #[command(
-    after_help = "Examples:\n  tether-risk simulate demo --histories 20000\n  tether-risk simulate my-tether.json --seed 7 --threads 2 --out out/run7 --format json\n\nWrites summary.json, manifest.json and tables (CSV, Markdown) into the output folder."
+    after_help = "Examples:\n  tether-risk simulate demo --histories 20000\n  tether-risk simulate my-tether.json --seed 7 --threads 2 --out out/run7 --format json\n  tether-risk simulate my-tether.json --rare-event 30 --histories 100000\n  tether-risk simulate my-tether.json --shard 0/3 --out out/part0   # then: tether-risk merge out/part* --out out/all\n  tether-risk simulate my-tether.json --target-rel-error 0.1 --histories 10000000\n\nWrites summary.json, manifest.json, scenario.json and tables (CSV, Markdown) into the output\nfolder. Ctrl-C finishes the current chunk of batches, writes partial results and a checkpoint,\nand exits with code 130; --resume DIR continues it."
 )]
 pub struct Args {
     /// Scenario file (JSON); `-` reads standard input; `demo` is the built-in scenario.
-    pub file: String,
+    #[arg(required_unless_present = "resume")]
+    pub file: Option<String>,
     /// Number of histories (default: the scenario's run.histories).
     #[arg(long)]
     pub histories: Option<u64>,
@@ -42,20 +47,72 @@ pub struct Args {
     pub stockout_target: f64,
     /// Rare-event estimator: multiply strike (cut) rates on bays that already have a cut by
     /// FACTOR and weight histories by their likelihood ratio. For loss probabilities far below
-    /// 1/histories. Typical factors 10 to 1000.
+    /// 1/histories. Typical factors 10 to 1000; check the effective sample size it reports.
     #[arg(long, value_name = "FACTOR")]
     pub rare_event: Option<f64>,
+    /// Run only shard I of N (0-based): a deterministic share of the batches. Merge the shards
+    /// with `tether-risk merge`.
+    #[arg(long, value_name = "I/N")]
+    pub shard: Option<String>,
+    /// Stop at a batch boundary once the loss probability's relative standard error is at most
+    /// this (deterministic given the seed).
+    #[arg(long, value_name = "X")]
+    pub target_rel_error: Option<f64>,
+    /// Print the event log of one history (0-based index) and exit.
+    #[arg(long, value_name = "N")]
+    pub replay_history: Option<u64>,
+    /// Continue an interrupted run from its output folder.
+    #[arg(long, value_name = "DIR", conflicts_with_all = ["file", "histories", "seed", "shard", "rare_event", "target_rel_error", "floor_fraction"])]
+    pub resume: Option<PathBuf>,
     /// Output format on stdout.
     #[arg(long, value_enum, default_value_t)]
     pub format: Format,
 }
 
-/// Run a simulation for a built model and write its folder; returns the summary.
-pub fn simulate_model(
-    model: &Model,
-    a: &Args,
-    out_dir: &std::path::Path,
-) -> anyhow::Result<RunSummary> {
+/// Everything needed to redo or continue a run, stored beside its results.
+#[derive(Clone, Debug, Serialize, Deserialize)]
+pub struct RunSettingsFile {
+    /// Histories requested.
+    pub histories: u64,
+    /// Master seed.
+    pub seed: u64,
+    /// Shard, if any.
+    pub shard: Option<(u64, u64)>,
+    /// Sampling floor fraction.
+    pub floor_fraction: f64,
+    /// Rare-event boost factor (1: plain).
+    pub rare_event: f64,
+    /// Target relative error.
+    pub target_rel_error: Option<f64>,
+    /// Stock-out target.
+    pub stockout_target: f64,
+}
+
+#[derive(Serialize, Deserialize)]
+struct CheckpointFile {
+    version: String,
+    scenario_hash: String,
+    settings: RunSettingsFile,
+    checkpoint: Checkpoint,
+}
+
+fn parse_shard(s: &str) -> anyhow::Result<(u64, u64)> {
+    let bad = || {
+        InputError(format!(
+            "--shard = {s} is not valid: use I/N with 0 <= I < N, for example 0/3"
+        ))
+    };
+    let (i, n) = s.split_once('/').ok_or_else(bad)?;
+    let i: u64 = i.trim().parse().map_err(|_| bad())?;
+    let n: u64 = n.trim().parse().map_err(|_| bad())?;
+    if n == 0 || i >= n {
+        return Err(bad().into());
+    }
+    Ok((i, n))
+}
+
+/// Validate the run options given on the command line against the scenario's defaults.
+pub fn settings_from_args(model: &Model, a: &Args) -> anyhow::Result<RunSettingsFile> {
     let histories = a.histories.unwrap_or(model.scenario.run.histories);
     if histories == 0 {
         return Err(InputError(
@@ -63,7 +120,6 @@ pub fn simulate_model(
         )
         .into());
     }
-    let seed = a.seed.unwrap_or(model.scenario.run.seed);
     if !(a.stockout_target > 0.0 && a.stockout_target < 1.0) {
         return Err(InputError(format!(
             "--stockout-target = {} is out of range: allowed (0, 1) (probability)",
@@ -71,54 +127,132 @@ pub fn simulate_model(
         ))
         .into());
     }
-    let mut engine = Engine::new(model, a.floor_fraction).map_err(|e| InputError(e.to_string()))?;
-    if let Some(f) = a.rare_event {
-        engine = engine
-            .with_rare_event(f)
-            .map_err(|e| InputError(e.to_string()))?;
+    if let Some(t) = a.target_rel_error {
+        if !(t > 0.0 && t < 1.0) {
+            return Err(InputError(format!(
+                "--target-rel-error = {t} is out of range: allowed (0, 1) (relative standard error)"
+            ))
+            .into());
+        }
     }
-    let opts = RunOptions {
+    let shard = a.shard.as_deref().map(parse_shard).transpose()?;
+    if shard.is_some() && a.target_rel_error.is_some() {
+        return Err(InputError(
+            "--target-rel-error cannot be combined with --shard: a shard cannot see the other shards' error".into(),
+        )
+        .into());
+    }
+    Ok(RunSettingsFile {
         histories,
-        seed,
-        threads: a.threads,
+        seed: a.seed.unwrap_or(model.scenario.run.seed),
+        shard,
         floor_fraction: a.floor_fraction,
-        shard: None,
+        rare_event: a.rare_event.unwrap_or(1.0),
+        target_rel_error: a.target_rel_error,
+        stockout_target: a.stockout_target,
+    })
+}
+
+/// Build the engine a run's settings ask for.
+pub fn engine_for<'m>(model: &'m Model, s: &RunSettingsFile) -> anyhow::Result<Engine<'m>> {
+    let engine = Engine::new(model, s.floor_fraction).map_err(|e| InputError(e.to_string()))?;
+    Ok(engine
+        .with_rare_event(s.rare_event)
+        .map_err(|e| InputError(e.to_string()))?)
+}
+
+/// Run (or continue) a simulation and write its folder; returns the summary.
+pub fn execute(
+    model: &Model,
+    s: &RunSettingsFile,
+    threads: usize,
+    out_dir: &Path,
+    start: Option<Checkpoint>,
+    stop: Option<&AtomicBool>,
+) -> anyhow::Result<RunSummary> {
+    let engine = engine_for(model, s)?;
+    let opts = RunOptions {
+        histories: s.histories,
+        seed: s.seed,
+        threads,
+        floor_fraction: s.floor_fraction,
+        shard: s.shard,
+        target_rel_error: s.target_rel_error,
     };
-    let bar = indicatif::ProgressBar::new(histories);
+    let share: u64 = Engine::batches_of(&opts)
+        .iter()
+        .map(|&b| {
+            (s.histories - b * tether_risk::engine::BATCH_SIZE).min(tether_risk::engine::BATCH_SIZE)
+        })
+        .sum();
+    let bar = indicatif::ProgressBar::new(share);
     bar.set_style(
         indicatif::ProgressStyle::with_template("{spinner} {pos}/{len} histories {wide_bar} {eta}")
             .unwrap_or_else(|_| indicatif::ProgressStyle::default_bar()),
     );
-    let start = Instant::now();
-    let tally = engine.run(&opts, &|done| bar.set_position(done))?;
+    let started = Instant::now();
+    let outcome = engine.run_resumable(&opts, start, &|done| bar.set_position(done), stop)?;
     bar.finish_and_clear();
-    let summary = RunSummary::from_tally(&engine, tally, histories, seed, None, a.stockout_target);
+    let summary = RunSummary::from_outcome(
+        &engine,
+        outcome.tally.clone(),
+        s.histories,
+        s.seed,
+        s.shard,
+        s.stockout_target,
+        outcome.status,
+        s.target_rel_error,
+    );
     let manifest = Manifest {
         tool: "tether-risk".into(),
         version: tether_risk::VERSION.into(),
         scenario: summary.scenario.clone(),
         scenario_hash: summary.scenario_hash.clone(),
-        seed,
+        seed: s.seed,
         histories: summary.histories,
         batch_size: summary.batch_size,
-        threads: if a.threads == 0 {
+        threads: if threads == 0 {
             rayon::current_num_threads()
         } else {
-            a.threads
+            threads
         },
-        shard: None,
+        shard: s.shard.map(|(i, n)| [i, n]),
         crate_versions: crate_versions(),
         random_streams: "Pcg64Mcg per (seed, purpose, history), seeded through SplitMix64".into(),
-        wall_time_s: start.elapsed().as_secs_f64(),
+        wall_time_s: started.elapsed().as_secs_f64(),
         command: std::env::args().collect(),
     };
-    write_run(out_dir, &summary, &manifest)
-        .map_err(|e| anyhow::anyhow!("cannot write results to {}: {e}", out_dir.display()))?;
+    let io =
+        |e: std::io::Error| anyhow::anyhow!("cannot write results to {}: {e}", out_dir.display());
+    write_atomic(
+        &out_dir.join("scenario.json"),
+        (serde_json::to_string_pretty(&model.scenario.spec)? + "\n").as_bytes(),
+    )
+    .map_err(io)?;
+    if let Some(t) = &model.scenario.environment.flux_table_json {
+        write_atomic(&out_dir.join("flux_table.json"), t.as_bytes()).map_err(io)?;
+    }
+    let checkpoint_path = out_dir.join("checkpoint.json");
+    if outcome.status == RunStatus::Interrupted {
+        let c = CheckpointFile {
+            version: tether_risk::VERSION.into(),
+            scenario_hash: model.scenario.hash_hex(),
+            settings: s.clone(),
+            checkpoint: Checkpoint {
+                tally: outcome.tally,
+                batches_done: outcome.batches_done,
+            },
+        };
+        write_atomic(&checkpoint_path, serde_json::to_string(&c)?.as_bytes()).map_err(io)?;
+    } else if checkpoint_path.exists() {
+        std::fs::remove_file(&checkpoint_path).map_err(io)?;
+    }
+    write_run(out_dir, &summary, &manifest).map_err(io)?;
     Ok(summary)
 }
 
 /// Refuse to overwrite a folder holding results unless forced.
-pub fn prepare_out_dir(dir: &std::path::Path, force: bool) -> anyhow::Result<()> {
+pub fn prepare_out_dir(dir: &Path, force: bool) -> anyhow::Result<()> {
     if dir.join("summary.json").exists() && !force {
         return Err(InputError(format!(
             "{} already holds results (summary.json); choose another --out or pass --force to replace them",
@@ -131,22 +265,130 @@ pub fn prepare_out_dir(dir: &std::path::Path, force: bool) -> anyhow::Result<()>
     Ok(())
 }
 
+/// Rebuild the model saved in a result folder (scenario.json and any flux table).
+pub fn model_from_dir(dir: &Path) -> anyhow::Result<Model> {
+    let text = std::fs::read_to_string(dir.join("scenario.json")).map_err(|e| {
+        InputError(format!(
+            "cannot read {}: {e}",
+            dir.join("scenario.json").display()
+        ))
+    })?;
+    let spec = scenario::parse_spec(&text)?;
+    let table = std::fs::read_to_string(dir.join("flux_table.json")).ok();
+    Ok(Model::build(Scenario::from_spec(spec, table)?)?)
+}
+
+fn replay(model: &Model, s: &RunSettingsFile, index: u64) -> anyhow::Result<String> {
+    let engine = engine_for(model, s)?;
+    let (outcome, log) = engine.replay(index, s.seed);
+    let mut o = format!(
+        "History {index} of scenario \"{}\" (seed {}): {} strikes sampled, {} cuts, {}\n",
+        model.scenario.spec.name,
+        s.seed,
+        outcome.strikes,
+        outcome.cuts,
+        match outcome.loss {
+            Some(l) => format!(
+                "system loss at {:.4} years in bay {} ({:?})",
+                l.time_s / 3.15576e7,
+                l.bay,
+                l.cause
+            ),
+            None => "no loss".into(),
+        }
+    );
+    for e in &log {
+        let line = match e {
+            LogEvent::Strike { removed_m, .. } if *removed_m <= 0.0 => continue,
+            LogEvent::Strike {
+                time_s,
+                strike,
+                removed_m,
+            } => format!(
+                "{:>12.1} h  strike  bay {:>5} ribbon {:>2}  d {:.3} mm  v {:.1} km/s  removed {:.3} mm",
+                time_s / 3600.0,
+                strike.bay,
+                strike.ribbon,
+                strike.diameter_m * 1e3,
+                strike.speed_m_per_s / 1e3,
+                removed_m * 1e3
+            ),
+            LogEvent::Cut {
+                time_s,
+                bay,
+                newly_cut,
+                survivors,
+            } => format!(
+                "{:>12.1} h  CUT     bay {bay:>5}  newly cut {newly_cut}, survivors {survivors}",
+                time_s / 3600.0
+            ),
+            LogEvent::Repair { time_s, kind } => format!("{:>12.1} h  repair  {kind:?}", time_s / 3600.0),
+            LogEvent::Loss(l) => format!("{:>12.1} h  LOSS    bay {:>5} ({:?})", l.time_s / 3600.0, l.bay, l.cause),
+        };
+        o.push_str(&line);
+        o.push('\n');
+    }
+    Ok(o)
+}
+
 pub fn run(a: Args) -> anyhow::Result<()> {
-    let model = load_model(&a.file)?;
-    let out_dir = a
-        .out
-        .clone()
-        .unwrap_or_else(|| PathBuf::from("out").join(sanitize(&model.scenario.spec.name)));
-    prepare_out_dir(&out_dir, a.force)?;
-    let summary = simulate_model(&model, &a, &out_dir)?;
+    let (model, settings, out_dir, start) = if let Some(dir) = &a.resume {
+        let text = std::fs::read_to_string(dir.join("checkpoint.json")).map_err(|e| {
+            InputError(format!(
+                "{} holds no checkpoint to resume ({e}); only an interrupted run leaves one",
+                dir.display()
+            ))
+        })?;
+        let c: CheckpointFile = serde_json::from_str(&text)
+            .map_err(|e| InputError(format!("checkpoint.json is damaged: {e}")))?;
+        let model = model_from_dir(dir)?;
+        if c.scenario_hash != model.scenario.hash_hex() || c.version != tether_risk::VERSION {
+            return Err(InputError(format!(
+                "the checkpoint in {} was written for scenario {} by version {}; this is scenario {} and version {}",
+                dir.display(),
+                c.scenario_hash,
+                c.version,
+                model.scenario.hash_hex(),
+                tether_risk::VERSION
+            ))
+            .into());
+        }
+        (model, c.settings, dir.clone(), Some(c.checkpoint))
+    } else {
+        let file = a.file.as_deref().unwrap_or("demo");
+        let model = load_model(file)?;
+        let settings = settings_from_args(&model, &a)?;
+        if let Some(h) = a.replay_history {
+            if h >= settings.histories {
+                return Err(InputError(format!(
+                    "--replay-history = {h} is out of range: allowed [0, {}] (history index)",
+                    settings.histories - 1
+                ))
+                .into());
+            }
+            return print(&replay(&model, &settings, h)?);
+        }
+        let out_dir = a
+            .out
+            .clone()
+            .unwrap_or_else(|| PathBuf::from("out").join(sanitize(&model.scenario.spec.name)));
+        prepare_out_dir(&out_dir, a.force)?;
+        (model, settings, out_dir, None)
+    };
+    let stop = super::interrupt::flag();
+    let summary = execute(&model, &settings, a.threads, &out_dir, start, Some(stop))?;
     match a.format {
-        Format::Json => print(&(serde_json::to_string_pretty(&summary)? + "\n")),
+        Format::Json => print(&(serde_json::to_string_pretty(&summary)? + "\n"))?,
         Format::Text | Format::Csv => print(&format!(
             "{}\nResults written to {}\n",
             run_text(&summary),
             out_dir.display()
-        )),
+        ))?,
     }
+    if summary.status == RunStatus::Interrupted {
+        return Err(super::interrupt::Interrupted(out_dir.display().to_string()).into());
+    }
+    Ok(())
 }
 
 /// A scenario name made safe as a folder name.

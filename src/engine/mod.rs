@@ -25,7 +25,10 @@ pub use summary::{
 };
 pub use tally::{Loss, LossCause, Tally, WeightedBatch};
 
+use std::sync::atomic::{AtomicBool, Ordering};
+
 use rayon::prelude::*;
+use serde::{Deserialize, Serialize};
 use thiserror::Error;
 
 use crate::model::Model;
@@ -41,7 +44,7 @@ pub const BATCH_SIZE: u64 = 1000;
 pub const ALTITUDE_BANDS: usize = 20;
 
 /// Batches run between two folds of the running tally.
-const BATCHES_PER_CHUNK: u64 = 64;
+const BATCHES_PER_CHUNK: u64 = 16;
 
 /// Engine failures.
 #[derive(Debug, Error)]
@@ -67,6 +70,41 @@ pub struct RunOptions {
     pub floor_fraction: f64,
     /// Run only the batches b with b % count == index.
     pub shard: Option<(u64, u64)>,
+    /// Stop at a chunk boundary once the loss probability's relative standard error is at most
+    /// this.
+    pub target_rel_error: Option<f64>,
+}
+
+/// How a run ended.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum RunStatus {
+    /// Every batch ran.
+    Complete,
+    /// Stopped early because the target relative error was reached.
+    TargetMet,
+    /// Stopped by a signal; a checkpoint can resume it.
+    Interrupted,
+}
+
+/// What a run returns.
+#[derive(Clone, Debug)]
+pub struct RunOutcome {
+    /// Merged tally of the batches run.
+    pub tally: Tally,
+    /// How the run ended.
+    pub status: RunStatus,
+    /// Number of this run's batches done (a prefix of [`Engine::batches_of`]).
+    pub batches_done: u64,
+}
+
+/// Enough to resume an interrupted run exactly.
+#[derive(Clone, Debug, Serialize, Deserialize)]
+pub struct Checkpoint {
+    /// Tally of the batches done.
+    pub tally: Tally,
+    /// Number of batches done (a prefix of the run's batch list).
+    pub batches_done: u64,
 }
 
 /// A model prepared for sampling. Immutable and shared by all threads.
@@ -223,18 +261,57 @@ impl<'m> Engine<'m> {
         opts: &RunOptions,
         progress: &(dyn Fn(u64) + Sync),
     ) -> Result<Tally, EngineError> {
+        Ok(self.run_resumable(opts, None, progress, None)?.tally)
+    }
+
+    /// The batches this run (or shard) owns, in the order they are run.
+    pub fn batches_of(opts: &RunOptions) -> Vec<u64> {
+        let batches = opts.histories.div_ceil(BATCH_SIZE);
+        match opts.shard {
+            Some((i, n)) => (0..batches).filter(|b| b % n == i).collect(),
+            None => (0..batches).collect(),
+        }
+    }
+
+    /// Run from a checkpoint (or the start), stopping early when `stop` is raised (after the
+    /// current chunk of batches) or when `opts.target_rel_error` is reached. Stopping points
+    /// are chunk boundaries, which depend only on the batch list, so an early stop is
+    /// deterministic given the seed.
+    pub fn run_resumable(
+        &self,
+        opts: &RunOptions,
+        start: Option<Checkpoint>,
+        progress: &(dyn Fn(u64) + Sync),
+        stop: Option<&AtomicBool>,
+    ) -> Result<RunOutcome, EngineError> {
         let pool = rayon::ThreadPoolBuilder::new()
             .num_threads(opts.threads)
             .build()
             .map_err(|e| EngineError::Options(format!("cannot start worker threads: {e}")))?;
-        let batches = opts.histories.div_ceil(BATCH_SIZE);
-        let mine: Vec<u64> = match opts.shard {
-            Some((i, n)) => (0..batches).filter(|b| b % n == i).collect(),
-            None => (0..batches).collect(),
+        let mine = Self::batches_of(opts);
+        let (mut total, mut done_batches) = match start {
+            Some(c) => (c.tally, c.batches_done as usize),
+            None => (self.empty_tally(), 0),
         };
-        let mut total = self.empty_tally();
-        let mut done = 0u64;
-        for chunk in mine.chunks(BATCHES_PER_CHUNK as usize) {
+        if done_batches > mine.len() {
+            return Err(EngineError::Options(
+                "the checkpoint does not belong to this run".into(),
+            ));
+        }
+        let mut status = RunStatus::Complete;
+        while done_batches < mine.len() {
+            if let Some(t) = opts.target_rel_error {
+                if self.relative_error(&total).is_some_and(|r| r <= t) {
+                    status = RunStatus::TargetMet;
+                    break;
+                }
+            }
+            if stop.is_some_and(|s| s.load(Ordering::SeqCst)) {
+                status = RunStatus::Interrupted;
+                break;
+            }
+            let chunk =
+                &mine[done_batches..(done_batches + BATCHES_PER_CHUNK as usize).min(mine.len())];
             let tallies: Vec<Tally> = pool.install(|| {
                 chunk
                     .par_iter()
@@ -246,11 +323,46 @@ impl<'m> Engine<'m> {
             });
             for t in &tallies {
                 total.merge(t);
-                done += t.histories;
             }
-            progress(done);
+            done_batches += chunk.len();
+            progress(total.histories);
         }
-        Ok(total)
+        if status == RunStatus::Complete {
+            if let Some(t) = opts.target_rel_error {
+                if self.relative_error(&total).is_some_and(|r| r <= t) {
+                    status = RunStatus::TargetMet;
+                }
+            }
+        }
+        Ok(RunOutcome {
+            tally: total,
+            status,
+            batches_done: done_batches as u64,
+        })
+    }
+
+    /// Relative standard error of the loss-probability estimate of a tally (None before the
+    /// first loss).
+    pub fn relative_error(&self, t: &Tally) -> Option<f64> {
+        if t.losses == 0 || t.histories < 2 {
+            return None;
+        }
+        let n = t.histories as f64;
+        if self.bias_factor > 1.0 {
+            let mut batches: Vec<&WeightedBatch> = t.weighted.iter().collect();
+            batches.sort_by_key(|b| b.batch);
+            let (mut sw, mut sw2) = (0.0, 0.0);
+            for b in batches {
+                sw += b.sum_w;
+                sw2 += b.sum_w2;
+            }
+            let mean = sw / n;
+            let var = ((sw2 / n - mean * mean) * n / (n - 1.0)).max(0.0);
+            (mean > 0.0).then(|| (var / n).sqrt() / mean)
+        } else {
+            let p = t.losses as f64 / n;
+            Some(((1.0 - p) / (p * n)).sqrt())
+        }
     }
 
     /// Reusable per-thread state for this engine.

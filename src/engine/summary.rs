@@ -81,6 +81,12 @@ pub struct RunSummary {
     pub batch_size: u64,
     /// Shard `[index, count]` when this is a partial shard result.
     pub shard: Option<[u64; 2]>,
+    /// How the run ended: complete, target met, or interrupted (then the results are partial).
+    pub status: super::RunStatus,
+    /// Requested relative standard error of the loss probability, if any.
+    pub target_rel_error: Option<f64>,
+    /// Relative standard error reached (absent before the first loss).
+    pub relative_error: Option<f64>,
     /// Mission length, years.
     pub mission_years: f64,
     /// Probability of at least one system loss by mission end.
@@ -145,6 +151,31 @@ impl RunSummary {
         shard: Option<(u64, u64)>,
         stockout_target: f64,
     ) -> Self {
+        Self::from_outcome(
+            engine,
+            tally,
+            histories_requested,
+            seed,
+            shard,
+            stockout_target,
+            super::RunStatus::Complete,
+            None,
+        )
+    }
+
+    /// Form the summary of a run that may have stopped early.
+    #[allow(clippy::too_many_arguments)]
+    pub fn from_outcome(
+        engine: &Engine<'_>,
+        tally: Tally,
+        histories_requested: u64,
+        seed: u64,
+        shard: Option<(u64, u64)>,
+        stockout_target: f64,
+        status: super::RunStatus,
+        target_rel_error: Option<f64>,
+    ) -> Self {
+        let relative_error = engine.relative_error(&tally);
         let (repair, spares) = match Self::repair_parts(engine, &tally, stockout_target) {
             Some((r, s)) => (Some(r), Some(s)),
             None => (None, None),
@@ -216,6 +247,9 @@ impl RunSummary {
             histories: tally.histories,
             batch_size: BATCH_SIZE,
             shard: shard.map(|(i, n)| [i, n]),
+            status,
+            target_rel_error,
+            relative_error,
             mission_years: years,
             loss_probability,
             survival_by_year,

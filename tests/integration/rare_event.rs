@@ -25,6 +25,7 @@ fn summary(model: &Model, histories: u64, seed: u64, factor: f64) -> RunSummary 
         threads: 2,
         floor_fraction: 1.0,
         shard: None,
+        target_rel_error: None,
     };
     let tally = engine.run(&opts, &|_| {}).unwrap();
     RunSummary::from_tally(&engine, tally, histories, seed, None, 0.05)
@@ -133,6 +134,7 @@ fn boost_factor_one_is_plain_monte_carlo_bit_for_bit() {
         threads: 1,
         floor_fraction: 1.0,
         shard: None,
+        target_rel_error: None,
     };
     let b = RunSummary::from_tally(
         &engine,

@@ -21,6 +21,7 @@ fn run(model: &Model, histories: u64, seed: u64) -> Tally {
         threads: 2,
         floor_fraction: 1.0,
         shard: None,
+        target_rel_error: None,
     };
     engine.run(&opts, &|_| {}).unwrap()
 }
@@ -124,6 +125,7 @@ fn littles_law_holds_for_the_repair_queue() {
         threads: 2,
         floor_fraction: 1.0,
         shard: None,
+        target_rel_error: None,
     };
     let tally = engine.run(&opts, &|_| {}).unwrap();
     let s = RunSummary::from_tally(&engine, tally, 400, 5, None, 0.05);
