@@ -3,6 +3,7 @@
 mod check;
 mod demo;
 mod env;
+mod estimate;
 mod init;
 mod interrupt;
 mod output;
@@ -35,6 +36,8 @@ enum Command {
     Profile(profile::Args),
     /// Run the Monte Carlo: loss probability, survival by year, cuts by altitude.
     Simulate(simulate::Args),
+    /// Fast Markov estimate of loss probability by year (independent bays, exponential repair)
+    Estimate(estimate::Args),
 }
 
 /// Machine-readable or human output.
@@ -59,5 +62,6 @@ pub fn run() -> anyhow::Result<()> {
         Command::Env(a) => env::run(a),
         Command::Profile(a) => profile::run(a),
         Command::Simulate(a) => simulate::run(a),
+        Command::Estimate(a) => estimate::run(a),
     }
 }

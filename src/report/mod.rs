@@ -6,6 +6,7 @@
 mod atomic;
 pub mod design;
 pub mod env;
+pub mod estimate;
 pub mod run;
 pub mod table;
 

@@ -4,5 +4,6 @@ mod util;
 
 mod bad_input;
 mod commands;
+mod estimate;
 mod rare_event;
 mod repair;
