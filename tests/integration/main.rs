@@ -4,3 +4,4 @@ mod util;
 
 mod bad_input;
 mod commands;
+mod engine_validation;
