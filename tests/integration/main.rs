@@ -4,6 +4,7 @@ mod util;
 
 mod bad_input;
 mod commands;
+mod engine_validation;
 mod estimate;
 mod rare_event;
 mod repair;
