@@ -6,6 +6,8 @@
 mod atomic;
 pub mod design;
 pub mod env;
+pub mod html;
+pub mod plot;
 pub mod run;
 pub mod table;
 
