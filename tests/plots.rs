@@ -337,6 +337,7 @@ fn degenerate_inputs_give_errors_or_notes() {
     // All zero.
     let zero = Series::new("zero", vec![0.0, 1.0, 2.0], vec![0.0, 0.0, 0.0]);
     let f = survival_chart(std::slice::from_ref(&zero), ProbabilityAxis::LossLog, &s).unwrap();
+    maybe_write("degenerate_all_zero_loss", &f);
     assert!(f.notes.iter().any(|n| n.contains("zero")));
     let f = survival_chart(&[zero], ProbabilityAxis::Survival, &s).unwrap();
     assert!(f.notes.is_empty());
@@ -396,6 +397,7 @@ fn degenerate_inputs_give_errors_or_notes() {
         &s,
     )
     .unwrap();
+    maybe_write("degenerate_single_bin", &f);
     assert!(f.notes.is_empty());
 
     // NaN and out-of-range values -> typed errors.

@@ -207,6 +207,12 @@ impl Chart for DistChart<'_> {
                 )
             }))
             .map_err(draw_err)?;
+        // A zero-width bin would vanish: draw it as a spike.
+        chart
+            .draw_series(self.bins.iter().filter(|b| b.lo == b.hi).map(|b| {
+                PathElement::new(vec![(b.lo, 0.0), (b.lo, b.height)], colour.stroke_width(3))
+            }))
+            .map_err(draw_err)?;
         if !integer_x {
             // Thin outlines separate adjacent bins.
             chart
