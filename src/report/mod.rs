@@ -7,6 +7,8 @@ mod atomic;
 pub mod design;
 pub mod env;
 pub mod estimate;
+pub mod html;
+pub mod plot;
 pub mod run;
 pub mod table;
 
