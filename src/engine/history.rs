@@ -315,9 +315,12 @@ impl Engine<'_> {
                 bias.next_extra_s = f64::INFINITY; // drawn again below
                 (t, s)
             } else {
+                // Draw order per strike: its details, then the gap to the next one (the same
+                // order as the bare strike stream).
                 let t = t_strike;
+                let s = self.sampler.sample(&mut rng);
                 t_strike = t + self.sampler.next_gap_s(&mut rng);
-                (t, self.sampler.sample(&mut rng))
+                (t, s)
             };
             out.strikes += 1;
             if bias.active() && scratch.cuts_in(strike.bay) > 0 {
