@@ -188,7 +188,7 @@ mod tests {
         let film = RibbonTarget::new(0.03, 20e-6, 1560.0).unwrap();
         for &d in &[1e-7, 3e-7, 1e-6, 2.9e-6, 3e-6, 1e-5, 1e-3] {
             for &v in &[1_000.0, 5_000.0, 20_000.0, 70_000.0] {
-                for &a in &[0.0, 0.5, 1.2, 1.5, 1.5707] {
+                for &a in &[0.0, 0.5, 1.2, 1.5, 1.5706] {
                     let impact = Impact::new(d, v, a, 2500.0).unwrap();
                     let d_c = law.ballistic_limit_diameter_m(&impact, &film);
                     if (d / d_c - 1.0).abs() < 1e-9 {
