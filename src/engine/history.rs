@@ -210,6 +210,9 @@ pub struct HistoryOutcome {
     pub strikes: u64,
     /// Likelihood ratio of the history (1 without the rare-event estimator).
     pub weight: f64,
+    /// An impossible state reached by this history (it is counted, and the run aborts past a
+    /// threshold); replay it with `simulate --replay-history`.
+    pub anomaly: Option<&'static str>,
 }
 
 /// Event-log entry for replaying a history.
@@ -253,6 +256,7 @@ impl Default for HistoryOutcome {
             cuts: 0,
             strikes: 0,
             weight: 1.0,
+            anomaly: None,
         }
     }
 }
@@ -282,6 +286,7 @@ impl Engine<'_> {
         let mission = self.mission_s;
         let mut out = HistoryOutcome::default();
         let mut t_strike = self.sampler.next_gap_s(&mut rng);
+        let mut last_t = 0.0;
         loop {
             let t_repair = fleet
                 .as_ref()
@@ -300,8 +305,28 @@ impl Engine<'_> {
                             kind: ev.kind,
                         });
                     }
+                    if !(ev.time_s >= last_t) {
+                        out.anomaly = Some("time went backwards at a repair event");
+                        break;
+                    }
+                    last_t = ev.time_s;
                     let damaged_before = scratch.damaged.len();
                     self.handle_repair_event(ev.time_s, ev.kind, plan, f, scratch, tally);
+                    if self.strict {
+                        let bay = match ev.kind {
+                            EventKind::SpliceDone { bay, .. } | EventKind::Detect { bay } => {
+                                Some(bay)
+                            }
+                            _ => Some(u32::MAX),
+                        };
+                        if let Some(a) = self
+                            .check_invariants(scratch, bay)
+                            .or_else(|| f.check(plan))
+                        {
+                            out.anomaly = Some(a);
+                            break;
+                        }
+                    }
                     if scratch.damaged.len() != damaged_before {
                         bias.changed(ev.time_s, scratch.damaged_rate());
                     }
@@ -323,6 +348,18 @@ impl Engine<'_> {
                 (t, s)
             };
             out.strikes += 1;
+            if !(t >= last_t) {
+                out.anomaly = Some("time went backwards at a strike");
+                break;
+            }
+            last_t = t;
+            if !(strike.diameter_m.is_finite()
+                && strike.diameter_m > 0.0
+                && strike.speed_m_per_s.is_finite())
+            {
+                out.anomaly = Some("non-finite strike");
+                break;
+            }
             if bias.active() && scratch.cuts_in(strike.bay) > 0 {
                 bias.log_w -= bias.ln_theta;
             }
@@ -333,6 +370,12 @@ impl Engine<'_> {
                 && (scratch.damaged.len() != damaged_before || bias.next_extra_s.is_infinite())
             {
                 bias.changed(t, scratch.damaged_rate());
+            }
+            if self.strict {
+                if let Some(a) = self.check_invariants(scratch, Some(strike.bay)) {
+                    out.anomaly = Some(a);
+                    break;
+                }
             }
             if newly > 0 {
                 if let (Some(f), Some(plan)) = (fleet.as_mut(), self.repair.as_ref()) {
@@ -359,19 +402,29 @@ impl Engine<'_> {
         }
         scratch.fleet = fleet;
         out.weight = bias.weight_at(end);
-        self.close_history(end, scratch, tally, &out, log);
+        if self.strict && out.anomaly.is_none() && out.loss.is_none() {
+            out.anomaly = self.check_invariants(scratch, None);
+        }
+        if !out.weight.is_finite() && out.anomaly.is_none() {
+            out.anomaly = Some("non-finite likelihood ratio");
+        }
+        self.close_history(index, end, scratch, tally, &out, log);
         out
     }
 
     /// Scores common to every history kind.
     pub(crate) fn close_history(
         &self,
+        index: u64,
         end: f64,
         scratch: &mut Scratch,
         tally: &mut Tally,
         out: &HistoryOutcome,
         log: Option<&mut Vec<LogEvent>>,
     ) {
+        if let Some(reason) = out.anomaly {
+            tally.record_anomaly(index, reason);
+        }
         let mut cut_time = scratch.cut_time_acc_s;
         if scratch.bays_with_cuts > 0 {
             cut_time += (end - scratch.cut_since_s).max(0.0);
@@ -408,6 +461,63 @@ impl Engine<'_> {
                 l.push(LogEvent::Loss(loss));
             }
         }
+    }
+
+    /// Consistency of the touched bays (all, or only `only_bay`; strict mode, used by the tests
+    /// after every event on the bay the event touched, and on all bays at the end of a history):
+    /// cut counts match the intact flags, holes are finite and within the ribbon, damaged bays
+    /// are listed, and no intact ribbon is overloaded.
+    pub(crate) fn check_invariants(
+        &self,
+        scratch: &Scratch,
+        only_bay: Option<u32>,
+    ) -> Option<&'static str> {
+        let n = self.ribbons;
+        let slots = match only_bay {
+            Some(b) => match scratch.slot_of_bay.get(b as usize) {
+                Some(&s) if s != UNTOUCHED => s as usize..s as usize + 1,
+                _ => 0..0,
+            },
+            None => 0..scratch.touched.len(),
+        };
+        for slot in slots {
+            let bay = scratch.touched[slot];
+            let base = slot * n;
+            let w = self.model.profile.bays[bay as usize].width_m;
+            let intact = &scratch.intact[base..base + n];
+            let cut = intact.iter().filter(|&&ok| !ok).count() as u32;
+            if cut != scratch.cuts_in_bay[slot] {
+                return Some("cut count does not match the segments' state");
+            }
+            if scratch.worst_hole_m[base..base + n]
+                .iter()
+                .any(|h| !(h.is_finite() && *h >= 0.0 && *h <= w))
+            {
+                return Some("hole width outside [0, ribbon width]");
+            }
+            if (cut > 0) != scratch.damaged.iter().any(|d| d.0 == bay) {
+                return Some("damaged-bay list out of step");
+            }
+            if cut as usize == n {
+                continue; // a lost bay ends the history
+            }
+            let mut loads = [0.0f64; MAX_RIBBONS];
+            let tension = self.model.profile.bays[bay as usize].max_tension_n;
+            if !tension.is_finite() {
+                return Some("non-finite tension");
+            }
+            self.sharing.distribute(intact, tension, &mut loads[..n]);
+            for i in 0..n {
+                let cap = (w - scratch.worst_hole_m[base + i]).max(0.0) * self.per_width_capacity;
+                if !loads[i].is_finite() {
+                    return Some("non-finite ribbon load");
+                }
+                if intact[i] && loads[i] > cap * (1.0 - CAPACITY_TOLERANCE) {
+                    return Some("an intact ribbon is overloaded after settling");
+                }
+            }
+        }
+        None
     }
 
     pub(crate) fn year_of(&self, time_s: f64) -> usize {

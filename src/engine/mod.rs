@@ -23,7 +23,7 @@ pub use summary::{
     BandRow, CauseCounts, CountQuantiles, DurationStats, Interval, LittleLaw, RepairSummary,
     RunSummary, SpareSummary, StationDemand, StationProbability, StationStock, SurvivalPoint,
 };
-pub use tally::{Loss, LossCause, Tally, WeightedBatch};
+pub use tally::{Loss, LossCause, Tally, WeightedBatch, ANOMALY_EXAMPLES};
 
 use std::sync::atomic::{AtomicBool, Ordering};
 
@@ -55,6 +55,18 @@ pub enum EngineError {
     /// Bad run options.
     #[error("{0}")]
     Options(String),
+    /// Too many histories reached an impossible state; the run was stopped.
+    #[error("{count} of {histories} histories reached an impossible state (limit {limit}); first: {examples}. Replay one with `simulate --replay-history N`")]
+    Anomalies {
+        /// Anomalous histories.
+        count: u64,
+        /// Histories run.
+        histories: u64,
+        /// The limit.
+        limit: u64,
+        /// Examples as text.
+        examples: String,
+    },
 }
 
 /// How to run.
@@ -125,6 +137,7 @@ pub struct Engine<'m> {
     ribbon_density: f64,
     per_width_capacity: f64,
     bias_factor: f64,
+    strict: bool,
 }
 
 impl<'m> Engine<'m> {
@@ -183,6 +196,7 @@ impl<'m> Engine<'m> {
             ribbon_density: t.material_density_kg_per_m3,
             per_width_capacity: t.thickness_m * t.allowable_stress_pa,
             bias_factor: 1.0,
+            strict: false,
         })
     }
 
@@ -197,6 +211,13 @@ impl<'m> Engine<'m> {
         }
         self.bias_factor = factor;
         Ok(self)
+    }
+
+    /// Check every invariant after every event (slow; for tests). A violation marks the history
+    /// as anomalous, exactly as the cheap always-on checks do.
+    pub fn with_invariant_checks(mut self) -> Self {
+        self.strict = true;
+        self
     }
 
     /// The rare-event boost factor (1: plain Monte Carlo).
@@ -328,6 +349,20 @@ impl<'m> Engine<'m> {
             }
             done_batches += chunk.len();
             progress(total.histories);
+            let limit = (total.histories / 1000).max(10);
+            if total.anomalies > limit {
+                return Err(EngineError::Anomalies {
+                    count: total.anomalies,
+                    histories: total.histories,
+                    limit,
+                    examples: total
+                        .anomaly_examples
+                        .iter()
+                        .map(|(h, r)| format!("history {h}: {r}"))
+                        .collect::<Vec<_>>()
+                        .join("; "),
+                });
+            }
         }
         if status == RunStatus::Complete {
             if let Some(t) = opts.target_rel_error {

@@ -65,10 +65,27 @@ pub struct Tally {
     pub time_observed_s: u64,
     /// Repair logistics counts (empty without repair).
     pub repair: RepairTally,
+    /// Histories that reached an impossible state.
+    pub anomalies: u64,
+    /// The first (lowest-index) such histories and why, at most [`ANOMALY_EXAMPLES`].
+    pub anomaly_examples: Vec<(u64, String)>,
     /// Rare-event estimator: one record per batch (empty for plain Monte Carlo). Float sums are
     /// kept per batch and folded in batch order when the summary is formed, so the result does
     /// not depend on threads or shards.
     pub weighted: Vec<WeightedBatch>,
+}
+
+/// How many anomalous histories a tally lists by index.
+pub const ANOMALY_EXAMPLES: usize = 10;
+
+impl Tally {
+    /// Count a history that reached an impossible state.
+    pub fn record_anomaly(&mut self, history: u64, reason: &str) {
+        self.anomalies += 1;
+        if self.anomaly_examples.len() < ANOMALY_EXAMPLES {
+            self.anomaly_examples.push((history, reason.to_string()));
+        }
+    }
 }
 
 /// Likelihood-ratio sums of one batch (rare-event estimator).
@@ -119,6 +136,11 @@ impl Tally {
         add(&mut self.max_cuts_in_bay, &o.max_cuts_in_bay);
         self.time_with_cut_bay_s += o.time_with_cut_bay_s;
         self.time_observed_s += o.time_observed_s;
+        self.anomalies += o.anomalies;
+        self.anomaly_examples
+            .extend(o.anomaly_examples.iter().cloned());
+        self.anomaly_examples.sort();
+        self.anomaly_examples.truncate(ANOMALY_EXAMPLES);
         self.weighted.extend(o.weighted.iter().cloned());
         self.repair.merge(&o.repair);
     }

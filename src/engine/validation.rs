@@ -135,7 +135,7 @@ impl Engine<'_> {
         scratch.validation_bays = damaged;
         out.weight = if theta > 1.0 { log_w.exp() } else { 1.0 };
         let end = out.loss.map_or(self.mission_s, |l| l.time_s);
-        self.close_history(end, scratch, tally, &out, log);
+        self.close_history(index, end, scratch, tally, &out, log);
         out
     }
 }

@@ -482,6 +482,28 @@ impl Fleet {
         }
     }
 
+    /// Consistency of the fleet (for the engine's strict invariant checks): no station has more
+    /// idle climbers than it owns, waiting jobs hold segments, the waiting count matches them,
+    /// and every pending event lies in the future of the last one handled.
+    pub fn check(&self, plan: &RepairPlan) -> Option<&'static str> {
+        for (i, s) in plan.stations.iter().enumerate() {
+            if self.idle[i] > s.climbers {
+                return Some("more idle climbers than a station owns");
+            }
+        }
+        if self.jobs.iter().any(|j| j.segments == 0) {
+            return Some("an empty repair job is waiting");
+        }
+        let waiting: u32 = self.jobs.iter().map(|j| j.segments).sum();
+        if waiting != self.waiting {
+            return Some("waiting-segment count out of step with the jobs");
+        }
+        if self.queue.next_time().is_some_and(|t| !(t >= self.area_t)) {
+            return Some("an event is scheduled in the past");
+        }
+        None
+    }
+
     /// Whether a job waiting for stock exists for `bay`.
     pub fn bay_waits_for_stock(&self, bay: u32) -> bool {
         self.jobs.iter().any(|j| j.bay == bay && j.stockout)

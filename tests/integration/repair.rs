@@ -249,3 +249,35 @@ fn repair_lowers_loss_and_counts_spares() {
         with.repair.splices
     );
 }
+
+#[test]
+fn strict_invariant_checks_find_nothing_in_busy_histories() {
+    // The debug layer re-checks every bay and the fleet after every event: cut counts against
+    // segment states, holes within the ribbon, no overloaded survivor after settling, idle
+    // climbers within each station's fleet, event times in order. Busy scenarios (congested
+    // repair; local sharing in a ring; rare-event extra strikes) must never trip it.
+    let mut busy = congested();
+    busy["environment"]["flux_scale_factor"] = json!(30.0);
+    let mut ring = busy.clone();
+    ring["tether"]["load_sharing"] = json!("local");
+    ring["tether"]["arrangement"] = json!("ring");
+    for (v, factor) in [(busy.clone(), 1.0), (ring, 1.0), (busy, 20.0)] {
+        let m = model_of(&v);
+        let engine = Engine::new(&m, 1.0)
+            .unwrap()
+            .with_rare_event(factor)
+            .unwrap()
+            .with_invariant_checks();
+        let opts = RunOptions {
+            histories: 12,
+            seed: 8,
+            threads: 2,
+            floor_fraction: 1.0,
+            shard: None,
+            target_rel_error: None,
+        };
+        let t = engine.run(&opts, &|_| {}).unwrap();
+        assert!(t.cuts > 100, "the check needs activity: {} cuts", t.cuts);
+        assert_eq!(t.anomalies, 0, "{:?}", t.anomaly_examples);
+    }
+}
