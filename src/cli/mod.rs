@@ -9,6 +9,7 @@ mod interrupt;
 mod output;
 mod profile;
 mod simulate;
+mod sweep;
 
 use clap::{Parser, Subcommand};
 
@@ -38,6 +39,8 @@ enum Command {
     Simulate(simulate::Args),
     /// Fast Markov estimate of loss probability by year (independent bays, exponential repair)
     Estimate(estimate::Args),
+    /// Trade study: run a grid of designs with common random numbers
+    Sweep(sweep::Args),
 }
 
 /// Machine-readable or human output.
@@ -63,5 +66,6 @@ pub fn run() -> anyhow::Result<()> {
         Command::Profile(a) => profile::run(a),
         Command::Simulate(a) => simulate::run(a),
         Command::Estimate(a) => estimate::run(a),
+        Command::Sweep(a) => sweep::run(a),
     }
 }
