@@ -27,3 +27,4 @@ pub mod report;
 pub mod scenario;
 pub mod stats;
 pub mod structure;
+pub mod sweep;

@@ -10,6 +10,7 @@ mod merge;
 mod output;
 mod profile;
 mod simulate;
+mod sweep;
 
 use clap::{Parser, Subcommand};
 
@@ -41,6 +42,8 @@ enum Command {
     Merge(merge::Args),
     /// Fast Markov estimate of loss probability by year (independent bays, exponential repair)
     Estimate(estimate::Args),
+    /// Trade study: run a grid of designs with common random numbers
+    Sweep(sweep::Args),
 }
 
 /// Machine-readable or human output.
@@ -67,5 +70,6 @@ pub fn run() -> anyhow::Result<()> {
         Command::Simulate(a) => simulate::run(a),
         Command::Merge(a) => merge::run(a),
         Command::Estimate(a) => estimate::run(a),
+        Command::Sweep(a) => sweep::run(a),
     }
 }

@@ -10,6 +10,7 @@ pub mod estimate;
 pub mod html;
 pub mod plot;
 pub mod run;
+pub mod sweep;
 pub mod table;
 
 pub use atomic::write_atomic;

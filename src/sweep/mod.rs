@@ -1,0 +1,813 @@
+//! Trade studies: run a grid of designs derived from one base scenario, with common random
+//! numbers across the grid.
+//!
+//! A [`SweepSpec`] lists up to [`MAX_AXES`] varied fields, each a dotted path into the scenario
+//! JSON (`tether.cross_link_spacing_km`, `repair.stations[0].climbers`) with its values. The
+//! full grid (at most [`MAX_POINTS`] points) is evaluated in a fixed order, first axis slowest.
+//! Each point's scenario is the base scenario with the varied fields replaced; every value keeps
+//! its field's JSON type (whole-number fields get integers).
+//!
+//! **Infeasible designs are results, not errors.** A point whose design cannot exist (a ribbon
+//! that cannot hold its own weight, a spare segment heavier than the climber's payload, a
+//! spacing longer than the tether) is recorded with `feasible = false` and the reason, and is
+//! not simulated. A value that cannot be applied at all (a fraction for a whole-number field, a
+//! number outside its allowed range) is an input error naming the path, the value and why.
+//!
+//! **Common random numbers.** Every feasible point runs the same engine with the same seed and
+//! the same number of histories, one point after another (each run is itself parallel). History
+//! i of every point draws its strikes from the same random-number stream, seeded from (seed,
+//! strike purpose, i) and independent of the design, so differences between points are mostly
+//! design effects rather than sampling noise. What those numbers turn into (which bay, which
+//! particle) still depends on the design: a design with twice the strike rate sees the same
+//! sequence of strikes arriving twice as fast. Fields that do not touch the physics (for
+//! example `run.confidence`) give identical loss counts at every point. The seed and the number
+//! of histories are therefore properties of the sweep, not of a point: `run.seed` and
+//! `run.histories` cannot be varied.
+//!
+//! The same base scenario, grid, settings and version give a bit-identical [`SweepResult`] at
+//! any thread count.
+
+mod path;
+
+pub use path::{get as value_at_path, leaf_paths};
+
+use serde::{Deserialize, Serialize};
+use serde_json::Value;
+use thiserror::Error;
+
+use crate::engine::{Engine, EngineError, Interval, RunOptions, RunSummary};
+use crate::model::{tether_design, Model};
+use crate::orbit::EarthMoon;
+use crate::report::plot::pareto_front;
+use crate::scenario::{nearest, parse_spec, scenario_hash, Scenario, ScenarioError};
+use crate::structure::TetherProfile;
+
+/// Largest number of varied fields.
+pub const MAX_AXES: usize = 3;
+/// Largest number of grid points: a sweep is a trade study, not an optimiser, and each point is
+/// a full Monte Carlo run.
+pub const MAX_POINTS: usize = 200;
+
+/// Fields that belong to the sweep as a whole (common random numbers need one seed and one
+/// history count for every point).
+const FIXED_PATHS: &[(&str, &str)] = &[("run.seed", "--seed"), ("run.histories", "--histories")];
+
+/// Why a sweep could not be run.
+#[derive(Debug, Error)]
+pub enum SweepError {
+    /// A `--vary` option is malformed or the grid is not allowed.
+    #[error("{0}")]
+    Spec(String),
+    /// A varied path names no field of the scenario.
+    #[error("--vary {path}: the scenario has no field `{path}`{}",
+        suggestion.as_ref().map(|s| format!(" (did you mean `{s}`?)")).unwrap_or_else(|| "; fields look like tether.cross_link_spacing_km or repair.stations[0].climbers".into()))]
+    UnknownPath {
+        /// The path as given.
+        path: String,
+        /// The nearest valid path, if one is close.
+        suggestion: Option<String>,
+    },
+    /// A value cannot be applied to its field.
+    #[error("--vary {path}: value `{value}` cannot be used: {reason}")]
+    BadValue {
+        /// Field path.
+        path: String,
+        /// The value as given.
+        value: String,
+        /// Why not.
+        reason: String,
+    },
+    /// The grid has too many points.
+    #[error("the grid has {points} points ({shape}); at most {MAX_POINTS} are allowed: use fewer values per --vary")]
+    TooManyPoints {
+        /// Number of points requested.
+        points: usize,
+        /// Values per axis, e.g. `20 x 11`.
+        shape: String,
+    },
+    /// The base scenario is not valid.
+    #[error("base scenario: {0}")]
+    Base(#[source] Box<ScenarioError>),
+    /// One grid point's scenario is not valid for a reason other than infeasibility.
+    #[error("grid point {label}: {source}")]
+    Point {
+        /// The point's varied values.
+        label: String,
+        /// The validation error.
+        #[source]
+        source: Box<ScenarioError>,
+    },
+    /// A run setting is out of range.
+    #[error("{0}")]
+    Settings(String),
+    /// The Monte Carlo failed at run time.
+    #[error("grid point {label}: the simulation failed: {message}")]
+    Run {
+        /// The point's varied values.
+        label: String,
+        /// What failed.
+        message: String,
+    },
+}
+
+impl SweepError {
+    /// True for errors caused by the input (options or scenario), false for run-time failures.
+    pub fn is_input_error(&self) -> bool {
+        !matches!(self, SweepError::Run { .. })
+    }
+}
+
+/// One varied field and its values as given on the command line.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct Axis {
+    /// Dotted path, e.g. `tether.ribbon_count` or `repair.stations[0].climbers`.
+    pub path: String,
+    /// Values as text, in the order given.
+    pub values: Vec<String>,
+}
+
+/// The parsed `--vary` list: the axes of the grid.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct SweepSpec {
+    /// The axes, first one varying slowest.
+    pub axes: Vec<Axis>,
+}
+
+impl SweepSpec {
+    /// Parse `PATH=V1,V2,...` options. Checks the syntax, the number of axes, repeated paths or
+    /// values, and the grid size; whether the paths and values fit the scenario is checked by
+    /// [`run_sweep`].
+    pub fn parse<S: AsRef<str>>(vary: &[S]) -> Result<Self, SweepError> {
+        if vary.is_empty() {
+            return Err(SweepError::Spec(
+                "give at least one --vary PATH=V1,V2,... (for example --vary tether.ribbon_count=4,6)".into(),
+            ));
+        }
+        if vary.len() > MAX_AXES {
+            return Err(SweepError::Spec(format!(
+                "{} --vary options given; at most {MAX_AXES} are allowed (a grid of more dimensions is too large to read)",
+                vary.len()
+            )));
+        }
+        let mut axes: Vec<Axis> = Vec::new();
+        for v in vary {
+            let v = v.as_ref();
+            let (path, list) = v.split_once('=').ok_or_else(|| {
+                SweepError::Spec(format!(
+                    "--vary {v}: expected PATH=V1,V2,... (for example tether.ribbon_count=4,6)"
+                ))
+            })?;
+            let path = path.trim().to_string();
+            if path.is_empty() {
+                return Err(SweepError::Spec(format!(
+                    "--vary {v}: the field path before `=` is empty"
+                )));
+            }
+            let values: Vec<String> = list.split(',').map(|s| s.trim().to_string()).collect();
+            if values.iter().any(String::is_empty) {
+                return Err(SweepError::Spec(format!(
+                    "--vary {v}: a value is empty; separate values with single commas"
+                )));
+            }
+            if axes.iter().any(|a| a.path == path) {
+                return Err(SweepError::Spec(format!(
+                    "--vary {path} is given twice; list all its values in one option"
+                )));
+            }
+            axes.push(Axis { path, values });
+        }
+        let spec = SweepSpec { axes };
+        spec.check_size()?;
+        Ok(spec)
+    }
+
+    /// Number of grid points (product of the axis lengths).
+    pub fn point_count(&self) -> usize {
+        self.axes
+            .iter()
+            .fold(1usize, |n, a| n.saturating_mul(a.values.len()))
+    }
+
+    fn check_size(&self) -> Result<(), SweepError> {
+        if self.axes.is_empty() || self.axes.len() > MAX_AXES {
+            return Err(SweepError::Spec(format!(
+                "a sweep needs 1 to {MAX_AXES} varied fields; {} given",
+                self.axes.len()
+            )));
+        }
+        if let Some(a) = self.axes.iter().find(|a| a.values.is_empty()) {
+            return Err(SweepError::Spec(format!("--vary {}: no values", a.path)));
+        }
+        let n = self.point_count();
+        if n > MAX_POINTS {
+            return Err(SweepError::TooManyPoints {
+                points: n,
+                shape: self
+                    .axes
+                    .iter()
+                    .map(|a| a.values.len().to_string())
+                    .collect::<Vec<_>>()
+                    .join(" x "),
+            });
+        }
+        Ok(())
+    }
+}
+
+/// How every point of a sweep is run.
+#[derive(Clone, Debug, PartialEq)]
+pub struct SweepSettings {
+    /// Histories per point (default: the base scenario's `run.histories`).
+    pub histories: Option<u64>,
+    /// Master seed shared by every point (default: the base scenario's `run.seed`).
+    pub seed: Option<u64>,
+    /// Worker threads per run; 0 means one per core. Never changes the results.
+    pub threads: usize,
+    /// Rare-event boost factor (1: plain Monte Carlo); see [`Engine::with_rare_event`].
+    pub rare_event_factor: f64,
+    /// Largest acceptable stock-out probability, for the recommended initial stock.
+    pub stockout_target: f64,
+    /// Text of the flux table file when the base scenario names one.
+    pub flux_table_json: Option<String>,
+}
+
+impl Default for SweepSettings {
+    fn default() -> Self {
+        SweepSettings {
+            histories: None,
+            seed: None,
+            threads: 0,
+            rare_event_factor: 1.0,
+            stockout_target: 0.05,
+            flux_table_json: None,
+        }
+    }
+}
+
+/// One axis of the grid as run.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct AxisResult {
+    /// Dotted field path.
+    pub path: String,
+    /// Short name used in tables and labels (the last part of the path).
+    pub name: String,
+    /// Values as given on the command line (used in labels).
+    pub labels: Vec<String>,
+    /// Values as written into the scenario JSON (typed).
+    pub values: Vec<Value>,
+}
+
+/// Spares at one repair station for one design.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct StationResult {
+    /// Station name.
+    pub station: String,
+    /// Spare segments on hand at the start, from the scenario.
+    pub initial_stock_segments: u32,
+    /// Smallest initial stock that meets the stock-out target (absent when not simulated).
+    pub recommended_initial_stock_segments: Option<u64>,
+    /// 95th percentile of the segments drawn from this station over the whole mission (absent
+    /// when not simulated).
+    pub spare_demand_mission_p95_segments: Option<u64>,
+}
+
+/// Masses of one design, kg.
+#[derive(Clone, Copy, Debug, PartialEq, Serialize, Deserialize)]
+pub struct MassBreakdown {
+    /// All ribbons, kg.
+    pub ribbon_kg: f64,
+    /// All cross-links, kg.
+    pub cross_links_kg: f64,
+    /// Spare stock on hand at the start: the scenario's initial stock (all stations) times the
+    /// heaviest segment's mass, kg (see [`SweepResult::spare_stock_basis`]).
+    pub spare_stock_kg: f64,
+    /// Counterweight, kg.
+    pub counterweight_kg: f64,
+    /// Sum of the above, kg.
+    pub total_kg: f64,
+    /// Recommended initial stock (all stations) times the heaviest segment's mass, kg; absent
+    /// when not simulated. Not included in `total_kg`.
+    pub recommended_spare_stock_kg: Option<f64>,
+}
+
+/// The result of one grid point.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct PointResult {
+    /// Position in the grid order (first axis slowest).
+    pub index: usize,
+    /// Index of the value on each axis.
+    pub coordinates: Vec<usize>,
+    /// The varied values, one per axis (typed, as written into the scenario).
+    pub values: Vec<Value>,
+    /// Short description, e.g. `cross_link_spacing_km=25, ribbon_count=4`.
+    pub label: String,
+    /// Hash of this point's scenario (as in every other output).
+    pub scenario_hash: String,
+    /// False when the design cannot exist; it was then not simulated.
+    pub feasible: bool,
+    /// Why the design is infeasible.
+    pub reason: Option<String>,
+    /// Probability of system loss by mission end with its interval (Clopper–Pearson, or the
+    /// weighted estimate with a normal interval under the rare-event estimator).
+    pub loss_probability: Option<Interval>,
+    /// Histories that ended in system loss (under the sampling measure).
+    pub losses: Option<u64>,
+    /// Cut segments per year, whole tether, with a normal interval.
+    pub cuts_per_year: Option<Interval>,
+    /// Spares per repair station (empty without repair).
+    pub stations: Vec<StationResult>,
+    /// Masses (absent when the tether profile cannot be built).
+    pub masses: Option<MassBreakdown>,
+    /// Mass of the heaviest spare segment (one ribbon over one bay), kg.
+    pub heaviest_segment_kg: Option<f64>,
+    /// Climber payload, kg (absent without repair).
+    pub climber_payload_kg: Option<f64>,
+    /// Climber payload over the heaviest segment's mass; below 1 a climber cannot carry a spare.
+    pub payload_to_heaviest_segment: Option<f64>,
+    /// Smallest intact strength margin over all bays (allowable over actual tension); below 1
+    /// the ribbons cannot hold their own weight.
+    pub min_intact_margin: Option<f64>,
+    /// True when no other feasible design has both a lower (or equal) total mass and a lower
+    /// (or equal) estimated loss probability, one of them strictly.
+    pub on_pareto_front: bool,
+}
+
+/// Everything a sweep produced; serialised as `sweep.json`.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct SweepResult {
+    /// Program name.
+    pub tool: String,
+    /// Program version.
+    pub version: String,
+    /// Base scenario name.
+    pub scenario: String,
+    /// Hash of the base scenario.
+    pub scenario_hash: String,
+    /// Master seed shared by every point.
+    pub seed: u64,
+    /// Histories per point.
+    pub histories: u64,
+    /// Rare-event boost factor (1: plain Monte Carlo).
+    pub rare_event_factor: f64,
+    /// Stock-out target used for the recommended initial stock.
+    pub stockout_target: f64,
+    /// How the loss-probability interval was formed.
+    pub loss_probability_method: String,
+    /// The grid's axes.
+    pub axes: Vec<AxisResult>,
+    /// How points are ordered.
+    pub point_order: String,
+    /// What common random numbers mean here.
+    pub common_random_numbers: String,
+    /// How the spare-stock mass is computed.
+    pub spare_stock_basis: String,
+    /// The points, in grid order.
+    pub points: Vec<PointResult>,
+    /// Indices of the non-dominated feasible points, by increasing total mass.
+    pub pareto_front: Vec<usize>,
+    /// The engineering caution.
+    pub caution: String,
+}
+
+/// Text recorded in every sweep about common random numbers.
+pub const CRN_NOTE: &str = "Every point uses the same seed and number of histories: history i of \
+every design draws its strikes from the same random-number stream (common random numbers), so \
+differences between designs are mostly design effects rather than sampling noise. The strikes \
+those numbers produce still depend on the design (bays, widths, strike rates).";
+
+/// Text recorded in every sweep about the spare-stock mass.
+pub const SPARE_BASIS_NOTE: &str = "spare_stock_kg = initial stock of all stations (from the \
+scenario) x mass of the heaviest segment (conservative: any bay's segment can be cut from a \
+spare of that size). recommended_spare_stock_kg uses the recommended initial stock instead and \
+is not part of total_kg. total_kg = ribbons + cross-links + spare stock + counterweight.";
+
+/// Caution specific to trade studies, shown with [`crate::CAUTION`].
+pub const PARETO_NOTE: &str = "The Pareto front uses point estimates of the loss probability; \
+designs whose intervals overlap are not distinguished by this run.";
+
+impl SweepResult {
+    /// The point at these axis coordinates.
+    pub fn point_at(&self, coordinates: &[usize]) -> Option<&PointResult> {
+        self.points.iter().find(|p| p.coordinates == coordinates)
+    }
+
+    /// Recompute [`PointResult::on_pareto_front`] and [`SweepResult::pareto_front`] from the
+    /// feasible points' total masses and estimated loss probabilities (both minimised).
+    pub fn mark_pareto_front(&mut self) {
+        let candidates: Vec<(usize, (f64, f64))> = self
+            .points
+            .iter()
+            .enumerate()
+            .filter_map(|(i, p)| {
+                let m = p.masses.as_ref()?.total_kg;
+                let l = p.loss_probability.as_ref()?.estimate;
+                p.feasible.then_some((i, (m, l)))
+            })
+            .collect();
+        let xy: Vec<(f64, f64)> = candidates.iter().map(|c| c.1).collect();
+        let front: Vec<usize> = pareto_front(&xy)
+            .into_iter()
+            .map(|k| candidates[k].0)
+            .collect();
+        for (i, p) in self.points.iter_mut().enumerate() {
+            p.on_pareto_front = front.contains(&i);
+        }
+        self.pareto_front = front;
+    }
+}
+
+/// Run a sweep over `base_json` (a scenario document). See the module documentation.
+pub fn run_sweep(
+    base_json: &Value,
+    spec: &SweepSpec,
+    settings: &SweepSettings,
+) -> Result<SweepResult, SweepError> {
+    run_sweep_with_progress(base_json, spec, settings, &|_, _| {})
+}
+
+/// [`run_sweep`], calling `progress(point, point_count)` after each point.
+pub fn run_sweep_with_progress(
+    base_json: &Value,
+    spec: &SweepSpec,
+    settings: &SweepSettings,
+    progress: &dyn Fn(&PointResult, usize),
+) -> Result<SweepResult, SweepError> {
+    spec.check_size()?;
+    check_settings(settings)?;
+    let table = settings.flux_table_json.clone();
+    let base_spec =
+        parse_spec(&base_json.to_string()).map_err(|e| SweepError::Base(Box::new(e)))?;
+    // The base may itself be infeasible (the sweep may fix it); any other error is fatal.
+    if let Err(e) = Scenario::from_spec(base_spec.clone(), table.clone()) {
+        if !matches!(e, ScenarioError::Infeasible { .. }) {
+            return Err(SweepError::Base(Box::new(e)));
+        }
+    }
+    let histories = settings.histories.unwrap_or(base_spec.run.histories);
+    let seed = settings.seed.unwrap_or(base_spec.run.seed);
+    if histories == 0 {
+        return Err(SweepError::Settings(
+            "--histories = 0 is out of range: allowed [1, 1e12] histories".into(),
+        ));
+    }
+    let canonical = serde_json::to_value(&base_spec)
+        .map_err(|e| SweepError::Spec(format!("the base scenario cannot be re-serialised: {e}")))?;
+    let axes = resolve_axes(&canonical, spec, table.as_deref())?;
+
+    let count = spec.point_count();
+    let mut points = Vec::with_capacity(count);
+    for index in 0..count {
+        let coordinates = coordinates_of(index, &axes);
+        let p = evaluate_point(
+            &canonical,
+            &axes,
+            index,
+            coordinates,
+            histories,
+            seed,
+            settings,
+        )?;
+        progress(&p, count);
+        points.push(p);
+    }
+    let mut result = SweepResult {
+        tool: "tether-risk".into(),
+        version: crate::VERSION.into(),
+        scenario: base_spec.name.clone(),
+        scenario_hash: format!("{:016x}", scenario_hash(&base_spec, table.as_deref())),
+        seed,
+        histories,
+        rare_event_factor: settings.rare_event_factor,
+        stockout_target: settings.stockout_target,
+        loss_probability_method: if settings.rare_event_factor > 1.0 {
+            "rare-event weighted estimate, normal interval".into()
+        } else {
+            "Clopper–Pearson".into()
+        },
+        axes,
+        point_order: "grid order, first axis varying slowest".into(),
+        common_random_numbers: CRN_NOTE.into(),
+        spare_stock_basis: SPARE_BASIS_NOTE.into(),
+        points,
+        pareto_front: Vec::new(),
+        caution: format!("{} {PARETO_NOTE}", crate::CAUTION),
+    };
+    result.mark_pareto_front();
+    Ok(result)
+}
+
+fn check_settings(s: &SweepSettings) -> Result<(), SweepError> {
+    if !(s.stockout_target > 0.0 && s.stockout_target < 1.0) {
+        return Err(SweepError::Settings(format!(
+            "--stockout-target = {} is out of range: allowed (0, 1) (probability)",
+            s.stockout_target
+        )));
+    }
+    let f = s.rare_event_factor;
+    if !(f.is_finite() && (1.0..=1e6).contains(&f)) {
+        return Err(SweepError::Settings(format!(
+            "--rare-event = {f} is out of range: allowed [1, 1e6] (dimensionless boost factor)"
+        )));
+    }
+    Ok(())
+}
+
+/// A short name for a path: its last field, with the indexed parent when there is one
+/// (`repair.stations[0].climbers` -> `stations[0].climbers`).
+fn short_name(path: &str) -> String {
+    let parts: Vec<&str> = path.split('.').collect();
+    match parts.as_slice() {
+        [.., parent, last] if parent.contains('[') => format!("{parent}.{last}"),
+        [.., last] => (*last).to_string(),
+        [] => path.to_string(),
+    }
+}
+
+/// Check every axis against the base scenario and convert its values to typed JSON.
+fn resolve_axes(
+    canonical: &Value,
+    spec: &SweepSpec,
+    table: Option<&str>,
+) -> Result<Vec<AxisResult>, SweepError> {
+    let leaves = leaf_paths(canonical);
+    let mut out = Vec::with_capacity(spec.axes.len());
+    for axis in &spec.axes {
+        if let Some((_, option)) = FIXED_PATHS.iter().find(|(p, _)| *p == axis.path) {
+            return Err(SweepError::Spec(format!(
+                "--vary {}: the seed and the number of histories are shared by every point (common random numbers); set them with {option}",
+                axis.path
+            )));
+        }
+        let current = path::get(canonical, &axis.path).ok_or_else(|| SweepError::UnknownPath {
+            path: axis.path.clone(),
+            suggestion: nearest(&axis.path, leaves.iter().map(String::as_str)),
+        })?;
+        let mut values = Vec::with_capacity(axis.values.len());
+        for text in &axis.values {
+            let bad = |reason: String| SweepError::BadValue {
+                path: axis.path.clone(),
+                value: text.clone(),
+                reason,
+            };
+            let v = path::convert(current, text).map_err(|r| {
+                let hint = if matches!(current, Value::Object(_)) {
+                    let inside: Vec<&str> = leaves
+                        .iter()
+                        .filter(|l| l.starts_with(&format!("{}.", axis.path)))
+                        .map(String::as_str)
+                        .take(4)
+                        .collect();
+                    format!(" (for example {})", inside.join(", "))
+                } else {
+                    String::new()
+                };
+                bad(format!("{r}{hint}"))
+            })?;
+            if values.contains(&v) {
+                return Err(bad("it is listed twice".into()));
+            }
+            // Check the value on its own against the base: range and type errors are input
+            // errors; infeasibility is a result and is found later, point by point.
+            let mut doc = canonical.clone();
+            path::set(&mut doc, &axis.path, v.clone());
+            let spec = parse_spec(&doc.to_string()).map_err(|e| bad(e.to_string()))?;
+            if let Err(e) = Scenario::from_spec(spec, table.map(str::to_string)) {
+                if !matches!(e, ScenarioError::Infeasible { .. }) {
+                    return Err(bad(e.to_string()));
+                }
+            }
+            values.push(v);
+        }
+        out.push(AxisResult {
+            path: axis.path.clone(),
+            name: short_name(&axis.path),
+            labels: axis.values.clone(),
+            values,
+        });
+    }
+    Ok(out)
+}
+
+/// Axis coordinates of point `index` (first axis slowest).
+fn coordinates_of(mut index: usize, axes: &[AxisResult]) -> Vec<usize> {
+    let mut c = vec![0; axes.len()];
+    for (k, a) in axes.iter().enumerate().rev() {
+        c[k] = index % a.values.len();
+        index /= a.values.len();
+    }
+    c
+}
+
+fn infeasible(p: &mut PointResult, reason: String) -> PointResult {
+    p.feasible = false;
+    p.reason = Some(reason);
+    p.clone()
+}
+
+fn evaluate_point(
+    canonical: &Value,
+    axes: &[AxisResult],
+    index: usize,
+    coordinates: Vec<usize>,
+    histories: u64,
+    seed: u64,
+    settings: &SweepSettings,
+) -> Result<PointResult, SweepError> {
+    let mut doc = canonical.clone();
+    let mut values = Vec::with_capacity(axes.len());
+    let mut label = Vec::with_capacity(axes.len());
+    for (a, &c) in axes.iter().zip(&coordinates) {
+        path::set(&mut doc, &a.path, a.values[c].clone());
+        values.push(a.values[c].clone());
+        label.push(format!("{}={}", a.name, a.labels[c]));
+    }
+    let label = label.join(", ");
+    let table = settings.flux_table_json.clone();
+    let point_err = |source: ScenarioError| SweepError::Point {
+        label: label.clone(),
+        source: Box::new(source),
+    };
+    let spec = parse_spec(&doc.to_string()).map_err(point_err)?;
+    let mut p = PointResult {
+        index,
+        coordinates,
+        values,
+        label: label.clone(),
+        scenario_hash: format!("{:016x}", scenario_hash(&spec, table.as_deref())),
+        feasible: true,
+        reason: None,
+        loss_probability: None,
+        losses: None,
+        cuts_per_year: None,
+        stations: spec
+            .repair
+            .as_ref()
+            .map(|r| {
+                r.stations
+                    .iter()
+                    .map(|s| StationResult {
+                        station: s.name.clone(),
+                        initial_stock_segments: s.initial_stock_segments,
+                        recommended_initial_stock_segments: None,
+                        spare_demand_mission_p95_segments: None,
+                    })
+                    .collect()
+            })
+            .unwrap_or_default(),
+        masses: None,
+        heaviest_segment_kg: None,
+        climber_payload_kg: spec.repair.as_ref().map(|r| r.climber.payload_kg),
+        payload_to_heaviest_segment: None,
+        min_intact_margin: None,
+        on_pareto_front: false,
+    };
+    let scenario = match Scenario::from_spec(spec, table) {
+        Ok(s) => s,
+        Err(ScenarioError::Infeasible { reason }) => return Ok(infeasible(&mut p, reason)),
+        Err(e) => return Err(point_err(e)),
+    };
+
+    // Masses and flags come from the profile alone, so an infeasible repair fleet still shows
+    // its tether's masses and payload ratio.
+    let profile = match TetherProfile::build(&EarthMoon::standard(), &tether_design(&scenario)) {
+        Ok(pr) => pr,
+        Err(e) => return Ok(infeasible(&mut p, e.to_string())),
+    };
+    let heaviest = profile.heaviest_segment().1;
+    let stock: u64 = p
+        .stations
+        .iter()
+        .map(|s| u64::from(s.initial_stock_segments))
+        .sum();
+    let spare = stock as f64 * heaviest;
+    p.masses = Some(MassBreakdown {
+        ribbon_kg: profile.ribbon_mass_kg,
+        cross_links_kg: profile.cross_links_mass_kg,
+        spare_stock_kg: spare,
+        counterweight_kg: profile.counterweight_kg,
+        total_kg: profile.ribbon_mass_kg
+            + profile.cross_links_mass_kg
+            + spare
+            + profile.counterweight_kg,
+        recommended_spare_stock_kg: None,
+    });
+    p.heaviest_segment_kg = Some(heaviest);
+    p.payload_to_heaviest_segment = p.climber_payload_kg.map(|pl| {
+        if heaviest > 0.0 {
+            pl / heaviest
+        } else {
+            f64::INFINITY
+        }
+    });
+    p.min_intact_margin = Some(profile.min_margin().1);
+
+    let model = match Model::build(scenario) {
+        Ok(m) => m,
+        Err(ScenarioError::Infeasible { reason }) => return Ok(infeasible(&mut p, reason)),
+        Err(e) => return Err(point_err(e)),
+    };
+    let engine = match Engine::new(&model, 1.0)
+        .and_then(|e| e.with_rare_event(settings.rare_event_factor))
+    {
+        Ok(e) => e,
+        Err(EngineError::Model(m)) => {
+            return Ok(infeasible(
+                &mut p,
+                format!("the strikes cannot be sampled: {m}"),
+            ))
+        }
+        Err(e) => {
+            return Err(SweepError::Run {
+                label,
+                message: e.to_string(),
+            })
+        }
+    };
+    let opts = RunOptions {
+        histories,
+        seed,
+        threads: settings.threads,
+        floor_fraction: 1.0,
+        shard: None,
+        target_rel_error: None,
+    };
+    let tally = engine.run(&opts, &|_| {}).map_err(|e| SweepError::Run {
+        label: label.clone(),
+        message: e.to_string(),
+    })?;
+    let s = RunSummary::from_tally(
+        &engine,
+        tally,
+        histories,
+        seed,
+        None,
+        settings.stockout_target,
+    );
+    p.loss_probability = Some(s.loss_probability);
+    p.losses = Some(s.tally.losses);
+    p.cuts_per_year = Some(s.cuts_per_year);
+    if let (Some(r), Some(sp)) = (&s.repair, &s.spares) {
+        let mut recommended_total = 0u64;
+        for st in &mut p.stations {
+            st.recommended_initial_stock_segments = r
+                .recommended_initial_stock
+                .iter()
+                .find(|x| x.station == st.station)
+                .map(|x| x.segments);
+            st.spare_demand_mission_p95_segments = sp
+                .demand_quantiles
+                .iter()
+                .find(|x| x.station == st.station)
+                .map(|x| x.mission.p95);
+            recommended_total += st.recommended_initial_stock_segments.unwrap_or(0);
+        }
+        if let Some(m) = &mut p.masses {
+            m.recommended_spare_stock_kg = Some(recommended_total as f64 * heaviest);
+        }
+    }
+    Ok(p)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn parse_checks_syntax_and_size() {
+        let s = SweepSpec::parse(&["tether.ribbon_count=4, 6", "a.b=1"]).unwrap();
+        assert_eq!(s.axes[0].values, vec!["4", "6"]);
+        assert_eq!(s.point_count(), 2);
+        assert!(SweepSpec::parse(&["tether.ribbon_count"]).is_err());
+        assert!(SweepSpec::parse(&["x=1,,2"]).is_err());
+        assert!(SweepSpec::parse(&["x=1", "x=2"]).is_err());
+        assert!(SweepSpec::parse(&["a=1", "b=1", "c=1", "d=1"]).is_err());
+        let big: String = (0..201)
+            .map(|i| i.to_string())
+            .collect::<Vec<_>>()
+            .join(",");
+        let e = SweepSpec::parse(&[format!("a={big}")]).unwrap_err();
+        assert!(
+            matches!(e, SweepError::TooManyPoints { points: 201, .. }),
+            "{e}"
+        );
+    }
+
+    #[test]
+    fn grid_order_first_axis_slowest() {
+        let ax = |n: usize| AxisResult {
+            path: String::new(),
+            name: String::new(),
+            labels: vec![String::new(); n],
+            values: vec![Value::Null; n],
+        };
+        let axes = [ax(3), ax(2)];
+        assert_eq!(coordinates_of(0, &axes), vec![0, 0]);
+        assert_eq!(coordinates_of(1, &axes), vec![0, 1]);
+        assert_eq!(coordinates_of(5, &axes), vec![2, 1]);
+        assert_eq!(
+            short_name("repair.stations[0].climbers"),
+            "stations[0].climbers"
+        );
+        assert_eq!(short_name("tether.ribbon_count"), "ribbon_count");
+    }
+}

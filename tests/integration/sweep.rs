@@ -1,0 +1,337 @@
+//! Trade studies through the real binary and the library: files and their contracts,
+//! infeasible points, input errors, common random numbers, and the Pareto front.
+
+use crate::util::*;
+use serde_json::Value;
+use tether_risk::sweep::{run_sweep, SweepResult, SweepSettings, SweepSpec};
+
+fn demo_value() -> Value {
+    serde_json::from_str(DEMO).unwrap()
+}
+
+fn settings(histories: u64) -> SweepSettings {
+    SweepSettings {
+        histories: Some(histories),
+        ..SweepSettings::default()
+    }
+}
+
+fn sweep_lib(base: &Value, vary: &[&str], histories: u64) -> SweepResult {
+    run_sweep(base, &SweepSpec::parse(vary).unwrap(), &settings(histories)).unwrap()
+}
+
+#[test]
+fn two_by_two_demo_sweep_writes_every_file_and_is_reproducible() {
+    let dir = temp_dir("sweep-2x2");
+    let out = dir.join("out");
+    let args = |threads: &'static str| {
+        vec![
+            "sweep".to_string(),
+            "demo".into(),
+            "--vary".into(),
+            "tether.cross_link_spacing_km=25,50".into(),
+            "--vary".into(),
+            "tether.ribbon_count=4,6".into(),
+            "--histories".into(),
+            "500".into(),
+            "--threads".into(),
+            threads.into(),
+            "--out".into(),
+            out.to_str().unwrap().into(),
+        ]
+    };
+    let a1 = args("1");
+    let o = run(&a1.iter().map(String::as_str).collect::<Vec<_>>());
+    assert!(o.status.success(), "{}", stderr(&o));
+    let text = stdout(&o);
+    assert!(text.contains("Pareto front"), "{text}");
+    assert!(text.contains("engineering estimates"), "{text}");
+    for f in [
+        "sweep.json",
+        "sweep.csv",
+        "sweep.md",
+        "heatmap.png",
+        "heatmap.svg",
+        "pareto.png",
+        "pareto.svg",
+    ] {
+        assert!(out.join(f).is_file(), "missing {f}");
+    }
+    let first = std::fs::read(out.join("sweep.json")).unwrap();
+    let v: Value = serde_json::from_slice(&first).unwrap();
+    for key in [
+        "version",
+        "seed",
+        "histories",
+        "scenario_hash",
+        "axes",
+        "caution",
+        "pareto_front",
+    ] {
+        assert!(!v[key].is_null(), "sweep.json lacks {key}");
+    }
+    assert_eq!(v["histories"], 500);
+    let points = v["points"].as_array().unwrap();
+    assert_eq!(points.len(), 4);
+    for p in points {
+        for key in [
+            "values",
+            "feasible",
+            "loss_probability",
+            "cuts_per_year",
+            "stations",
+            "masses",
+            "payload_to_heaviest_segment",
+            "min_intact_margin",
+            "on_pareto_front",
+        ] {
+            assert!(p.get(key).is_some(), "point lacks {key}: {p}");
+        }
+        assert_eq!(p["feasible"], true, "{p}");
+        for key in ["estimate", "ci_low", "ci_high"] {
+            assert!(p["loss_probability"][key].is_f64(), "{p}");
+        }
+        let m = &p["masses"];
+        let sum: f64 = [
+            "ribbon_kg",
+            "cross_links_kg",
+            "spare_stock_kg",
+            "counterweight_kg",
+        ]
+        .iter()
+        .map(|k| m[k].as_f64().unwrap())
+        .sum();
+        let total = m["total_kg"].as_f64().unwrap();
+        assert!((sum - total).abs() <= 1e-9 * total, "{m}");
+        let stations = p["stations"].as_array().unwrap();
+        assert_eq!(stations.len(), 2);
+        assert!(stations[0]["recommended_initial_stock_segments"].is_u64());
+        assert!(stations[0]["spare_demand_mission_p95_segments"].is_u64());
+    }
+    // Integer fields stay integers, real fields reals.
+    assert_eq!(points[1]["values"][1], 6);
+    assert!(points[1]["values"][0].is_f64());
+    let csv = std::fs::read_to_string(out.join("sweep.csv")).unwrap();
+    assert_eq!(csv.lines().count(), 5, "{csv}");
+    assert!(csv.starts_with("index,tether.cross_link_spacing_km,tether.ribbon_count,feasible"));
+    let md = std::fs::read_to_string(out.join("sweep.md")).unwrap();
+    assert!(md.contains("| :--- |"), "{md}");
+    assert!(std::fs::read(out.join("heatmap.png"))
+        .unwrap()
+        .starts_with(b"\x89PNG"));
+
+    // Existing results are kept without --force.
+    let o = run(&a1.iter().map(String::as_str).collect::<Vec<_>>());
+    assert_eq!(o.status.code(), Some(2), "{}", stderr(&o));
+    assert!(stderr(&o).contains("--force"));
+    // Same inputs at another thread count: the same bytes.
+    let mut a2 = args("2");
+    a2.push("--force".into());
+    let o = run(&a2.iter().map(String::as_str).collect::<Vec<_>>());
+    assert!(o.status.success(), "{}", stderr(&o));
+    assert!(
+        std::fs::read(out.join("sweep.json")).unwrap() == first,
+        "sweep.json differs between runs"
+    );
+}
+
+#[test]
+fn infeasible_points_are_reported_not_fatal() {
+    let base = demo_value();
+    // Payload 1 kg cannot carry a demo segment (tens of kg); taper none cannot hold the
+    // ribbon's own weight up to L1 (README: PBO breaking length is far below the lunar
+    // gravity-equivalent length to L1).
+    let r = sweep_lib(
+        &base,
+        &[
+            "repair.climber.payload_kg=400,1",
+            "tether.taper=constant_stress,none",
+        ],
+        300,
+    );
+    assert_eq!(r.points.len(), 4);
+    let ok = r.point_at(&[0, 0]).unwrap();
+    assert!(ok.feasible && ok.loss_probability.is_some(), "{ok:?}");
+    let payload = r.point_at(&[1, 0]).unwrap();
+    assert!(!payload.feasible);
+    assert!(
+        payload.loss_probability.is_none(),
+        "infeasible points are not simulated"
+    );
+    let why = payload.reason.as_deref().unwrap();
+    assert!(why.contains("payload_kg"), "{why}");
+    // Masses and the payload flag are still known: payload / heaviest segment below 1.
+    assert!(payload.payload_to_heaviest_segment.unwrap() < 1.0);
+    let taper = r.point_at(&[0, 1]).unwrap();
+    assert!(!taper.feasible);
+    assert!(
+        taper.reason.as_deref().unwrap().contains("own weight"),
+        "{:?}",
+        taper.reason
+    );
+    assert!(!r.pareto_front.contains(&payload.index));
+    assert!(!r.pareto_front.contains(&taper.index));
+    assert_eq!(r.pareto_front, vec![ok.index]);
+
+    // The binary reports them too and succeeds.
+    let dir = temp_dir("sweep-infeasible");
+    let o = run(&[
+        "sweep",
+        "demo",
+        "--vary",
+        "repair.climber.payload_kg=1",
+        "--histories",
+        "100",
+        "--out",
+        dir.join("o").to_str().unwrap(),
+    ]);
+    assert!(o.status.success(), "{}", stderr(&o));
+    assert!(stdout(&o).contains("Infeasible designs"), "{}", stdout(&o));
+}
+
+#[test]
+fn bad_paths_values_and_grids_are_refused() {
+    let dir = temp_dir("sweep-bad");
+    let out = dir.join("o");
+    let out = out.to_str().unwrap();
+    let o = run(&[
+        "sweep",
+        "demo",
+        "--vary",
+        "tether.cross_link_spacing=25,50",
+        "--out",
+        out,
+    ]);
+    assert_eq!(o.status.code(), Some(2));
+    assert!(
+        stderr(&o).contains("did you mean `tether.cross_link_spacing_km`"),
+        "{}",
+        stderr(&o)
+    );
+    let o = run(&[
+        "sweep",
+        "demo",
+        "--vary",
+        "tether.ribbon_count=4.5",
+        "--out",
+        out,
+    ]);
+    assert_eq!(o.status.code(), Some(2));
+    let e = stderr(&o);
+    assert!(
+        e.contains("tether.ribbon_count") && e.contains("4.5") && e.contains("whole number"),
+        "{e}"
+    );
+    // Out of the validated range: the scenario's own message, naming path, value and range.
+    let o = run(&[
+        "sweep",
+        "demo",
+        "--vary",
+        "tether.ribbon_count=0",
+        "--out",
+        out,
+    ]);
+    assert_eq!(o.status.code(), Some(2));
+    assert!(stderr(&o).contains("tether.ribbon_count"), "{}", stderr(&o));
+    let o = run(&["sweep", "demo", "--vary", "run.seed=1,2", "--out", out]);
+    assert_eq!(o.status.code(), Some(2));
+    assert!(stderr(&o).contains("--seed"), "{}", stderr(&o));
+    // 15 x 14 = 210 points > 200.
+    let a: Vec<String> = (1..=15).map(|i| i.to_string()).collect();
+    let b: Vec<String> = (1..=14).map(|i| (i * 10).to_string()).collect();
+    let va = format!("tether.ribbon_count={}", a.join(","));
+    let vb = format!("tether.cross_link_spacing_km={}", b.join(","));
+    let o = run(&["sweep", "demo", "--vary", &va, "--vary", &vb, "--out", out]);
+    assert_eq!(o.status.code(), Some(2));
+    let e = stderr(&o);
+    assert!(e.contains("210 points") && e.contains("at most 200"), "{e}");
+    assert!(!std::path::Path::new(out).join("sweep.json").exists());
+}
+
+#[test]
+fn common_random_numbers_give_identical_counts_when_physics_is_unchanged() {
+    // run.confidence changes only the interval, not the histories: with one seed for every
+    // point the loss counts must be identical, and equal to a plain `simulate` run of the
+    // base scenario at the same seed and history count (an independent path through the CLI).
+    let r = sweep_lib(&demo_value(), &["run.confidence=0.9,0.95"], 1000);
+    let (a, b) = (&r.points[0], &r.points[1]);
+    assert_eq!(a.losses, b.losses);
+    let (la, lb) = (a.loss_probability.unwrap(), b.loss_probability.unwrap());
+    assert_eq!(la.estimate, lb.estimate);
+    assert_eq!(
+        a.cuts_per_year.unwrap().estimate,
+        b.cuts_per_year.unwrap().estimate
+    );
+    // The field was applied: the 90 % interval sits inside the 95 % one.
+    assert_eq!(la.confidence, 0.9);
+    assert!(la.ci_high < lb.ci_high, "{la:?} {lb:?}");
+
+    let dir = temp_dir("sweep-crn-sim");
+    let o = run(&[
+        "simulate",
+        "demo",
+        "--histories",
+        "1000",
+        "--out",
+        dir.join("o").to_str().unwrap(),
+        "--format",
+        "json",
+    ]);
+    assert!(o.status.success(), "{}", stderr(&o));
+    let s: Value = serde_json::from_str(&stdout(&o)).unwrap();
+    assert_eq!(s["tally"]["losses"].as_u64(), b.losses);
+    assert_eq!(
+        s["loss_probability"]["estimate"].as_f64(),
+        Some(lb.estimate)
+    );
+}
+
+#[test]
+fn more_flux_never_lowers_the_loss_count_without_repair() {
+    // Without repair and with common random numbers, scaling the flux by 10 scales every
+    // strike gap by 1/10 and leaves every other draw unchanged (same stream, same per-bay
+    // probabilities), so each history sees its 1x strikes, in order, plus later ones; damage
+    // only accumulates, so every history lost at 1x is also lost at 10x. The loss count can
+    // therefore not decrease (an exact consequence, not a statistical one).
+    let mut base = demo_value();
+    base["repair"] = Value::Null;
+    let r = sweep_lib(&base, &["environment.flux_scale_factor=1,10"], 500);
+    let l1 = r.points[0].losses.unwrap();
+    let l10 = r.points[1].losses.unwrap();
+    assert!(l1 > 0, "the check needs some losses at 1x to mean anything");
+    assert!(l10 >= l1, "{l1} losses at 1x but {l10} at 10x");
+}
+
+#[test]
+fn pareto_front_marks_hand_checked_points() {
+    // Source: hand-made case, checked by the definition of dominance (both minimised).
+    // (mass kg, loss): #0 (10, 0.5) front; #1 (20, 0.1) front; #2 (15, 0.6) dominated by #0;
+    // #3 (30, 0.1) dominated by #1 (same loss, heavier); #4 (5, 0.0) would dominate all but is
+    // infeasible, so it is ignored; #5 (40, 0.0) front.
+    let mut r = sweep_lib(&demo_value(), &["run.confidence=0.95"], 100);
+    let template = r.points[0].clone();
+    let cases = [
+        (10.0, 0.5, true),
+        (20.0, 0.1, true),
+        (15.0, 0.6, true),
+        (30.0, 0.1, true),
+        (5.0, 0.0, false),
+        (40.0, 0.0, true),
+    ];
+    r.points = cases
+        .iter()
+        .enumerate()
+        .map(|(i, &(m, l, feasible))| {
+            let mut p = template.clone();
+            p.index = i;
+            p.feasible = feasible;
+            p.masses.as_mut().unwrap().total_kg = m;
+            p.loss_probability.as_mut().unwrap().estimate = l;
+            p
+        })
+        .collect();
+    r.mark_pareto_front();
+    assert_eq!(r.pareto_front, vec![0, 1, 5]);
+    let marked: Vec<bool> = r.points.iter().map(|p| p.on_pareto_front).collect();
+    assert_eq!(marked, vec![true, true, false, false, false, true]);
+}
