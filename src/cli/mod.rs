@@ -8,6 +8,7 @@ mod init;
 mod interrupt;
 mod output;
 mod profile;
+mod report;
 mod simulate;
 
 use clap::{Parser, Subcommand};
@@ -38,6 +39,8 @@ enum Command {
     Simulate(simulate::Args),
     /// Fast Markov estimate of loss probability by year (independent bays, exponential repair)
     Estimate(estimate::Args),
+    /// Re-render tables, plots and report.html from a saved run folder
+    Report(report::Args),
 }
 
 /// Machine-readable or human output.
@@ -63,5 +66,6 @@ pub fn run() -> anyhow::Result<()> {
         Command::Profile(a) => profile::run(a),
         Command::Simulate(a) => simulate::run(a),
         Command::Estimate(a) => estimate::run(a),
+        Command::Report(a) => report::run(a),
     }
 }

@@ -8,3 +8,4 @@ mod engine_validation;
 mod estimate;
 mod rare_event;
 mod repair;
+mod report;
