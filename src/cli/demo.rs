@@ -2,8 +2,10 @@
 
 use std::path::PathBuf;
 
+use tether_risk::model::markov::{mission_times_s, MarkovModel};
 use tether_risk::model::Model;
 use tether_risk::report::design::{DesignSummary, ProfileSummary};
+use tether_risk::report::estimate::EstimateSummary;
 use tether_risk::report::run::run_text;
 use tether_risk::report::write_atomic;
 use tether_risk::scenario;
@@ -69,5 +71,25 @@ pub fn run(a: Args) -> anyhow::Result<()> {
         "\n{}\n{text}\nResults are in {}/\n",
         design.to_text(),
         dir.display()
-    ))
+    ))?;
+
+    // Keep this last: the report reads every file the steps above wrote.
+    estimate_and_report(&model, dir)
+}
+
+/// Write the Markov estimate (`estimate.json`) beside the Monte Carlo, then render the failure
+/// tables, charts and report.html from the folder.
+fn estimate_and_report(model: &Model, dir: &std::path::Path) -> anyhow::Result<()> {
+    print("Markov estimate\n")?;
+    let markov = MarkovModel::build(model)?;
+    let estimate = markov.solve(&mission_times_s(&model.scenario.run))?;
+    let summary = EstimateSummary::new(model, &markov, &estimate);
+    write_atomic(
+        &dir.join("estimate.json"),
+        (serde_json::to_string_pretty(&summary)? + "\n").as_bytes(),
+    )
+    .map_err(|e| anyhow::anyhow!("cannot write estimate.json: {e}"))?;
+    print("Report\n")?;
+    let written = super::report::render(dir)?;
+    print(&format!("Report: {}\n", written.html.display()))
 }

@@ -9,6 +9,7 @@ mod interrupt;
 mod merge;
 mod output;
 mod profile;
+mod report;
 mod simulate;
 mod sweep;
 
@@ -44,6 +45,8 @@ enum Command {
     Estimate(estimate::Args),
     /// Trade study: run a grid of designs with common random numbers
     Sweep(sweep::Args),
+    /// Re-render tables, plots and report.html from a saved run folder
+    Report(report::Args),
 }
 
 /// Machine-readable or human output.
@@ -71,5 +74,6 @@ pub fn run() -> anyhow::Result<()> {
         Command::Merge(a) => merge::run(a),
         Command::Estimate(a) => estimate::run(a),
         Command::Sweep(a) => sweep::run(a),
+        Command::Report(a) => report::run(a),
     }
 }

@@ -3,10 +3,13 @@
 //! This is the only module that writes output files. It sees summaries (serialisable values
 //! built from a model or a run), never engine internals.
 
+pub mod assemble;
 mod atomic;
 pub mod design;
 pub mod env;
 pub mod estimate;
+pub mod failure;
+pub mod figures;
 pub mod html;
 pub mod plot;
 pub mod run;

@@ -9,3 +9,4 @@ mod estimate;
 mod rare_event;
 mod repair;
 mod sweep;
+mod report;

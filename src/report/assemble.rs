@@ -1,0 +1,1153 @@
+//! The decision report of a run folder: failure tables, charts and `report.html`, rendered
+//! from the saved files alone (no simulation).
+//!
+//! Inputs in the run folder: `summary.json` (required), and, when present, `manifest.json`,
+//! `scenario.json`, `design.json` (design summary), `estimate.json` (Markov estimate) and
+//! `sweep/sweep.json` with `sweep/heatmap.svg` and `sweep/pareto.svg` (a trade study). The
+//! optional files are read defensively as JSON values or through small views of the fields
+//! used here, so a missing or stale file leaves its section out with a note instead of failing.
+//!
+//! Outputs: `failure_tables.md`, `failure_by_year.csv`, `failure_by_band.csv`,
+//! `failure_by_cause.csv`, `markov_vs_monte_carlo.csv` (with an estimate), `plots/*.png` and
+//! `plots/*.svg`, and `report.html`. Everything is rendered in memory first; only then is each
+//! file written atomically, `report.html` last, so a failed render leaves the folder as it was.
+
+use std::path::{Path, PathBuf};
+
+use serde::Deserialize;
+use serde_json::Value;
+
+use super::failure::{
+    band_table, cause_table, comparison_table, failure_markdown, interval_cell, year_label,
+    year_table, DualTable, MarkovPoint,
+};
+use super::figures::{run_figures, FigureError, NamedFigure};
+use super::html::{render_report, KeyNumber, ReportDoc, ReportFigure, ReportTable, Section};
+use super::run::stock_table;
+use super::table::{sig, Table};
+use super::write_atomic;
+use crate::engine::RunSummary;
+
+/// Why a report could not be made.
+#[derive(Debug, thiserror::Error)]
+pub enum ReportError {
+    /// The folder has no `summary.json`: it is not a run folder (an input error).
+    #[error("{dir} holds no summary.json, so it is not a run folder: give the folder `tether-risk simulate --out` or `tether-risk demo` wrote")]
+    NotARunFolder {
+        /// The folder given.
+        dir: PathBuf,
+    },
+    /// A required file could not be read or parsed (an input error).
+    #[error("{path} is not a readable run summary: {reason}")]
+    BadSummary {
+        /// The file.
+        path: PathBuf,
+        /// What was wrong.
+        reason: String,
+    },
+    /// A chart could not be drawn.
+    #[error(transparent)]
+    Figure(#[from] FigureError),
+    /// An output file could not be written.
+    #[error("cannot write {path}: {source}")]
+    Write {
+        /// The file.
+        path: PathBuf,
+        /// The I/O error.
+        #[source]
+        source: std::io::Error,
+    },
+}
+
+impl ReportError {
+    /// True for errors caused by the input folder (exit code 2), false for run-time failures.
+    pub fn is_input_error(&self) -> bool {
+        matches!(
+            self,
+            ReportError::NotARunFolder { .. } | ReportError::BadSummary { .. }
+        )
+    }
+}
+
+/// The fields of `estimate.json` the report uses (a view of
+/// [`crate::report::estimate::EstimateSummary`]).
+#[derive(Clone, Debug, Deserialize, PartialEq)]
+pub struct EstimateView {
+    /// Scenario hash the estimate was made for.
+    pub scenario_hash: String,
+    /// `physical` or `validation`.
+    pub mode: String,
+    /// System loss probability by mission end.
+    pub loss_probability: f64,
+    /// Loss probability at each whole year and at mission end.
+    pub loss_probability_by_year: Vec<EstimateYearView>,
+    /// The assumptions behind the number.
+    #[serde(default)]
+    pub assumptions: Vec<String>,
+}
+
+/// One year of the Markov estimate.
+#[derive(Clone, Copy, Debug, Deserialize, PartialEq)]
+pub struct EstimateYearView {
+    /// Mission time, years.
+    pub year: f64,
+    /// System loss probability by then.
+    pub loss_probability: f64,
+}
+
+/// An optional trade study found in `sweep/`.
+#[derive(Clone, Debug)]
+pub struct SweepInput {
+    /// `sweep/sweep.json` as read.
+    pub value: Value,
+    /// `sweep/heatmap.svg`, if present.
+    pub heatmap_svg: Option<String>,
+    /// `sweep/pareto.svg`, if present.
+    pub pareto_svg: Option<String>,
+}
+
+/// Everything read from a run folder.
+#[derive(Clone, Debug)]
+pub struct RunFolder {
+    /// The folder.
+    pub dir: PathBuf,
+    /// The run summary.
+    pub summary: RunSummary,
+    /// `manifest.json`.
+    pub manifest: Option<Value>,
+    /// `scenario.json`.
+    pub scenario: Option<Value>,
+    /// `design.json`.
+    pub design: Option<Value>,
+    /// `estimate.json`, when present and made for the same scenario.
+    pub estimate: Option<EstimateView>,
+    /// The trade study, if any.
+    pub sweep: Option<SweepInput>,
+    /// What was missing or left out, in words.
+    pub notes: Vec<String>,
+}
+
+fn read_json(path: &Path, notes: &mut Vec<String>, what: &str) -> Option<Value> {
+    let name = path
+        .file_name()
+        .map(|n| n.to_string_lossy().into_owned())
+        .unwrap_or_default();
+    match std::fs::read_to_string(path) {
+        Err(e) if e.kind() == std::io::ErrorKind::NotFound => {
+            notes.push(format!("{name} not found: {what} left out."));
+            None
+        }
+        Err(e) => {
+            notes.push(format!("{name} could not be read ({e}): {what} left out."));
+            None
+        }
+        Ok(text) => match serde_json::from_str(&text) {
+            Ok(v) => Some(v),
+            Err(e) => {
+                notes.push(format!("{name} is not valid JSON ({e}): {what} left out."));
+                None
+            }
+        },
+    }
+}
+
+impl RunFolder {
+    /// Read a run folder. Only `summary.json` is required.
+    ///
+    /// # Errors
+    /// [`ReportError::NotARunFolder`] without `summary.json`; [`ReportError::BadSummary`] if it
+    /// cannot be read as a run summary.
+    pub fn load(dir: &Path) -> Result<Self, ReportError> {
+        let path = dir.join("summary.json");
+        let text = match std::fs::read_to_string(&path) {
+            Ok(t) => t,
+            Err(e) if e.kind() == std::io::ErrorKind::NotFound => {
+                return Err(ReportError::NotARunFolder {
+                    dir: dir.to_path_buf(),
+                })
+            }
+            Err(e) => {
+                return Err(ReportError::BadSummary {
+                    path,
+                    reason: e.to_string(),
+                })
+            }
+        };
+        let summary: RunSummary =
+            serde_json::from_str(&text).map_err(|e| ReportError::BadSummary {
+                path: path.clone(),
+                reason: e.to_string(),
+            })?;
+        if summary.histories == 0 {
+            return Err(ReportError::BadSummary {
+                path,
+                reason: "it records 0 histories; there is nothing to report".into(),
+            });
+        }
+        let mut notes = Vec::new();
+        let manifest = read_json(&dir.join("manifest.json"), &mut notes, "the manifest");
+        let scenario = read_json(
+            &dir.join("scenario.json"),
+            &mut notes,
+            "the scenario description",
+        );
+        let design = read_json(
+            &dir.join("design.json"),
+            &mut notes,
+            "the design key numbers (write it with `tether-risk check FILE --format json > design.json`)",
+        );
+        let estimate = read_json(
+            &dir.join("estimate.json"),
+            &mut notes,
+            "the Markov estimate and its comparison with the Monte Carlo (write it with `tether-risk estimate FILE --format json > estimate.json`)",
+        )
+        .and_then(|v| match serde_json::from_value::<EstimateView>(v) {
+            Ok(e) if e.scenario_hash != summary.scenario_hash => {
+                notes.push(format!(
+                    "estimate.json was made for scenario hash {}, not this run's {}: the Markov comparison is left out.",
+                    e.scenario_hash, summary.scenario_hash
+                ));
+                None
+            }
+            Ok(e) => Some(e),
+            Err(e) => {
+                notes.push(format!(
+                    "estimate.json is not a Markov estimate ({e}): the Markov comparison is left out."
+                ));
+                None
+            }
+        });
+        let design = design.filter(|d| {
+            let hash = d.get("scenario_hash").and_then(Value::as_str);
+            if hash.is_some_and(|h| h != summary.scenario_hash) {
+                notes.push("design.json was made for another scenario: the design key numbers are left out.".into());
+                false
+            } else {
+                true
+            }
+        });
+        let sweep_dir = dir.join("sweep");
+        let sweep = if sweep_dir.join("sweep.json").exists() {
+            read_json(&sweep_dir.join("sweep.json"), &mut notes, "the trade study").map(|value| {
+                SweepInput {
+                    value,
+                    heatmap_svg: std::fs::read_to_string(sweep_dir.join("heatmap.svg")).ok(),
+                    pareto_svg: std::fs::read_to_string(sweep_dir.join("pareto.svg")).ok(),
+                }
+            })
+        } else {
+            notes.push("No trade study (sweep/sweep.json) in this folder: the cross-link spacing comparison is left out.".into());
+            None
+        };
+        Ok(RunFolder {
+            dir: dir.to_path_buf(),
+            summary,
+            manifest,
+            scenario,
+            design,
+            estimate,
+            sweep,
+            notes,
+        })
+    }
+
+    fn markov_points(&self) -> Option<Vec<MarkovPoint>> {
+        self.estimate.as_ref().map(|e| {
+            e.loss_probability_by_year
+                .iter()
+                .filter(|p| p.year.is_finite() && p.loss_probability.is_finite())
+                .map(|p| MarkovPoint {
+                    year: p.year,
+                    loss_probability: p.loss_probability.clamp(0.0, 1.0),
+                })
+                .collect()
+        })
+    }
+}
+
+/// One output file, relative to the run folder.
+#[derive(Clone, Debug)]
+pub struct OutputFile {
+    /// Path inside the run folder.
+    pub path: PathBuf,
+    /// Contents.
+    pub bytes: Vec<u8>,
+}
+
+/// What [`write_report`] wrote.
+#[derive(Clone, Debug)]
+pub struct ReportWritten {
+    /// The HTML report.
+    pub html: PathBuf,
+    /// Every file written, in order.
+    pub files: Vec<PathBuf>,
+    /// Sections left out and why.
+    pub notes: Vec<String>,
+}
+
+/// Read the run folder, render everything, and write it atomically.
+///
+/// # Errors
+/// See [`ReportError`].
+pub fn write_report(dir: &Path) -> Result<ReportWritten, ReportError> {
+    let folder = RunFolder::load(dir)?;
+    let files = render(&folder)?;
+    let plots = dir.join("plots");
+    std::fs::create_dir_all(&plots).map_err(|source| ReportError::Write {
+        path: plots.clone(),
+        source,
+    })?;
+    let mut written = Vec::new();
+    for f in &files {
+        let path = dir.join(&f.path);
+        write_atomic(&path, &f.bytes).map_err(|source| ReportError::Write {
+            path: path.clone(),
+            source,
+        })?;
+        written.push(path);
+    }
+    Ok(ReportWritten {
+        html: dir.join("report.html"),
+        files: written,
+        notes: folder.notes,
+    })
+}
+
+fn csv_file(name: &str, t: &Table) -> OutputFile {
+    OutputFile {
+        path: PathBuf::from(name),
+        bytes: t.to_csv().into_bytes(),
+    }
+}
+
+/// Render every output of a run folder in memory; `report.html` comes last.
+///
+/// # Errors
+/// [`ReportError::Figure`] if a chart cannot be drawn.
+pub fn render(folder: &RunFolder) -> Result<Vec<OutputFile>, ReportError> {
+    let s = &folder.summary;
+    let markov = folder.markov_points();
+    let years = year_table(s);
+    let bands = band_table(s);
+    let causes = cause_table(s);
+    let comparison = markov.as_deref().map(|m| comparison_table(s, m));
+    let missing =
+        "No Markov estimate (estimate.json) in this folder; see the notes in report.html.";
+    let mut files = vec![
+        OutputFile {
+            path: "failure_tables.md".into(),
+            bytes: failure_markdown(s, comparison.as_ref(), Some(missing)).into_bytes(),
+        },
+        csv_file("failure_by_year.csv", &years.csv),
+        csv_file("failure_by_band.csv", &bands.csv),
+        csv_file("failure_by_cause.csv", &causes.csv),
+    ];
+    if let Some(c) = &comparison {
+        files.push(csv_file("markov_vs_monte_carlo.csv", &c.csv));
+    }
+    let figures = run_figures(s, markov.as_deref())?;
+    for f in &figures {
+        files.push(OutputFile {
+            path: Path::new("plots").join(format!("{}.png", f.stem)),
+            bytes: f.figure.png.clone(),
+        });
+        files.push(OutputFile {
+            path: Path::new("plots").join(format!("{}.svg", f.stem)),
+            bytes: f.figure.svg.clone().into_bytes(),
+        });
+    }
+    let doc = report_doc(
+        folder,
+        &figures,
+        &DocTables {
+            years: &years,
+            bands: &bands,
+            causes: &causes,
+            comparison: comparison.as_ref(),
+        },
+    );
+    files.push(OutputFile {
+        path: "report.html".into(),
+        bytes: render_report(&doc).into_bytes(),
+    });
+    Ok(files)
+}
+
+struct DocTables<'a> {
+    years: &'a DualTable,
+    bands: &'a DualTable,
+    causes: &'a DualTable,
+    comparison: Option<&'a DualTable>,
+}
+
+fn report_table(caption: &str, t: &DualTable) -> ReportTable {
+    ReportTable::from_table(format!("{caption}. {}", t.note), &t.markdown)
+}
+
+fn figure(figures: &[NamedFigure], stem_prefix: &str) -> Vec<ReportFigure> {
+    figures
+        .iter()
+        .filter(|f| f.stem.starts_with(stem_prefix))
+        .map(|f| ReportFigure {
+            caption: format!("{} (plots/{}.png, .svg)", f.caption, f.stem),
+            svg: f.figure.svg.clone(),
+        })
+        .collect()
+}
+
+fn pct(x: f64) -> String {
+    if x > 0.0 && x < 0.001 {
+        format!("{} %", sig(100.0 * x, 2))
+    } else {
+        format!("{:.1} %", 100.0 * x)
+    }
+}
+
+fn climber_count(scenario: Option<&Value>) -> Option<u64> {
+    let st = scenario?.get("repair")?.get("stations")?.as_array()?;
+    Some(
+        st.iter()
+            .filter_map(|s| s.get("climbers").and_then(Value::as_u64))
+            .sum(),
+    )
+}
+
+/// The band where most losses happened (or most cuts, when there is no loss).
+fn worst_band(s: &RunSummary) -> (String, String) {
+    let label = |b: usize| {
+        s.cuts_by_altitude_band
+            .get(b)
+            .map_or(String::from("?"), |r| {
+                format!("{:.0}–{:.0} km", r.bottom_altitude_km, r.top_altitude_km)
+            })
+    };
+    let losses = &s.tally.losses_by_band;
+    let total: u64 = losses.iter().sum();
+    let most_cuts = (0..s.cuts_by_altitude_band.len())
+        .max_by(|&a, &b| {
+            s.cuts_by_altitude_band[a]
+                .cuts_per_year
+                .total_cmp(&s.cuts_by_altitude_band[b].cuts_per_year)
+                .then(b.cmp(&a))
+        })
+        .unwrap_or(0);
+    if total > 0 {
+        let b = (0..losses.len())
+            .max_by(|&a, &b| losses[a].cmp(&losses[b]).then(b.cmp(&a)))
+            .unwrap_or(0);
+        let biased = if s.rare_event.is_some() {
+            " (biased-measure counts)"
+        } else {
+            ""
+        };
+        (
+            label(b),
+            format!(
+                "{} of {} losses{biased} ({:.0} %); most cuts: {}",
+                losses[b],
+                total,
+                100.0 * losses[b] as f64 / total as f64,
+                label(most_cuts)
+            ),
+        )
+    } else {
+        (
+            label(most_cuts),
+            "no loss seen; the band with the most cuts".into(),
+        )
+    }
+}
+
+fn key_section(folder: &RunFolder) -> Section {
+    let s = &folder.summary;
+    let lp = &s.loss_probability;
+    let conf = format!("{:.0} %", 100.0 * lp.confidence);
+    let years = year_label(s.mission_years);
+    let mut cards = Vec::new();
+    let basis = match &s.rare_event {
+        Some(r) => format!(
+            "weighted rare-event estimate, {} histories, {} losses under the biased measure",
+            s.histories, r.losses_observed
+        ),
+        None => format!(
+            "{} losses in {} histories, Clopper–Pearson",
+            s.tally.losses, s.histories
+        ),
+    };
+    cards.push(KeyNumber {
+        label: format!("Probability of losing the tether within {years} years"),
+        value: sig(lp.estimate, 2),
+        note: format!(
+            "{conf} interval {} – {}; {basis}",
+            sig(lp.ci_low, 2),
+            sig(lp.ci_high, 2)
+        ),
+    });
+    let (band, note) = worst_band(s);
+    cards.push(KeyNumber {
+        label: "Where it is severed".into(),
+        value: band,
+        note: format!("altitude above the lunar surface; {note}"),
+    });
+    if let (Some(r), Some(sp)) = (&s.repair, &s.spares) {
+        let stock = r
+            .recommended_initial_stock
+            .iter()
+            .map(|x| format!("{}: {}", x.station, x.segments))
+            .collect::<Vec<_>>()
+            .join(" · ");
+        let interval = sp
+            .demand_quantiles
+            .first()
+            .map_or(String::new(), |d| sig(d.interval_days, 4));
+        cards.push(KeyNumber {
+            label: "Recommended initial spare stock (segments)".into(),
+            value: stock,
+            note: format!(
+                "per station; stock-out within one {interval}-day resupply interval below {}",
+                pct(r.stockout_target)
+            ),
+        });
+        let climbers = climber_count(folder.scenario.as_ref())
+            .map_or(String::new(), |c| format!("{c} climbers; "));
+        cards.push(KeyNumber {
+            label: "Repair fleet utilisation".into(),
+            value: pct(r.climber_utilisation),
+            note: format!(
+                "{climbers}{} splices per year; mean wait for a climber {} h",
+                sig(r.splices_per_year, 3),
+                sig(r.queue.mean_wait_hours, 3)
+            ),
+        });
+        let t = &r.time_to_splice_hours;
+        cards.push(KeyNumber {
+            label: "Time from cut to splice".into(),
+            value: format!("{} h median", sig(t.p50, 3)),
+            note: format!(
+                "P90 {} h, P99 {} h, mean {} h",
+                sig(t.p90, 3),
+                sig(t.p99, 3),
+                sig(t.mean, 3)
+            ),
+        });
+    }
+    if let Some(e) = &folder.estimate {
+        let ratio = if e.loss_probability > 0.0 {
+            format!(
+                "Monte Carlo / Markov = {}",
+                sig(lp.estimate / e.loss_probability, 2)
+            )
+        } else {
+            "Markov estimate is 0".into()
+        };
+        cards.push(KeyNumber {
+            label: format!("Fast Markov estimate, {years} years"),
+            value: sig(e.loss_probability, 2),
+            note: format!("{ratio}; ignores sub-critical damage memory and fleet contention"),
+        });
+    }
+    let mut paragraphs = vec![answer_sentence(folder)];
+    if s.status != crate::engine::RunStatus::Complete {
+        paragraphs.push(format!(
+            "Run status: {:?}. {} of {} requested histories were run; the numbers rest on those.",
+            s.status, s.histories, s.histories_requested
+        ));
+    }
+    if s.shard.is_some() {
+        paragraphs.push(
+            "This folder holds one shard of a run: a partial result. Merge the shards first."
+                .into(),
+        );
+    }
+    Section {
+        heading: "The answer in brief".into(),
+        paragraphs,
+        cards,
+        ..Default::default()
+    }
+}
+
+fn answer_sentence(folder: &RunFolder) -> String {
+    let s = &folder.summary;
+    let lp = &s.loss_probability;
+    let c = &s.losses_by_cause;
+    let mut o = format!(
+        "Over the {}-year mission the tether is severed with probability {} ({:.0} % interval {} to {}). ",
+        year_label(s.mission_years),
+        sig(lp.estimate, 2),
+        100.0 * lp.confidence,
+        sig(lp.ci_low, 2),
+        sig(lp.ci_high, 2)
+    );
+    let total = c.direct_cut + c.cascade + c.stockout_delay;
+    if total > 0 {
+        o.push_str(&format!(
+            "Of the {total} losses seen, {} were cascades (survivors overloaded after a cut), {} direct cuts and {} losses while waiting for spare stock. ",
+            c.cascade, c.direct_cut, c.stockout_delay
+        ));
+    } else {
+        o.push_str("No loss was seen: the upper bound is what these histories can rule out. ");
+    }
+    if let Some(e) = &folder.estimate {
+        if e.loss_probability > 0.0 && lp.estimate > 0.0 {
+            let r = lp.estimate / e.loss_probability;
+            if r > 10.0 {
+                o.push_str(&format!(
+                    "The fast Markov estimate ({}) is {} times smaller because it forgets sub-critical holes and ignores fleet contention; here those effects dominate the risk. ",
+                    sig(e.loss_probability, 2),
+                    sig(r, 2)
+                ));
+            } else {
+                o.push_str(&format!(
+                    "The fast Markov estimate ({}) agrees within a factor {}. ",
+                    sig(e.loss_probability, 2),
+                    sig(r.max(1.0 / r), 2)
+                ));
+            }
+        }
+    }
+    if let Some(r) = &s.repair {
+        let stock = r
+            .recommended_initial_stock
+            .iter()
+            .map(|x| {
+                format!(
+                    "{} segment{} at {}",
+                    x.segments,
+                    if x.segments == 1 { "" } else { "s" },
+                    x.station
+                )
+            })
+            .collect::<Vec<_>>()
+            .join(" and ");
+        o.push_str(&format!(
+            "The repair fleet is busy {} of the time; a cut is spliced within {} h in 90 % of cases; an initial stock of {stock} keeps the stock-out chance per resupply interval below {}.",
+            pct(r.climber_utilisation),
+            sig(r.time_to_splice_hours.p90, 3),
+            pct(r.stockout_target)
+        ));
+    } else {
+        o.push_str("This scenario has no repair: cut segments stay cut.");
+    }
+    o
+}
+
+fn design_section(folder: &RunFolder) -> Section {
+    let s = &folder.summary;
+    let mut paragraphs = vec![format!(
+        "Scenario \"{}\" (hash {}), {} mission years.",
+        s.scenario,
+        s.scenario_hash,
+        year_label(s.mission_years)
+    )];
+    if let Some(d) = folder
+        .scenario
+        .as_ref()
+        .and_then(|v| v.get("description"))
+        .and_then(Value::as_str)
+    {
+        paragraphs.push(d.to_string());
+    }
+    let mut tables = Vec::new();
+    if let Some(d) = &folder.design {
+        let mut t = Table::new(["quantity", "value", "unit"]);
+        let mut row = |q: &str, key: &str, unit: &str, digits: usize| {
+            let value = match d.get(key) {
+                Some(Value::Number(n)) if n.is_u64() => n.to_string(),
+                Some(v) => match v.as_f64() {
+                    Some(x) => sig(x, digits),
+                    None => return,
+                },
+                None => return,
+            };
+            t.push([q.to_string(), value, unit.to_string()]);
+        };
+        row("tether length (anchor to top)", "tether_length_km", "km", 6);
+        row(
+            "Lagrange point altitude above surface",
+            "lagrange_altitude_km",
+            "km",
+            6,
+        );
+        row("ribbons", "ribbon_count", "", 3);
+        row("cross-link spacing", "cross_link_spacing_km", "km", 4);
+        row("bays", "bay_count", "", 6);
+        row("allowable stress", "allowable_stress_gpa", "GPa", 4);
+        row(
+            "tension at anchor (with traffic)",
+            "anchor_tension_n",
+            "N",
+            5,
+        );
+        row("largest tension", "max_tension_n", "N", 5);
+        row("smallest intact margin", "min_margin", "-", 4);
+        row("ribbon mass", "ribbon_mass_kg", "kg", 4);
+        row("cross-link mass", "cross_links_mass_kg", "kg", 4);
+        row("counterweight", "counterweight_kg", "kg", 4);
+        row(
+            "damaging strikes, whole tether",
+            "damaging_strike_rate_per_year",
+            "per year",
+            4,
+        );
+        row(
+            "heaviest spare segment",
+            "heaviest_spare_segment_kg",
+            "kg",
+            4,
+        );
+        row("climber payload", "climber_payload_kg", "kg", 4);
+        let mut t2 = t.clone();
+        if let Some(m) = d.get("material").and_then(Value::as_str) {
+            t2.rows.insert(
+                3.min(t2.rows.len()),
+                vec!["ribbon material".into(), m.into(), String::new()],
+            );
+        }
+        if let Some(w) = d.get("ribbon_width_range_mm").and_then(Value::as_array) {
+            let w: Vec<String> = w
+                .iter()
+                .filter_map(Value::as_f64)
+                .map(|x| sig(x, 4))
+                .collect();
+            t2.push([
+                "ribbon width (anchor / widest)".to_string(),
+                w.join(" / "),
+                "mm".to_string(),
+            ]);
+        }
+        tables.push(ReportTable::from_table(
+            "Design key numbers (from design.json)",
+            &t2,
+        ));
+    } else {
+        paragraphs
+            .push("No design.json in this folder: the design key numbers are left out.".into());
+    }
+    if let Some(st) = folder
+        .scenario
+        .as_ref()
+        .and_then(|v| v.get("repair"))
+        .and_then(|r| r.get("stations"))
+        .and_then(Value::as_array)
+    {
+        let mut t = Table::new([
+            "station",
+            "altitude (km)",
+            "climbers",
+            "initial stock (segments)",
+        ]);
+        for x in st {
+            let f = |k: &str| {
+                x.get(k).map_or(String::new(), |v| match v {
+                    Value::Number(n) if n.is_u64() => n.to_string(),
+                    Value::Number(n) => n.as_f64().map_or(n.to_string(), |f| sig(f, 6)),
+                    Value::String(s) => s.clone(),
+                    other => other.to_string(),
+                })
+            };
+            t.push([
+                f("name"),
+                f("altitude_km"),
+                f("climbers"),
+                f("initial_stock_segments"),
+            ]);
+        }
+        tables.push(ReportTable::from_table(
+            "Repair stations (from scenario.json)",
+            &t,
+        ));
+    }
+    Section {
+        heading: "Scenario and design".into(),
+        paragraphs,
+        tables,
+        ..Default::default()
+    }
+}
+
+fn survival_section(folder: &RunFolder, figures: &[NamedFigure], t: &DocTables<'_>) -> Section {
+    let mut paragraphs = Vec::new();
+    let mut tables = vec![report_table(
+        "Cumulative loss probability by mission year",
+        t.years,
+    )];
+    match (t.comparison, &folder.estimate) {
+        (Some(c), Some(e)) => {
+            paragraphs.push(c.note.clone());
+            paragraphs.push(format!(
+                "The Markov estimate ({} mode) rests on these assumptions: {}",
+                e.mode,
+                e.assumptions.join("; ")
+            ));
+            tables.push(ReportTable::from_table(
+                "Markov estimate against Monte Carlo, by mission year (ratio interval: the Monte Carlo interval over the Markov value)",
+                &c.markdown,
+            ));
+        }
+        _ => paragraphs
+            .push("No Markov estimate in this folder, so the Monte Carlo is shown alone.".into()),
+    }
+    Section {
+        heading: "How likely is loss over the mission?".into(),
+        paragraphs,
+        figures: figure(figures, "survival"),
+        tables,
+        ..Default::default()
+    }
+}
+
+fn where_section(figures: &[NamedFigure], t: &DocTables<'_>) -> Section {
+    let mut figs = figure(figures, "losses_by_altitude");
+    figs.extend(figure(figures, "cuts_by_altitude"));
+    Section {
+        heading: "Where along the tether, and why?".into(),
+        figures: figs,
+        tables: vec![
+            report_table("Cuts and losses by altitude band", t.bands),
+            report_table("Losses by cause", t.causes),
+        ],
+        ..Default::default()
+    }
+}
+
+fn repair_section(folder: &RunFolder, figures: &[NamedFigure]) -> Section {
+    let s = &folder.summary;
+    let (Some(r), Some(sp)) = (&s.repair, &s.spares) else {
+        return Section {
+            heading: "What stock and fleet keep it alive?".into(),
+            paragraphs: vec!["This scenario has no repair logistics.".into()],
+            ..Default::default()
+        };
+    };
+    let q = &r.queue;
+    let mut figs = figure(figures, "spare_demand_");
+    figs.extend(figure(figures, "time_to_splice"));
+    Section {
+        heading: "What stock and fleet keep it alive?".into(),
+        paragraphs: vec![if q.mean_wait_hours > 0.0 {
+            format!(
+                "Climbers are busy {} of the available time; {} segments are spliced per year. On average {} cut segments wait for a climber, each for {} h (Little's law: arrival rate {} per hour x mean wait = {}).",
+                pct(r.climber_utilisation),
+                sig(r.splices_per_year, 3),
+                sig(q.mean_waiting_segments, 3),
+                sig(q.mean_wait_hours, 3),
+                sig(q.arrival_rate_per_hour, 3),
+                sig(q.arrival_rate_times_wait, 3)
+            )
+        } else {
+            format!(
+                "Climbers are busy {} of the available time; {} segments are spliced per year. No cut segment ever waited for a free climber: the fleet is large enough for this cut rate, and the time to splice is detection, travel and splicing.",
+                pct(r.climber_utilisation),
+                sig(r.splices_per_year, 3)
+            )
+        }],
+        figures: figs,
+        tables: vec![ReportTable::from_table(
+            format!(
+                "Spare demand and stock per station: mission demand quantiles (segments), the 95th percentile of one demand interval, the chance of a stock-out (Clopper–Pearson upper bound) and the recommended initial stock (stock-out target {})",
+                pct(r.stockout_target)
+            ),
+            &{
+                let mut t = stock_table(r, sp);
+                t.headers = [
+                    "station",
+                    "mission demand P50",
+                    "P90",
+                    "P95",
+                    "P99",
+                    "one interval P95",
+                    "interval (days)",
+                    "stock-out probability",
+                    "upper bound",
+                    "recommended initial stock",
+                ]
+                .iter()
+                .map(|h| h.to_string())
+                .collect();
+                t
+            },
+        )],
+        ..Default::default()
+    }
+}
+
+fn sweep_cell(v: &Value) -> String {
+    match v {
+        Value::Null => String::new(),
+        Value::Bool(b) => b.to_string(),
+        Value::Number(n) => n.as_f64().map_or(n.to_string(), |f| sig(f, 4)),
+        Value::String(s) => s.clone(),
+        Value::Object(o) => match (
+            o.get("estimate").and_then(Value::as_f64),
+            o.get("ci_low").and_then(Value::as_f64),
+            o.get("ci_high").and_then(Value::as_f64),
+        ) {
+            (Some(e), Some(l), Some(h)) => interval_cell(e, l, h),
+            _ => short_json(v),
+        },
+        Value::Array(_) => short_json(v),
+    }
+}
+
+fn short_json(v: &Value) -> String {
+    let s = v.to_string();
+    if s.chars().count() > 60 {
+        s.chars().take(57).collect::<String>() + "..."
+    } else {
+        s
+    }
+}
+
+/// The rows of a trade study: the top-level array, or the first array of objects in it
+/// (preferring the usual names).
+fn sweep_rows(v: &Value) -> Option<&Vec<Value>> {
+    let is_rows = |a: &Vec<Value>| !a.is_empty() && a.iter().all(Value::is_object);
+    if let Some(a) = v.as_array() {
+        return is_rows(a).then_some(a);
+    }
+    let o = v.as_object()?;
+    for key in ["rows", "points", "results", "cases", "runs"] {
+        if let Some(a) = o.get(key).and_then(Value::as_array) {
+            if is_rows(a) {
+                return Some(a);
+            }
+        }
+    }
+    o.values().filter_map(Value::as_array).find(|a| is_rows(a))
+}
+
+/// Largest number of trade-study rows shown in the report.
+const SWEEP_ROWS_SHOWN: usize = 200;
+
+fn sweep_section(sw: &SweepInput) -> Section {
+    let mut paragraphs = Vec::new();
+    if let Some(o) = sw.value.as_object() {
+        for (k, v) in o {
+            if let Some(text) = v.as_str() {
+                paragraphs.push(format!("{}: {text}", k.replace('_', " ")));
+            }
+        }
+    }
+    let mut tables = Vec::new();
+    match sweep_rows(&sw.value) {
+        Some(rows) => {
+            let mut headers: Vec<String> = Vec::new();
+            for r in rows {
+                if let Some(o) = r.as_object() {
+                    for k in o.keys() {
+                        if !headers.contains(k) {
+                            headers.push(k.clone());
+                        }
+                    }
+                }
+            }
+            let mut t = Table::new(headers.clone());
+            for r in rows.iter().take(SWEEP_ROWS_SHOWN) {
+                t.push(
+                    headers
+                        .iter()
+                        .map(|h| r.get(h).map_or(String::new(), sweep_cell)),
+                );
+            }
+            let more = if rows.len() > SWEEP_ROWS_SHOWN {
+                format!(
+                    " (first {SWEEP_ROWS_SHOWN} of {} rows; all are in sweep/sweep.json)",
+                    rows.len()
+                )
+            } else {
+                String::new()
+            };
+            tables.push(ReportTable::from_table(
+                format!("Trade study cases from sweep/sweep.json{more}"),
+                &t,
+            ));
+        }
+        None => paragraphs
+            .push("sweep/sweep.json holds no table of cases that this report can show.".into()),
+    }
+    let mut figures = Vec::new();
+    for (svg, what) in [
+        (&sw.heatmap_svg, "Trade study heat map (sweep/heatmap.svg)"),
+        (
+            &sw.pareto_svg,
+            "Loss probability against mass: the Pareto front of the cases (sweep/pareto.svg)",
+        ),
+    ] {
+        if let Some(svg) = svg {
+            figures.push(ReportFigure {
+                caption: what.to_string(),
+                svg: svg.clone(),
+            });
+        }
+    }
+    Section {
+        heading: "Which cross-link spacing is best for its mass?".into(),
+        paragraphs,
+        figures,
+        tables,
+        ..Default::default()
+    }
+}
+
+fn provenance_section(folder: &RunFolder) -> Section {
+    let s = &folder.summary;
+    let mut t = Table::new(["item", "value"]);
+    let get = |k: &str| folder.manifest.as_ref().and_then(|m| m.get(k));
+    let text = |v: &Value| match v {
+        Value::String(s) => s.clone(),
+        Value::Array(a) => a
+            .iter()
+            .map(|x| match x {
+                Value::String(s) => s.clone(),
+                Value::Array(p) => p
+                    .iter()
+                    .map(|y| y.as_str().map_or(y.to_string(), str::to_string))
+                    .collect::<Vec<_>>()
+                    .join(" "),
+                other => other.to_string(),
+            })
+            .collect::<Vec<_>>()
+            .join(if matches!(a.first(), Some(Value::Array(_))) {
+                ", "
+            } else {
+                " "
+            }),
+        other => other.to_string(),
+    };
+    t.push(["tool version".to_string(), s.version.clone()]);
+    t.push(["scenario".to_string(), s.scenario.clone()]);
+    t.push(["scenario hash".to_string(), s.scenario_hash.clone()]);
+    t.push(["seed".to_string(), s.seed.to_string()]);
+    t.push([
+        "histories".to_string(),
+        format!("{} (requested {})", s.histories, s.histories_requested),
+    ]);
+    t.push(["histories per batch".to_string(), s.batch_size.to_string()]);
+    t.push([
+        "run status".to_string(),
+        format!("{:?}", s.status).to_lowercase(),
+    ]);
+    if let Some(r) = &s.rare_event {
+        t.push([
+            "estimator".to_string(),
+            format!(
+                "{}; boost factor {}; effective sample size {}",
+                r.method,
+                sig(r.boost_factor, 3),
+                sig(r.effective_sample_size, 3)
+            ),
+        ]);
+    } else {
+        t.push(["estimator".to_string(), "plain Monte Carlo".to_string()]);
+    }
+    for (key, label) in [
+        ("crate_versions", "crate versions"),
+        ("random_streams", "random streams"),
+        ("threads", "threads (results do not depend on it)"),
+        ("command", "command"),
+        ("wall_time_s", "wall time (s)"),
+    ] {
+        if let Some(v) = get(key) {
+            t.push([label.to_string(), text(v)]);
+        }
+    }
+    let mut paragraphs = Vec::new();
+    if folder.manifest.is_none() {
+        paragraphs.push("No manifest.json: crate versions are not recorded.".into());
+    }
+    paragraphs.push(format!(
+        "Report rendered by tether-risk {} from the files in this folder; `tether-risk report DIR` renders it again.",
+        crate::VERSION
+    ));
+    Section {
+        heading: "Provenance".into(),
+        paragraphs,
+        tables: vec![ReportTable::from_table("Manifest", &t)],
+        ..Default::default()
+    }
+}
+
+fn report_doc(folder: &RunFolder, figures: &[NamedFigure], t: &DocTables<'_>) -> ReportDoc {
+    let s = &folder.summary;
+    let mut sections = vec![
+        key_section(folder),
+        design_section(folder),
+        survival_section(folder, figures, t),
+        where_section(figures, t),
+        repair_section(folder, figures),
+    ];
+    if let Some(sw) = &folder.sweep {
+        sections.push(sweep_section(sw));
+    }
+    sections.push(provenance_section(folder));
+    if !folder.notes.is_empty() {
+        sections.push(Section {
+            heading: "Sections left out".into(),
+            paragraphs: folder.notes.clone(),
+            ..Default::default()
+        });
+    }
+    ReportDoc {
+        title: format!("Severance risk of tether \"{}\"", s.scenario),
+        subtitle: format!(
+            "Scenario hash {}, seed {}, {} histories, {} mission years, tether-risk {}",
+            s.scenario_hash,
+            s.seed,
+            s.histories,
+            year_label(s.mission_years),
+            s.version
+        ),
+        caution: crate::CAUTION.to_string(),
+        sections,
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::model::markov::{mission_times_s, MarkovModel};
+    use crate::model::Model;
+    use crate::report::design::DesignSummary;
+    use crate::report::estimate::EstimateSummary;
+
+    // Source: the file contract of this module: the views must read what the estimate and
+    // design writers produce, so a renamed field shows up here rather than as a silently
+    // missing section.
+    #[test]
+    fn views_read_the_writers_output() {
+        let model = Model::build(crate::scenario::demo()).unwrap();
+        let markov = MarkovModel::build(&model).unwrap();
+        let est = markov.solve(&mission_times_s(&model.scenario.run)).unwrap();
+        let e = EstimateSummary::new(&model, &markov, &est);
+        let v: EstimateView = serde_json::from_value(serde_json::to_value(&e).unwrap()).unwrap();
+        assert_eq!(v.loss_probability, e.loss_probability);
+        assert_eq!(
+            v.loss_probability_by_year.len(),
+            e.loss_probability_by_year.len()
+        );
+        assert_eq!(v.scenario_hash, e.scenario_hash);
+        let d = serde_json::to_value(DesignSummary::from_model(&model)).unwrap();
+        for key in [
+            "tether_length_km",
+            "ribbon_count",
+            "cross_link_spacing_km",
+            "ribbon_mass_kg",
+            "min_margin",
+            "scenario_hash",
+        ] {
+            assert!(d.get(key).is_some(), "design.json lost `{key}`");
+        }
+    }
+
+    // Source: the defensive-reading rule for the optional trade study: rows are found under
+    // the usual names or as the first array of objects, and interval objects become cells.
+    #[test]
+    fn sweep_rows_are_found() {
+        let v = serde_json::json!({"note": "x", "cases": [{"a": 1.0, "p": {"estimate": 0.5, "ci_low": 0.25, "ci_high": 0.75}}]});
+        let rows = sweep_rows(&v).unwrap();
+        assert_eq!(rows.len(), 1);
+        assert_eq!(sweep_cell(&rows[0]["p"]), "0.500 [0.250, 0.750]");
+        assert!(sweep_rows(&serde_json::json!({"x": [1, 2]})).is_none());
+    }
+}

@@ -1,0 +1,566 @@
+//! Failure-probability tables for review documents: cumulative loss probability by mission
+//! year, loss by altitude band, loss by cause, and the Markov estimate against the Monte Carlo.
+//!
+//! Every probability carries its interval and the number of histories behind it. Each table
+//! comes twice from the same rows: a CSV with one number per column (for machines) and a
+//! Markdown table with "estimate [low, high]" cells (for pasting into a review document).
+//!
+//! Rare-event runs: the yearly and total loss probabilities are the weighted (unbiased)
+//! estimates; the band and cause counts are the biased measure's counts, which show where and
+//! how losses happen but not how often. The tables say so.
+
+use serde::Serialize;
+
+use super::table::{sig, Table};
+use crate::engine::RunSummary;
+use crate::stats::clopper_pearson;
+
+/// One table as CSV (separate columns) and Markdown (combined cells), with a note on its basis.
+#[derive(Clone, Debug)]
+pub struct DualTable {
+    /// One number per column.
+    pub csv: Table,
+    /// Readable cells: "estimate [low, high]", "losses / histories".
+    pub markdown: Table,
+    /// What the numbers rest on (estimator, measure); shown above the Markdown table.
+    pub note: String,
+}
+
+/// A value with an interval, formatted for a table cell.
+pub fn interval_cell(estimate: f64, lo: f64, hi: f64) -> String {
+    format!("{} [{}, {}]", sig(estimate, 3), sig(lo, 3), sig(hi, 3))
+}
+
+/// Clopper–Pearson interval of `k` in `n`, or (0, 1) when it cannot be formed (n = 0).
+fn cp(k: u64, n: u64, confidence: f64) -> (f64, f64) {
+    clopper_pearson(k, n, confidence).unwrap_or((0.0, 1.0))
+}
+
+/// Exact (Garwood 1936) two-sided interval for the mean of a Poisson count `k`:
+/// `low` solves P(X >= k | mu) = alpha/2 and `high` solves P(X <= k | mu) = alpha/2.
+/// With P(X <= k | mu) = Q(k + 1, mu) (regularised upper incomplete gamma), both are found by
+/// bisection on `statrs`' regularised lower incomplete gamma.
+/// Garwood F. (1936), "Fiducial limits for the Poisson distribution", Biometrika 28, 437–442.
+pub fn poisson_interval(k: u64, confidence: f64) -> (f64, f64) {
+    use statrs::function::gamma::gamma_lr;
+    let alpha = (1.0 - confidence).clamp(1e-12, 1.0);
+    let kf = k as f64;
+    // Find mu with f(mu) = target for f increasing in mu.
+    let solve = |f: &dyn Fn(f64) -> f64, target: f64| {
+        let (mut lo, mut hi) = (0.0f64, kf + 10.0 * (kf + 1.0).sqrt() + 10.0);
+        while f(hi) < target {
+            hi *= 2.0;
+        }
+        for _ in 0..200 {
+            let mid = 0.5 * (lo + hi);
+            if mid <= lo || mid >= hi {
+                break;
+            }
+            if f(mid) < target {
+                lo = mid;
+            } else {
+                hi = mid;
+            }
+        }
+        0.5 * (lo + hi)
+    };
+    let low = if k == 0 {
+        0.0
+    } else {
+        // P(X >= k | mu) = P(k, mu) (regularised lower gamma), increasing in mu.
+        solve(&|mu| gamma_lr(kf, mu), alpha / 2.0)
+    };
+    // P(X <= k | mu) = 1 - P(k + 1, mu) = alpha/2  <=>  P(k + 1, mu) = 1 - alpha/2.
+    let high = solve(&|mu| gamma_lr(kf + 1.0, mu), 1.0 - alpha / 2.0);
+    (low, high)
+}
+
+fn conf_pct(s: &RunSummary) -> String {
+    format!("{:.0} %", 100.0 * s.loss_probability.confidence)
+}
+
+/// Cumulative loss probability by mission year.
+#[derive(Clone, Debug, Serialize, PartialEq)]
+pub struct YearRow {
+    /// End of the mission year, years.
+    pub year: f64,
+    /// Probability of system loss by then.
+    pub loss_probability: f64,
+    /// Lower bound.
+    pub ci_low: f64,
+    /// Upper bound.
+    pub ci_high: f64,
+    /// Losses seen by then (under the biased measure for rare-event runs).
+    pub losses: u64,
+    /// Histories behind the estimate.
+    pub histories: u64,
+}
+
+/// The rows of the yearly table.
+pub fn year_rows(s: &RunSummary) -> Vec<YearRow> {
+    let conf = s.loss_probability.confidence;
+    let mut cum = 0u64;
+    s.survival_by_year
+        .iter()
+        .enumerate()
+        .map(|(i, p)| {
+            cum += s.tally.losses_by_year.get(i).copied().unwrap_or(0);
+            let (est, lo, hi) = match &s.rare_event {
+                Some(r) => {
+                    let c = r.cumulative_by_year.get(i).copied();
+                    c.map_or((1.0 - p.estimate, 1.0 - p.ci_high, 1.0 - p.ci_low), |c| {
+                        (c.estimate, c.ci_low, c.ci_high)
+                    })
+                }
+                None => {
+                    let (lo, hi) = cp(cum, s.histories, conf);
+                    (cum as f64 / s.histories.max(1) as f64, lo, hi)
+                }
+            };
+            YearRow {
+                year: p.year,
+                loss_probability: est,
+                ci_low: lo,
+                ci_high: hi,
+                losses: cum,
+                histories: s.histories,
+            }
+        })
+        .collect()
+}
+
+/// A time in years as written in tables: whole years without decimals.
+pub fn year_label(y: f64) -> String {
+    if y.fract() == 0.0 {
+        format!("{y:.0}")
+    } else {
+        sig(y, 4)
+    }
+}
+
+/// Cumulative loss probability by mission year.
+pub fn year_table(s: &RunSummary) -> DualTable {
+    let rare = s.rare_event.is_some();
+    let method = if rare {
+        "weighted (rare-event), normal interval"
+    } else {
+        "Clopper–Pearson"
+    };
+    let mut csv = Table::new([
+        "year",
+        "loss_probability",
+        "ci_low",
+        "ci_high",
+        "losses",
+        "histories",
+        "interval",
+    ]);
+    let mut md = Table::new([
+        "mission year".to_string(),
+        format!("loss probability by then [{} interval]", conf_pct(s)),
+        if rare {
+            "losses seen (biased measure) / histories".to_string()
+        } else {
+            "losses / histories".to_string()
+        },
+        "survival probability".to_string(),
+    ]);
+    for r in year_rows(s) {
+        csv.push([
+            year_label(r.year),
+            sig(r.loss_probability, 6),
+            sig(r.ci_low, 6),
+            sig(r.ci_high, 6),
+            r.losses.to_string(),
+            r.histories.to_string(),
+            method.to_string(),
+        ]);
+        md.push([
+            year_label(r.year),
+            interval_cell(r.loss_probability, r.ci_low, r.ci_high),
+            format!("{} / {}", r.losses, r.histories),
+            sig(1.0 - r.loss_probability, 6),
+        ]);
+    }
+    let note = if rare {
+        format!(
+            "Weighted rare-event estimates (likelihood-ratio weights) from {} histories; {} interval from the weighted samples (normal approximation; yearly intervals use the end-of-mission spread, so they are conservative).",
+            s.histories,
+            conf_pct(s)
+        )
+    } else {
+        format!(
+            "Plain Monte Carlo: losses counted in {} independent histories; {} Clopper–Pearson intervals.",
+            s.histories,
+            conf_pct(s)
+        )
+    };
+    DualTable {
+        csv,
+        markdown: md,
+        note,
+    }
+}
+
+fn biased_note(s: &RunSummary) -> String {
+    match &s.rare_event {
+        Some(r) => format!(
+            " This is a rare-event run: the counts here are from the biased measure (cut rates on damaged bays multiplied by {}), so they show where and how losses happen, not how often. The weighted (unbiased) total is {} [{}, {}].",
+            sig(r.boost_factor, 3),
+            sig(r.loss_probability.estimate, 3),
+            sig(r.loss_probability.ci_low, 3),
+            sig(r.loss_probability.ci_high, 3)
+        ),
+        None => String::new(),
+    }
+}
+
+/// Cuts and losses by altitude band.
+pub fn band_table(s: &RunSummary) -> DualTable {
+    let conf = s.loss_probability.confidence;
+    let n = s.histories;
+    let exposure_years = n as f64 * s.mission_years;
+    let total_losses: u64 = s.tally.losses_by_band.iter().sum();
+    let basis = if s.rare_event.is_some() {
+        "biased-measure counts"
+    } else {
+        "plain Monte Carlo"
+    };
+    let mut csv = Table::new([
+        "band_bottom_km",
+        "band_top_km",
+        "cuts",
+        "cuts_per_year",
+        "cuts_per_year_ci_low",
+        "cuts_per_year_ci_high",
+        "losses",
+        "histories",
+        "loss_probability",
+        "ci_low",
+        "ci_high",
+        "share_of_losses",
+        "basis",
+    ]);
+    let pct = conf_pct(s);
+    let mut md = Table::new([
+        "altitude band (km)".to_string(),
+        format!("cuts per year, whole band [{pct} interval]"),
+        "losses / histories".to_string(),
+        format!("loss probability in band [{pct} interval]"),
+        "share of losses".to_string(),
+    ]);
+    for (b, row) in s.cuts_by_altitude_band.iter().enumerate() {
+        let cuts = s.tally.cuts_by_band.get(b).copied().unwrap_or(0);
+        let losses = s.tally.losses_by_band.get(b).copied().unwrap_or(0);
+        let (clo, chi) = poisson_interval(cuts, conf);
+        let per_year = |x: f64| {
+            if exposure_years > 0.0 {
+                x / exposure_years
+            } else {
+                0.0
+            }
+        };
+        let (llo, lhi) = cp(losses, n, conf);
+        let p = losses as f64 / n.max(1) as f64;
+        let share = if total_losses > 0 {
+            losses as f64 / total_losses as f64
+        } else {
+            0.0
+        };
+        let band = format!("{:.0}-{:.0}", row.bottom_altitude_km, row.top_altitude_km);
+        csv.push([
+            sig(row.bottom_altitude_km, 6),
+            sig(row.top_altitude_km, 6),
+            cuts.to_string(),
+            sig(per_year(cuts as f64), 4),
+            sig(per_year(clo), 4),
+            sig(per_year(chi), 4),
+            losses.to_string(),
+            n.to_string(),
+            sig(p, 4),
+            sig(llo, 4),
+            sig(lhi, 4),
+            sig(share, 4),
+            basis.to_string(),
+        ]);
+        md.push([
+            band,
+            interval_cell(per_year(cuts as f64), per_year(clo), per_year(chi)),
+            format!("{losses} / {n}"),
+            interval_cell(p, llo, lhi),
+            if total_losses > 0 {
+                format!("{:.1} %", 100.0 * share)
+            } else {
+                "-".into()
+            },
+        ]);
+    }
+    let note = format!(
+        "Altitude above the lunar surface. Cut intervals: exact Poisson (Garwood) on the band's cut count over {} histories x {} years; loss intervals: Clopper–Pearson on the band's losses in {} histories.{}",
+        n,
+        year_label(s.mission_years),
+        n,
+        biased_note(s)
+    );
+    DualTable {
+        csv,
+        markdown: md,
+        note,
+    }
+}
+
+/// Losses by cause.
+pub fn cause_table(s: &RunSummary) -> DualTable {
+    let conf = s.loss_probability.confidence;
+    let n = s.histories;
+    let c = &s.losses_by_cause;
+    let total = c.direct_cut + c.cascade + c.stockout_delay;
+    let basis = if s.rare_event.is_some() {
+        "biased-measure counts"
+    } else {
+        "plain Monte Carlo"
+    };
+    let mut csv = Table::new([
+        "cause",
+        "losses",
+        "histories",
+        "loss_probability",
+        "ci_low",
+        "ci_high",
+        "share_of_losses",
+        "share_ci_low",
+        "share_ci_high",
+        "basis",
+    ]);
+    let pct = conf_pct(s);
+    let mut md = Table::new([
+        "cause".to_string(),
+        "losses / histories".to_string(),
+        format!("loss probability [{pct} interval]"),
+        format!("share of losses [{pct} interval]"),
+    ]);
+    let rows = [
+        (
+            "direct cut (a strike cut the last surviving ribbon)",
+            c.direct_cut,
+        ),
+        ("cascade (survivors overloaded after a cut)", c.cascade),
+        (
+            "stock-out delay (repair waited for spare stock)",
+            c.stockout_delay,
+        ),
+        ("all causes", total),
+    ];
+    for (name, k) in rows {
+        let (lo, hi) = cp(k, n, conf);
+        let p = k as f64 / n.max(1) as f64;
+        let (share, slo, shi) = if total > 0 {
+            let (a, b) = cp(k, total, conf);
+            (k as f64 / total as f64, a, b)
+        } else {
+            (0.0, 0.0, 0.0)
+        };
+        csv.push([
+            name.split(" (").next().unwrap_or(name).to_string(),
+            k.to_string(),
+            n.to_string(),
+            sig(p, 4),
+            sig(lo, 4),
+            sig(hi, 4),
+            sig(share, 4),
+            sig(slo, 4),
+            sig(shi, 4),
+            basis.to_string(),
+        ]);
+        md.push([
+            name.to_string(),
+            format!("{k} / {n}"),
+            interval_cell(p, lo, hi),
+            if total > 0 {
+                format!(
+                    "{:.1} % [{:.1} %, {:.1} %]",
+                    100.0 * share,
+                    100.0 * slo,
+                    100.0 * shi
+                )
+            } else {
+                "no losses".into()
+            },
+        ]);
+    }
+    if let Some(r) = &s.rare_event {
+        let lp = r.loss_probability;
+        csv.push([
+            "all causes, weighted estimate".to_string(),
+            r.losses_observed.to_string(),
+            n.to_string(),
+            sig(lp.estimate, 4),
+            sig(lp.ci_low, 4),
+            sig(lp.ci_high, 4),
+            String::new(),
+            String::new(),
+            String::new(),
+            "weighted (unbiased)".to_string(),
+        ]);
+        md.push([
+            "all causes, weighted estimate (unbiased)".to_string(),
+            format!("{} / {n}", r.losses_observed),
+            interval_cell(lp.estimate, lp.ci_low, lp.ci_high),
+            String::new(),
+        ]);
+    }
+    let note = format!(
+        "Clopper–Pearson intervals: the loss probability on the losses in {n} histories, the share on the cause's count among all {total} losses.{}",
+        biased_note(s)
+    );
+    DualTable {
+        csv,
+        markdown: md,
+        note,
+    }
+}
+
+/// The Markov estimate's loss probability at one time (as read from `estimate.json`).
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct MarkovPoint {
+    /// Mission time, years.
+    pub year: f64,
+    /// System loss probability by then.
+    pub loss_probability: f64,
+}
+
+/// Why the two answers may differ, for the text beside the comparison.
+pub const COMPARISON_EXPLANATION: &str = "The Markov estimate treats each bay as a chain over its number of cut segments, with independent bays and exponential repair. It has no memory of sub-critical damage (a hole that does not cut today is forgotten, although it would cut once a neighbouring ribbon fails and the load is redistributed) and no fleet contention (every bay has its own climber and spare stock is always on hand). The Monte Carlo keeps both. A ratio near 1 means those effects do not matter for this design; a large ratio means they do: the losses then come from cascades through accumulated sub-critical holes or from waiting for climbers and stock, and the Markov number must not be used on its own.";
+
+/// Monte Carlo against the Markov estimate at each mission year both give.
+pub fn comparison_table(s: &RunSummary, markov: &[MarkovPoint]) -> DualTable {
+    let pct = conf_pct(s);
+    let mut csv = Table::new([
+        "year",
+        "monte_carlo",
+        "mc_ci_low",
+        "mc_ci_high",
+        "losses",
+        "histories",
+        "markov",
+        "ratio_mc_to_markov",
+        "ratio_ci_low",
+        "ratio_ci_high",
+    ]);
+    let mut md = Table::new([
+        "mission year".to_string(),
+        format!("Monte Carlo [{pct} interval]"),
+        "losses / histories".to_string(),
+        "Markov estimate".to_string(),
+        format!("ratio Monte Carlo / Markov [{pct} interval]"),
+    ]);
+    for r in year_rows(s) {
+        let Some(m) = markov.iter().find(|m| (m.year - r.year).abs() < 1e-6) else {
+            continue;
+        };
+        let ratio = |x: f64| {
+            if m.loss_probability > 0.0 {
+                Some(x / m.loss_probability)
+            } else {
+                None
+            }
+        };
+        let (re, rl, rh) = (ratio(r.loss_probability), ratio(r.ci_low), ratio(r.ci_high));
+        let f = |v: Option<f64>| v.map_or(String::new(), |v| sig(v, 4));
+        csv.push([
+            year_label(r.year),
+            sig(r.loss_probability, 6),
+            sig(r.ci_low, 6),
+            sig(r.ci_high, 6),
+            r.losses.to_string(),
+            r.histories.to_string(),
+            sig(m.loss_probability, 6),
+            f(re),
+            f(rl),
+            f(rh),
+        ]);
+        md.push([
+            year_label(r.year),
+            interval_cell(r.loss_probability, r.ci_low, r.ci_high),
+            format!("{} / {}", r.losses, r.histories),
+            sig(m.loss_probability, 4),
+            match (re, rl, rh) {
+                (Some(e), Some(l), Some(h)) => interval_cell(e, l, h),
+                _ => "undefined (Markov estimate is 0)".into(),
+            },
+        ]);
+    }
+    DualTable {
+        csv,
+        markdown: md,
+        note: COMPARISON_EXPLANATION.to_string(),
+    }
+}
+
+/// All failure tables as one Markdown document (`failure_tables.md`).
+pub fn failure_markdown(
+    s: &RunSummary,
+    comparison: Option<&DualTable>,
+    missing_estimate_note: Option<&str>,
+) -> String {
+    let mut o = format!(
+        "# Failure probabilities: scenario \"{}\"\n\n{}\n\nScenario hash {}, seed {}, {} histories, {} mission years, tether-risk {}.\n\n",
+        s.scenario,
+        s.caution,
+        s.scenario_hash,
+        s.seed,
+        s.histories,
+        year_label(s.mission_years),
+        s.version
+    );
+    let mut part = |title: &str, t: &DualTable| {
+        o.push_str(&format!("## {title}\n\n{}\n\n", t.note));
+        o.push_str(&t.markdown.to_markdown());
+        o.push('\n');
+    };
+    part(
+        "Cumulative loss probability by mission year",
+        &year_table(s),
+    );
+    part("Loss by altitude band", &band_table(s));
+    part("Loss by cause", &cause_table(s));
+    match (comparison, missing_estimate_note) {
+        (Some(c), _) => part("Markov estimate against Monte Carlo", c),
+        (None, Some(n)) => o.push_str(&format!(
+            "## Markov estimate against Monte Carlo\n\n{n}\n\n"
+        )),
+        (None, None) => {}
+    }
+    o.push_str(&s.caution);
+    o.push('\n');
+    o
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    // Source: Garwood (1936) exact Poisson limits. k = 0: the upper limit has the closed form
+    // -ln(alpha/2) = 3.68888 at 95 %. k = 1 and k = 10: values from published tables of exact
+    // Poisson confidence limits (from memory: 0.0253–5.572 and 4.795–18.39).
+    #[test]
+    fn garwood_limits() {
+        let (lo, hi) = poisson_interval(0, 0.95);
+        assert_eq!(lo, 0.0);
+        assert!((hi - (-(0.025f64).ln())).abs() < 1e-6, "{hi}");
+        let (lo, hi) = poisson_interval(1, 0.95);
+        assert!((lo - 0.0253).abs() < 1e-4, "{lo}");
+        assert!((hi - 5.572).abs() < 1e-3, "{hi}");
+        let (lo, hi) = poisson_interval(10, 0.95);
+        assert!((lo - 4.795).abs() < 1e-3, "{lo}");
+        assert!((hi - 18.39).abs() < 1e-2, "{hi}");
+    }
+
+    // Source: the Clopper–Pearson check value in the project's crate notes: 3 in 1000 at
+    // 95 % gives (6.190999e-4, 8.742023e-3); the interval cell must carry it.
+    #[test]
+    fn interval_cell_format() {
+        let (lo, hi) = cp(3, 1000, 0.95);
+        assert_eq!(interval_cell(0.003, lo, hi), "0.00300 [6.19e-4, 0.00874]");
+    }
+}
