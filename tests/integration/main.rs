@@ -4,7 +4,9 @@ mod util;
 
 mod bad_input;
 mod commands;
+mod determinism;
 mod engine_validation;
 mod estimate;
 mod rare_event;
 mod repair;
+mod robust;
