@@ -6,6 +6,7 @@ mod env;
 mod estimate;
 mod init;
 mod interrupt;
+mod merge;
 mod output;
 mod profile;
 mod simulate;
@@ -36,6 +37,8 @@ enum Command {
     Profile(profile::Args),
     /// Run the Monte Carlo: loss probability, survival by year, cuts by altitude.
     Simulate(simulate::Args),
+    /// Join shard results (simulate --shard I/N) into the result of the whole run.
+    Merge(merge::Args),
     /// Fast Markov estimate of loss probability by year (independent bays, exponential repair)
     Estimate(estimate::Args),
 }
@@ -62,6 +65,7 @@ pub fn run() -> anyhow::Result<()> {
         Command::Env(a) => env::run(a),
         Command::Profile(a) => profile::run(a),
         Command::Simulate(a) => simulate::run(a),
+        Command::Merge(a) => merge::run(a),
         Command::Estimate(a) => estimate::run(a),
     }
 }

@@ -229,6 +229,11 @@ pub fn execute(
         (serde_json::to_string_pretty(&model.scenario.spec)? + "\n").as_bytes(),
     )
     .map_err(io)?;
+    write_atomic(
+        &out_dir.join("settings.json"),
+        (serde_json::to_string_pretty(s)? + "\n").as_bytes(),
+    )
+    .map_err(io)?;
     if let Some(t) = &model.scenario.environment.flux_table_json {
         write_atomic(&out_dir.join("flux_table.json"), t.as_bytes()).map_err(io)?;
     }

@@ -47,8 +47,9 @@ pub struct Impact {
     pub diameter_m: f64,
     /// Impact speed relative to the ribbon, m/s.
     pub speed_m_per_s: f64,
-    /// Angle between the velocity and the struck face's normal, rad, in [0, π/2].
-    pub incidence_rad: f64,
+    /// Cosine of the angle between the velocity and the struck face's normal, in [0, 1]
+    /// (kept as a cosine because the laws use it and the sampler draws it directly: cos = sqrt(u)).
+    pub cos_incidence: f64,
     /// Particle bulk density, kg/m³.
     pub density_kg_per_m3: f64,
 }
@@ -86,7 +87,7 @@ impl Impact {
         Ok(Self {
             diameter_m,
             speed_m_per_s,
-            incidence_rad,
+            cos_incidence: incidence_rad.cos().clamp(0.0, 1.0),
             density_kg_per_m3,
         })
     }

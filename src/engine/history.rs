@@ -15,7 +15,8 @@
 
 use crate::damage::{removed_width_m, Impact, RibbonTarget};
 use crate::repair::{EventKind, Fleet, RepairPlan, RepairTally};
-use crate::structure::load_sharing::{settle_bay, MAX_RIBBONS};
+use crate::scenario::LoadSharingSpec;
+use crate::structure::load_sharing::{settle_bay, CAPACITY_TOLERANCE, MAX_RIBBONS};
 
 use super::rng::{stream, Purpose};
 use super::sampler::Strike;
@@ -314,9 +315,12 @@ impl Engine<'_> {
                 bias.next_extra_s = f64::INFINITY; // drawn again below
                 (t, s)
             } else {
+                // Draw order per strike: its details, then the gap to the next one (the same
+                // order as the bare strike stream).
                 let t = t_strike;
+                let s = self.sampler.sample(&mut rng);
                 t_strike = t + self.sampler.next_gap_s(&mut rng);
-                (t, self.sampler.sample(&mut rng))
+                (t, s)
             };
             out.strikes += 1;
             if bias.active() && scratch.cuts_in(strike.bay) > 0 {
@@ -514,7 +518,7 @@ impl Engine<'_> {
             let impact = Impact {
                 diameter_m: s.diameter_m,
                 speed_m_per_s: s.speed_m_per_s,
-                incidence_rad: s.incidence_rad,
+                cos_incidence: s.cos_incidence,
                 density_kg_per_m3: self.particle_density,
             };
             let target = RibbonTarget {
@@ -539,6 +543,22 @@ impl Engine<'_> {
             return (0, None);
         }
         scratch.worst_hole_m[base + r] = removed;
+        // Fast path: under equal (or no) sharing the struck ribbon's load is known, and the other
+        // ribbons are unchanged and were stable, so the bay settles unless this ribbon fails —
+        // the same test settle_bay would make first. Most holes are sub-critical.
+        let survivors = match self.sharing_kind {
+            LoadSharingSpec::Equal => Some((n as u32 - scratch.cuts_in_bay[slot]) as f64),
+            LoadSharingSpec::None => Some(n as f64),
+            LoadSharingSpec::Local => None,
+        };
+        if let Some(k) = survivors {
+            let load = bay.max_tension_n / k;
+            if load <= (w - removed).max(0.0) * self.per_width_capacity * (1.0 - CAPACITY_TOLERANCE)
+            {
+                tally.subcritical_holes += 1;
+                return (0, None);
+            }
+        }
         let mut capacity = [0.0f64; MAX_RIBBONS];
         for (c, hole) in capacity
             .iter_mut()

@@ -113,6 +113,7 @@ pub struct Engine<'m> {
     model: &'m Model,
     sampler: StrikeSampler,
     sharing: Box<dyn LoadSharing>,
+    sharing_kind: LoadSharingSpec,
     repair: Option<RepairPlan>,
     policy: Box<dyn DispatchPolicy>,
     mission_s: f64,
@@ -170,6 +171,7 @@ impl<'m> Engine<'m> {
             model,
             sampler,
             sharing,
+            sharing_kind: t.load_sharing,
             repair,
             policy,
             mission_s: model.scenario.run.mission_s,
@@ -188,7 +190,7 @@ impl<'m> Engine<'m> {
     /// have a cut become `factor` times as frequent, and every history carries its likelihood
     /// ratio. `factor` = 1 is plain Monte Carlo.
     pub fn with_rare_event(mut self, factor: f64) -> Result<Self, EngineError> {
-        if !(factor.is_finite() && factor >= 1.0 && factor <= 1e6) {
+        if !(1.0..=1e6).contains(&factor) {
             return Err(EngineError::Options(format!(
                 "rare-event boost factor = {factor} is out of range: allowed [1, 1e6] (dimensionless)"
             )));

@@ -50,8 +50,8 @@ pub struct Strike {
     pub centre_m: f64,
     /// Impact speed, m/s.
     pub speed_m_per_s: f64,
-    /// Angle from the face normal, rad.
-    pub incidence_rad: f64,
+    /// Cosine of the angle from the face normal.
+    pub cos_incidence: f64,
 }
 
 /// Per-bay sampling constants.
@@ -381,14 +381,14 @@ impl StrikeSampler {
         let k = band.alias.sample(rng);
         let v_inf = band.v_inf_m_per_s[k] + (2.0 * unit(rng) - 1.0) * self.bin_half_width_m_per_s;
         let speed = (v_inf.max(0.0).powi(2) + band.v_esc_sq).sqrt();
-        let incidence = unit(rng).sqrt().acos();
+        let cos_incidence = unit(rng).sqrt();
         Strike {
             bay: j as u32,
             ribbon,
             diameter_m: d,
             centre_m: centre,
             speed_m_per_s: speed,
-            incidence_rad: incidence,
+            cos_incidence,
         }
     }
 }

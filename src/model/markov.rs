@@ -482,7 +482,7 @@ fn unperforated_fraction_bound(model: &Model, holes: &[Vec<f64>], hole_factor: f
             let impact = Impact {
                 diameter_m: d,
                 speed_m_per_s: v,
-                incidence_rad: cos_theta.clamp(0.0, 1.0).acos(),
+                cos_incidence: cos_theta.clamp(0.0, 1.0),
                 density_kg_per_m3: rho_p,
             };
             law.ballistic_limit_diameter_m(&impact, &target)

@@ -166,3 +166,53 @@ fn closed_pipe_is_not_a_panic() {
     let err = String::from_utf8_lossy(&o.stderr);
     assert!(!err.contains("panicked"), "{err}");
 }
+
+/// `simulate --shard I/3` three times, then `merge`: the merged summary.json is byte-identical
+/// to one run of the same histories and seed (plain and rare-event estimators).
+#[test]
+fn three_shards_merge_to_the_single_run_bit_for_bit() {
+    for extra in [&[][..], &["--rare-event", "10"][..]] {
+        let dir = temp_dir(&format!("shards{}", extra.len()));
+        let d = |n: &str| dir.join(n).to_str().unwrap().to_string();
+        let mut shard_dirs = Vec::new();
+        for i in 0..3 {
+            let out = d(&format!("s{i}"));
+            let shard = format!("{i}/3");
+            let mut args = vec![
+                "simulate",
+                "demo",
+                "--histories",
+                "2500",
+                "--shard",
+                &shard,
+                "--out",
+                &out,
+            ];
+            args.extend_from_slice(extra);
+            let o = run(&args);
+            assert!(o.status.success(), "{}", stderr(&o));
+            shard_dirs.push(out);
+        }
+        let all = d("all");
+        let mut margs = vec!["merge"];
+        margs.extend(shard_dirs.iter().map(String::as_str));
+        margs.extend(["--out", &all]);
+        let o = run(&margs);
+        assert!(o.status.success(), "{}", stderr(&o));
+        let one = d("one");
+        let mut args = vec!["simulate", "demo", "--histories", "2500", "--out", &one];
+        args.extend_from_slice(extra);
+        assert!(run(&args).status.success());
+        let a = std::fs::read(dir.join("all/summary.json")).unwrap();
+        let b = std::fs::read(dir.join("one/summary.json")).unwrap();
+        assert!(a == b, "merged and single-run summaries differ ({extra:?})");
+        // A missing shard is refused.
+        let o = run(&["merge", &shard_dirs[0], &shard_dirs[1], "--out", &d("bad")]);
+        assert_eq!(o.status.code(), Some(2));
+        assert!(
+            stderr(&o).contains("shard 2/3 is missing"),
+            "{}",
+            stderr(&o)
+        );
+    }
+}

@@ -390,7 +390,7 @@ fn strike_details_follow_their_exact_distributions() {
             let s = sampler.sample_in_bay(&mut rng, j);
             assert_eq!(s.bay as usize, j);
             d.push(s.diameter_m);
-            cos2.push(s.incidence_rad.cos().powi(2));
+            cos2.push(s.cos_incidence.powi(2));
             assert!(s.centre_m >= -0.5 * s.diameter_m && s.centre_m <= w + 0.5 * s.diameter_m);
             lateral.push((s.centre_m + 0.5 * s.diameter_m) / (w + s.diameter_m));
             ribbons[s.ribbon as usize] += 1;
