@@ -23,14 +23,29 @@ use tether_risk::model::Model;
 
 use crate::util::*;
 
-/// Run `simulate demo` with `extra` into a fresh folder; return summary.json's bytes.
-fn summary_bytes(name: &str, extra: &[&str]) -> Vec<u8> {
+/// Run `simulate SCENARIO` with `extra` into a fresh folder; return summary.json's bytes.
+fn summary_of(scenario: &str, name: &str, extra: &[&str]) -> Vec<u8> {
     let out = temp_dir(name).join("run");
-    let mut args = vec!["simulate", "demo", "--out", out.to_str().unwrap()];
+    let mut args = vec!["simulate", scenario, "--out", out.to_str().unwrap()];
     args.extend_from_slice(extra);
     let o = run(&args);
     assert_eq!(o.status.code(), Some(0), "{name}: {}", stderr(&o));
     std::fs::read(out.join("summary.json")).unwrap()
+}
+
+fn summary_bytes(name: &str, extra: &[&str]) -> Vec<u8> {
+    summary_of("demo", name, extra)
+}
+
+/// The demo with a five-year mission (cheaper histories, same physics and repair logistics).
+fn five_years() -> &'static str {
+    static P: std::sync::OnceLock<String> = std::sync::OnceLock::new();
+    P.get_or_init(|| {
+        scenario_with("det-five-years", |v| v["run"]["mission_years"] = 5.0.into())
+            .to_str()
+            .unwrap()
+            .to_string()
+    })
 }
 
 #[test]
@@ -55,7 +70,10 @@ fn thread_counts_give_identical_summaries() {
 /// Through the library: three shards merged, summarised, equal the whole run exactly.
 #[test]
 fn three_shards_merged_equal_the_whole_run() {
-    let model = Model::build(tether_risk::scenario::demo()).unwrap();
+    let mut sc = tether_risk::scenario::demo();
+    sc.run.mission_years = 5.0;
+    sc.run.mission_s = 5.0 * tether_risk::scenario::SECONDS_PER_YEAR;
+    let model = Model::build(sc).unwrap();
     let engine = Engine::new(&model, 1.0).unwrap();
     let opts = |shard| RunOptions {
         histories: 7_500,
@@ -81,28 +99,60 @@ fn three_shards_merged_equal_the_whole_run() {
     );
 }
 
-/// Through the binary: the tallies of `--shard 0/3`, `1/3`, `2/3` add up to the whole run's.
+/// Through the binary: the tallies of `--shard 0/3`, `1/3`, `2/3` add up to the whole run's,
+/// and `tether-risk merge` of the three folders writes exactly the whole run's summary.json.
 #[test]
-fn cli_shards_add_up_to_the_whole_run() {
+fn cli_shards_add_up_to_the_whole_run_and_merge_exactly() {
     let common = ["--histories", "4500", "--seed", "9"];
     let tally = |b: &[u8]| -> Tally {
         let v: Value = serde_json::from_slice(b).unwrap();
         serde_json::from_value(v["tally"].clone()).unwrap()
     };
-    let whole = tally(&summary_bytes("det-shard-whole", &common));
+    let whole_bytes = summary_of(five_years(), "det-shard-whole", &common);
+    let whole = tally(&whole_bytes);
     let mut merged: Option<Tally> = None;
+    let mut dirs = Vec::new();
     for i in 0..3 {
         let shard = format!("{i}/3");
-        let part = tally(&summary_bytes(
-            &format!("det-shard-{i}"),
+        let name = format!("det-shard-{i}");
+        let part = tally(&summary_of(
+            five_years(),
+            &name,
             &[&common[..], &["--shard", &shard]].concat(),
         ));
+        dirs.push(temp_dir_path(&name).join("run"));
         match merged.as_mut() {
             None => merged = Some(part),
             Some(m) => m.merge(&part),
         }
     }
     assert_eq!(merged.unwrap(), whole);
+
+    let out = temp_dir("det-shard-merged").join("run");
+    let mut args = vec!["merge".to_string()];
+    args.extend(dirs.iter().map(|d| d.to_str().unwrap().to_string()));
+    args.extend(["--out".to_string(), out.to_str().unwrap().to_string()]);
+    let o = run(&args.iter().map(String::as_str).collect::<Vec<_>>());
+    assert_eq!(o.status.code(), Some(0), "merge: {}", stderr(&o));
+    let merged_bytes = std::fs::read(out.join("summary.json")).unwrap();
+    if merged_bytes != whole_bytes {
+        let (m, w): (Value, Value) = (
+            serde_json::from_slice(&merged_bytes).unwrap(),
+            serde_json::from_slice(&whole_bytes).unwrap(),
+        );
+        let keys: Vec<&String> = w
+            .as_object()
+            .unwrap()
+            .keys()
+            .filter(|k| m[k.as_str()] != w[k.as_str()])
+            .collect();
+        panic!("merged summary.json differs from the whole run in: {keys:?}");
+    }
+}
+
+/// The folder `temp_dir(name)` made (without clearing it).
+fn temp_dir_path(name: &str) -> std::path::PathBuf {
+    std::env::temp_dir().join(format!("tether-risk-test-{}-{name}", std::process::id()))
 }
 
 // ---------------------------------------------------------------------------------------------
