@@ -4,9 +4,11 @@ mod util;
 
 mod bad_input;
 mod commands;
+mod determinism;
 mod engine_validation;
 mod estimate;
 mod rare_event;
 mod repair;
-mod sweep;
 mod report;
+mod robust;
+mod sweep;
