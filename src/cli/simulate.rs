@@ -16,6 +16,7 @@ use super::Format;
 
 /// Arguments of `simulate`.
 #[derive(clap::Args, Debug, Clone)]
+#[command(allow_negative_numbers = true)]
 #[command(
     after_help = "Examples:\n  tether-risk simulate demo --histories 20000\n  tether-risk simulate my-tether.json --seed 7 --threads 2 --out out/run7 --format json\n  tether-risk simulate my-tether.json --rare-event 30 --histories 100000\n  tether-risk simulate my-tether.json --shard 0/3 --out out/part0   # then: tether-risk merge out/part* --out out/all\n  tether-risk simulate my-tether.json --target-rel-error 0.1 --histories 10000000\n\nWrites summary.json, manifest.json, scenario.json and tables (CSV, Markdown) into the output\nfolder. Ctrl-C finishes the current chunk of batches, writes partial results and a checkpoint,\nand exits with code 130; --resume DIR continues it."
 )]
@@ -40,23 +41,23 @@ pub struct Args {
     pub force: bool,
     /// Sampling floor as a fraction of the smallest severing hole; below 1 also samples
     /// sub-critical holes (slower; does not change loss estimates).
-    #[arg(long, default_value_t = 1.0)]
+    #[arg(long, default_value_t = 1.0, allow_hyphen_values = true)]
     pub floor_fraction: f64,
     /// Largest acceptable stock-out probability per station, for the recommended initial stock.
-    #[arg(long, default_value_t = 0.05)]
+    #[arg(long, default_value_t = 0.05, allow_hyphen_values = true)]
     pub stockout_target: f64,
     /// Rare-event estimator: multiply strike (cut) rates on bays that already have a cut by
     /// FACTOR and weight histories by their likelihood ratio. For loss probabilities far below
     /// 1/histories. Typical factors 10 to 1000; check the effective sample size it reports.
-    #[arg(long, value_name = "FACTOR")]
+    #[arg(long, value_name = "FACTOR", allow_hyphen_values = true)]
     pub rare_event: Option<f64>,
     /// Run only shard I of N (0-based): a deterministic share of the batches. Merge the shards
     /// with `tether-risk merge`.
-    #[arg(long, value_name = "I/N")]
+    #[arg(long, value_name = "I/N", allow_hyphen_values = true)]
     pub shard: Option<String>,
     /// Stop at a batch boundary once the loss probability's relative standard error is at most
     /// this (deterministic given the seed).
-    #[arg(long, value_name = "X")]
+    #[arg(long, value_name = "X", allow_hyphen_values = true)]
     pub target_rel_error: Option<f64>,
     /// Print the event log of one history (0-based index) and exit.
     #[arg(long, value_name = "N")]
@@ -68,6 +69,11 @@ pub struct Args {
     #[arg(long, value_enum, default_value_t)]
     pub format: Format,
 }
+
+/// Largest number of histories a run may ask for.
+pub const MAX_HISTORIES: u64 = 1_000_000_000_000;
+/// Largest worker-thread count accepted.
+pub const MAX_THREADS: usize = 1024;
 
 /// Everything needed to redo or continue a run, stored beside its results.
 #[derive(Clone, Debug, Serialize, Deserialize)]
@@ -114,11 +120,33 @@ fn parse_shard(s: &str) -> anyhow::Result<(u64, u64)> {
 /// Validate the run options given on the command line against the scenario's defaults.
 pub fn settings_from_args(model: &Model, a: &Args) -> anyhow::Result<RunSettingsFile> {
     let histories = a.histories.unwrap_or(model.scenario.run.histories);
-    if histories == 0 {
-        return Err(InputError(
-            "--histories = 0 is out of range: allowed [1, 1e12] histories".into(),
-        )
+    if !(1..=MAX_HISTORIES).contains(&histories) {
+        return Err(InputError(format!(
+            "--histories = {histories} is out of range: allowed [1, 1e12] histories"
+        ))
         .into());
+    }
+    if a.threads > MAX_THREADS {
+        return Err(InputError(format!(
+            "--threads = {} is out of range: allowed [0, {MAX_THREADS}] threads (0: one per core)",
+            a.threads
+        ))
+        .into());
+    }
+    if !(a.floor_fraction > 0.0 && a.floor_fraction <= 1.0) {
+        return Err(InputError(format!(
+            "--floor-fraction = {} is out of range: allowed (0, 1] (fraction of the smallest severing hole)",
+            a.floor_fraction
+        ))
+        .into());
+    }
+    if let Some(f) = a.rare_event {
+        if !(1.0..=1e6).contains(&f) {
+            return Err(InputError(format!(
+                "--rare-event = {f} is out of range: allowed [1, 1e6] (boost factor, dimensionless)"
+            ))
+            .into());
+        }
     }
     if !(a.stockout_target > 0.0 && a.stockout_target < 1.0) {
         return Err(InputError(format!(
@@ -179,12 +207,7 @@ pub fn execute(
         shard: s.shard,
         target_rel_error: s.target_rel_error,
     };
-    let share: u64 = Engine::batches_of(&opts)
-        .iter()
-        .map(|&b| {
-            (s.histories - b * tether_risk::engine::BATCH_SIZE).min(tether_risk::engine::BATCH_SIZE)
-        })
-        .sum();
+    let share = Engine::batches_of(&opts).histories();
     let bar = indicatif::ProgressBar::new(share);
     bar.set_style(
         indicatif::ProgressStyle::with_template("{spinner} {pos}/{len} histories {wide_bar} {eta}")

@@ -110,6 +110,44 @@ pub struct RunOutcome {
     pub batches_done: u64,
 }
 
+/// The batches of a run or shard: `start + k * step` for `k < count`.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub struct BatchList {
+    start: u64,
+    step: u64,
+    count: u64,
+    histories: u64,
+}
+
+impl BatchList {
+    /// Number of batches.
+    pub fn len(&self) -> u64 {
+        self.count
+    }
+    /// True when there is no batch.
+    pub fn is_empty(&self) -> bool {
+        self.count == 0
+    }
+    /// The k-th batch index.
+    pub fn get(&self, k: u64) -> u64 {
+        self.start + k * self.step
+    }
+    /// All batch indices in order.
+    pub fn iter(&self) -> impl Iterator<Item = u64> + '_ {
+        (0..self.count).map(|k| self.get(k))
+    }
+    /// Histories in these batches (the last batch of the run may be partial).
+    pub fn histories(&self) -> u64 {
+        if self.count == 0 {
+            return 0;
+        }
+        let last = self.get(self.count - 1);
+        let full = self.count * BATCH_SIZE;
+        let last_size = (self.histories - last * BATCH_SIZE).min(BATCH_SIZE);
+        full - BATCH_SIZE + last_size
+    }
+}
+
 /// Enough to resume an interrupted run exactly.
 #[derive(Clone, Debug, Serialize, Deserialize)]
 pub struct Checkpoint {
@@ -287,12 +325,21 @@ impl<'m> Engine<'m> {
         Ok(self.run_resumable(opts, None, progress, None)?.tally)
     }
 
-    /// The batches this run (or shard) owns, in the order they are run.
-    pub fn batches_of(opts: &RunOptions) -> Vec<u64> {
-        let batches = opts.histories.div_ceil(BATCH_SIZE);
-        match opts.shard {
-            Some((i, n)) => (0..batches).filter(|b| b % n == i).collect(),
-            None => (0..batches).collect(),
+    /// The batches this run (or shard) owns, in the order they are run. Arithmetic, not a
+    /// list: a run may have up to 1e9 batches.
+    pub fn batches_of(opts: &RunOptions) -> BatchList {
+        let total = opts.histories.div_ceil(BATCH_SIZE);
+        let (start, step) = opts.shard.unwrap_or((0, 1));
+        let count = if start < total {
+            (total - 1 - start) / step.max(1) + 1
+        } else {
+            0
+        };
+        BatchList {
+            start,
+            step: step.max(1),
+            count,
+            histories: opts.histories,
         }
     }
 
@@ -313,7 +360,7 @@ impl<'m> Engine<'m> {
             .map_err(|e| EngineError::Options(format!("cannot start worker threads: {e}")))?;
         let mine = Self::batches_of(opts);
         let (mut total, mut done_batches) = match start {
-            Some(c) => (c.tally, c.batches_done as usize),
+            Some(c) => (c.tally, c.batches_done),
             None => (self.empty_tally(), 0),
         };
         if done_batches > mine.len() {
@@ -333,8 +380,8 @@ impl<'m> Engine<'m> {
                 status = RunStatus::Interrupted;
                 break;
             }
-            let chunk =
-                &mine[done_batches..(done_batches + BATCHES_PER_CHUNK as usize).min(mine.len())];
+            let end = (done_batches + BATCHES_PER_CHUNK).min(mine.len());
+            let chunk: Vec<u64> = (done_batches..end).map(|k| mine.get(k)).collect();
             let tallies: Vec<Tally> = pool.install(|| {
                 chunk
                     .par_iter()
@@ -347,7 +394,7 @@ impl<'m> Engine<'m> {
             for t in &tallies {
                 total.merge(t);
             }
-            done_batches += chunk.len();
+            done_batches = end;
             progress(total.histories);
             let limit = (total.histories / 1000).max(10);
             if total.anomalies > limit {
@@ -374,7 +421,7 @@ impl<'m> Engine<'m> {
         Ok(RunOutcome {
             tally: total,
             status,
-            batches_done: done_batches as u64,
+            batches_done: done_batches,
         })
     }
 

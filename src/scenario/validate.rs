@@ -674,9 +674,9 @@ fn validate_repair(r: &RepairSpec, top_altitude_m: f64) -> Result<RepairSettings
             check(
                 "repair.resupply.interval_days",
                 *interval_days,
-                Range::open_closed(0.0, 1e5),
+                Range::closed(1.0, 1e5),
                 "d",
-                "",
+                "deliveries at most daily; spare demand is counted per delivery interval",
             )?;
             check_count(
                 "repair.resupply.batch_segments",

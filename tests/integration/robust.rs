@@ -472,7 +472,8 @@ fn batch_arithmetic_beyond_u32() {
     let b = Engine::batches_of(&opts);
     // 5e9 / 1000 = 5e6 batches; those with b % 1000 == 3: 5000 of them, 3 .. 4 999 003.
     assert_eq!(b.len(), 5000);
-    assert_eq!((b[0], *b.last().unwrap()), (3, 4_999_003));
+    assert_eq!((b.get(0), b.get(b.len() - 1)), (3, 4_999_003));
+    assert_eq!(b.histories(), 5000 * BATCH_SIZE);
     assert!(b.iter().all(|x| x % 1000 == 3));
 
     let model = tether_risk::model::Model::build(tether_risk::scenario::demo()).unwrap();
@@ -700,8 +701,7 @@ fn nasty_option_values_are_refused_naming_the_option() {
 /// A negative number after a space is taken by clap for an unknown flag: "unexpected argument
 /// '-1' found", which does not name the option it was meant for (`--seed=-1` does).
 #[test]
-#[ignore = "bug: `--seed -1` and other negative values after a space are reported as an unexpected argument without naming the option"]
-fn bug_negative_values_name_their_option() {
+fn issue7_negative_values_name_their_option() {
     let cases: &[(&[&str], &str)] = &[
         (&["--histories", "-5"], "--histories"),
         (&["--seed", "-1"], "--seed"),
@@ -723,8 +723,7 @@ fn bug_negative_values_name_their_option() {
 /// floor fraction, without a unit): "rare-event boost factor = 0.5 is out of range",
 /// "floor fraction = 2 is out of range: allowed (0, 1]".
 #[test]
-#[ignore = "bug: --rare-event and --floor-fraction range errors do not name the option as typed"]
-fn bug_engine_option_errors_name_the_option() {
+fn issue7_engine_option_errors_name_the_option() {
     let cases: &[(&[&str], &str)] = &[
         (&["--rare-event", "0.5"], "--rare-event"),
         (&["--rare-event", "NaN"], "--rare-event"),
@@ -760,8 +759,7 @@ fn run_limited(args: &[&str]) -> std::process::Output {
 /// (Engine::batches_of): 1e9 indices, 8 GB, and the process aborts on allocation failure.
 #[cfg(unix)]
 #[test]
-#[ignore = "bug: --histories 1e12 (the allowed maximum) aborts allocating 8 GB of batch indices"]
-fn bug_allowed_maximum_histories_with_target_error_runs() {
+fn issue7_allowed_maximum_histories_with_target_error_runs() {
     let out = temp_dir("robust-bug-1e12").join("run");
     let o = run_limited(&[
         "simulate",
@@ -784,8 +782,7 @@ fn bug_allowed_maximum_histories_with_target_error_runs() {
 /// error naming --histories with its allowed range [1, 1e12].
 #[cfg(unix)]
 #[test]
-#[ignore = "bug: --histories above 1e12 aborts (allocation failure, exit 134) instead of a range error"]
-fn bug_histories_above_the_maximum_refused() {
+fn issue7_histories_above_the_maximum_refused() {
     for h in ["1000000000001", "18446744073709551615"] {
         let out = temp_dir("robust-bug-hmax").join("run");
         let o = run_limited(&[
@@ -806,8 +803,7 @@ fn bug_histories_above_the_maximum_refused() {
 /// (exit 2 with the allowed range expected; without a cap it may really start 100 000 threads).
 #[cfg(unix)]
 #[test]
-#[ignore = "bug: --threads 100000 is not refused as bad input (exit 1 'cannot start worker threads' or a thread flood)"]
-fn bug_absurd_thread_count_refused() {
+fn issue7_absurd_thread_count_refused() {
     let out = temp_dir("robust-bug-threads").join("run");
     let o = run_limited(&[
         "simulate",
