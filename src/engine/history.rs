@@ -305,7 +305,7 @@ impl Engine<'_> {
                             kind: ev.kind,
                         });
                     }
-                    if !(ev.time_s >= last_t) {
+                    if ev.time_s.is_nan() || ev.time_s < last_t {
                         out.anomaly = Some("time went backwards at a repair event");
                         break;
                     }
@@ -348,7 +348,7 @@ impl Engine<'_> {
                 (t, s)
             };
             out.strikes += 1;
-            if !(t >= last_t) {
+            if t.is_nan() || t < last_t {
                 out.anomaly = Some("time went backwards at a strike");
                 break;
             }
