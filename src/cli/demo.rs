@@ -73,12 +73,42 @@ pub fn run(a: Args) -> anyhow::Result<()> {
         dir.display()
     ))?;
 
+    sweep_spacing(a.threads, dir)?;
+
     // Keep this last: the report reads every file the steps above wrote.
     estimate_and_report(&model, dir)
 }
 
 /// Write the Markov estimate (`estimate.json`) beside the Monte Carlo, then render the failure
 /// tables, charts and report.html from the folder.
+/// A small trade study of cross-link spacing and ribbon count, into `sweep/` (the report picks it
+/// up). Fewer histories than the main run: it shows the method and the mass trade.
+fn sweep_spacing(threads: usize, dir: &std::path::Path) -> anyhow::Result<()> {
+    use tether_risk::sweep::{run_sweep_with_progress, SweepSettings, SweepSpec};
+    print("Trade study: cross-link spacing x ribbon count\n")?;
+    let base: serde_json::Value = serde_json::from_str(scenario::DEMO_SCENARIO_JSON)?;
+    let spec = SweepSpec::parse(&[
+        "tether.cross_link_spacing_km=25,50,75",
+        "tether.ribbon_count=4,6",
+    ])?;
+    let settings = SweepSettings {
+        histories: Some(5_000),
+        seed: None,
+        threads,
+        rare_event_factor: 1.0,
+        stockout_target: 0.05,
+        flux_table_json: None,
+    };
+    let result = run_sweep_with_progress(&base, &spec, &settings, &|p, n| {
+        let _ = print(&format!("  point {}/{n}: {}\n", p.index + 1, p.label));
+    })?;
+    let sdir = dir.join("sweep");
+    std::fs::create_dir_all(&sdir)
+        .map_err(|e| anyhow::anyhow!("cannot create {}: {e}", sdir.display()))?;
+    tether_risk::report::sweep::write_sweep(&sdir, &result)?;
+    Ok(())
+}
+
 fn estimate_and_report(model: &Model, dir: &std::path::Path) -> anyhow::Result<()> {
     print("Markov estimate\n")?;
     let markov = MarkovModel::build(model)?;

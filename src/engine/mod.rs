@@ -40,8 +40,27 @@ use crate::structure::load_sharing::{EqualSharing, LoadSharing, LocalSharing, No
 /// Histories per batch. Fixed: it is part of the reproducibility contract.
 pub const BATCH_SIZE: u64 = 1000;
 
-/// Altitude bands used for cut and loss tallies (equal lengths along the tether).
+/// Largest number of altitude bands used for cut and loss tallies.
 pub const ALTITUDE_BANDS: usize = 20;
+
+/// Band edges (m above the surface) for tallies by altitude: fine near the anchor, where lunar
+/// focusing, shielding and the narrow anchor ribbons make damage vary fastest, then every
+/// 10 000 km. At most [`ALTITUDE_BANDS`] bands; the last ends at the top of the tether.
+pub fn altitude_band_edges_m(top_m: f64) -> Vec<f64> {
+    let mut edges = vec![0.0];
+    for km in [100.0, 250.0, 500.0, 1_000.0, 2_000.0, 5_000.0, 10_000.0] {
+        if km * 1e3 < top_m {
+            edges.push(km * 1e3);
+        }
+    }
+    let mut next = 20_000e3;
+    while next < top_m && edges.len() < ALTITUDE_BANDS {
+        edges.push(next);
+        next += 10_000e3;
+    }
+    edges.push(top_m);
+    edges
+}
 
 /// Batches run between two folds of the running tally.
 const BATCHES_PER_CHUNK: u64 = 16;
@@ -196,13 +215,14 @@ impl<'m> Engine<'m> {
             LoadSharingSpec::None => Box::new(NoRedistribution),
         };
         let top = model.profile.length_m();
+        let edges = altitude_band_edges_m(top);
         let bay_band = model
             .profile
             .bays
             .iter()
             .map(|b| {
-                ((b.mid_altitude_m() / top * ALTITUDE_BANDS as f64) as usize)
-                    .min(ALTITUDE_BANDS - 1) as u16
+                let h = b.mid_altitude_m();
+                (edges.partition_point(|&e| e <= h).saturating_sub(1)).min(edges.len() - 2) as u16
             })
             .collect();
         let repair = if model.scenario.validation_mode.is_some() {
@@ -282,7 +302,7 @@ impl<'m> Engine<'m> {
     pub fn empty_tally(&self) -> Tally {
         Tally::new(
             self.years,
-            ALTITUDE_BANDS,
+            altitude_band_edges_m(self.model.profile.length_m()).len() - 1,
             self.ribbons,
             self.repair.as_ref().map_or(0, |r| r.stations.len()),
         )

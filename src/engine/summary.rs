@@ -7,7 +7,7 @@ use statrs::distribution::{ContinuousCDF, Normal};
 use crate::stats::clopper_pearson;
 
 use super::tally::Tally;
-use super::{Engine, ALTITUDE_BANDS, BATCH_SIZE};
+use super::{altitude_band_edges_m, Engine, BATCH_SIZE};
 use crate::repair::RepairTally;
 
 /// An estimate with a two-sided interval.
@@ -223,11 +223,11 @@ impl RunSummary {
             confidence: conf,
         };
 
-        let top_km = model.profile.length_m() / 1e3;
-        let cuts_by_altitude_band = (0..ALTITUDE_BANDS)
+        let edges = altitude_band_edges_m(model.profile.length_m());
+        let cuts_by_altitude_band = (0..edges.len() - 1)
             .map(|b| BandRow {
-                bottom_altitude_km: top_km * b as f64 / ALTITUDE_BANDS as f64,
-                top_altitude_km: top_km * (b + 1) as f64 / ALTITUDE_BANDS as f64,
+                bottom_altitude_km: edges[b] / 1e3,
+                top_altitude_km: edges[b + 1] / 1e3,
                 cuts_per_year: per_year(tally.cuts_by_band.get(b).copied().unwrap_or(0) as f64 / h),
                 losses: tally.losses_by_band.get(b).copied().unwrap_or(0),
                 loss_probability: cp(

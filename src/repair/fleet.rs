@@ -498,7 +498,11 @@ impl Fleet {
         if waiting != self.waiting {
             return Some("waiting-segment count out of step with the jobs");
         }
-        if self.queue.next_time().is_some_and(|t| t.is_nan() || t < self.area_t) {
+        if self
+            .queue
+            .next_time()
+            .is_some_and(|t| t.is_nan() || t < self.area_t)
+        {
             return Some("an event is scheduled in the past");
         }
         None
