@@ -220,50 +220,63 @@ impl BirthDeath {
     /// Transient distribution and absorbed mass at `t` from the initial transient distribution
     /// `start`, by uniformization at `rate` (which must bound every exit rate).
     fn uniformize(&self, start: &[f64], t: f64, rate: f64) -> (Vec<f64>, f64) {
-        let m = start.len();
-        let (left, weights) = poisson_window(rate * t);
-        let right = left + weights.len();
-        let stay: Vec<f64> = (0..m)
-            .map(|j| 1.0 - (self.birth_per_s[j] + self.death_per_s[j]) / rate)
-            .collect();
-        let up: Vec<f64> = self.birth_per_s.iter().map(|b| b / rate).collect();
-        let down: Vec<f64> = self.death_per_s.iter().map(|d| d / rate).collect();
-
-        let mut current = start.to_vec();
-        let mut next = vec![0.0; m];
-        let mut absorbed = 0.0;
-        let mut dist_sum = vec![0.0; m];
-        let mut absorbed_sum = 0.0;
-        for k in 0..right {
-            if k >= left {
-                let w = weights[k - left];
-                for (s, c) in dist_sum.iter_mut().zip(&current) {
-                    *s += w * c;
-                }
-                absorbed_sum += w * absorbed;
-            }
-            if k + 1 == right {
-                break;
-            }
-            absorbed += current[m - 1] * up[m - 1];
-            for j in 0..m {
-                let mut v = current[j] * stay[j];
-                if j > 0 {
-                    v += current[j - 1] * up[j - 1];
-                }
-                if j + 1 < m {
-                    v += current[j + 1] * down[j + 1];
-                }
-                next[j] = v;
-            }
-            std::mem::swap(&mut current, &mut next);
-        }
-        (dist_sum, absorbed_sum)
+        uniformize(&self.birth_per_s, &self.death_per_s, rate, start, t)
     }
 }
 
 /// Poisson(`mean`) weights on a window `[left, left + len)`, normalized to sum to 1 over the
 /// window, dropping terms below [`POISSON_CUTOFF`] of the mode's weight.
+/// Transient distribution and absorbed mass after `t` from the transient distribution
+/// `start`, by uniformization at `rate` (at least every exit rate).
+pub(super) fn uniformize(
+    birth: &[f64],
+    death: &[f64],
+    rate: f64,
+    start: &[f64],
+    t: f64,
+) -> (Vec<f64>, f64) {
+    let m = birth.len();
+    let (left, weights) = poisson_window(rate * t);
+    let right = left + weights.len();
+    let stay: Vec<f64> = (0..m).map(|j| 1.0 - (birth[j] + death[j]) / rate).collect();
+    let up: Vec<f64> = birth.iter().map(|x| x / rate).collect();
+    let down: Vec<f64> = death.iter().map(|x| x / rate).collect();
+    let mut current = start.to_vec();
+    let mut next = vec![0.0; m];
+    let mut absorbed = 0.0;
+    let mut dist_sum = vec![0.0; m];
+    let mut absorbed_sum = 0.0;
+    for k in 0..right {
+        if k >= left {
+            let w = weights[k - left];
+            for (s, c) in dist_sum.iter_mut().zip(&current) {
+                *s += w * c;
+            }
+            absorbed_sum += w * absorbed;
+        }
+        if k + 1 == right {
+            break;
+        }
+        absorbed += current[m - 1] * up[m - 1];
+        for j in 0..m {
+            let mut v = current[j] * stay[j];
+            if j > 0 {
+                v += current[j - 1] * up[j - 1];
+            }
+            if j + 1 < m {
+                v += current[j + 1] * down[j + 1];
+            }
+            next[j] = v;
+        }
+        std::mem::swap(&mut current, &mut next);
+    }
+    (dist_sum, absorbed_sum)
+}
+
+/// Poisson(`mean`) weights on `[left, left + len)`, from the mode outward by the ratio
+/// recurrences, dropped below [`POISSON_CUTOFF`] of the mode and normalized by their sum (the
+/// exact `e^{-q}` prefactor would underflow for large means).
+
 fn poisson_window(mean: f64) -> (usize, Vec<f64>) {
     let mode = mean.floor();
     // Unnormalized weights relative to the mode: w_{k+1}/w_k = mean/(k+1), w_{k-1}/w_k = k/mean.

@@ -17,6 +17,7 @@ use std::collections::HashMap;
 
 use rayon::prelude::*;
 
+use super::birth_death::uniformize;
 use super::{AnalyticError, BirthDeath};
 
 /// Errors from the Markov estimate.
@@ -163,10 +164,6 @@ impl BayChain {
 /// [`BayChain::loss_probabilities`] (the same limit as [`BirthDeath`]'s single pass).
 const MAX_STEP_POISSON_MEAN: f64 = 1e6;
 
-/// Poisson weights below this fraction of the mode's are dropped (neglected mass below about
-/// 1e-28, as in [`BirthDeath`]).
-const POISSON_CUTOFF: f64 = 1e-30;
-
 /// Transition probabilities of a chain over one time step.
 #[derive(Debug)]
 struct Step {
@@ -191,81 +188,6 @@ impl Step {
         }
         Step { rows, absorbed }
     }
-}
-
-/// Transient distribution and absorbed mass after `t` from the transient distribution
-/// `start`, by uniformization at `rate` (at least every exit rate).
-fn uniformize(birth: &[f64], death: &[f64], rate: f64, start: &[f64], t: f64) -> (Vec<f64>, f64) {
-    let m = birth.len();
-    let (left, weights) = poisson_window(rate * t);
-    let right = left + weights.len();
-    let stay: Vec<f64> = (0..m).map(|j| 1.0 - (birth[j] + death[j]) / rate).collect();
-    let up: Vec<f64> = birth.iter().map(|x| x / rate).collect();
-    let down: Vec<f64> = death.iter().map(|x| x / rate).collect();
-    let mut current = start.to_vec();
-    let mut next = vec![0.0; m];
-    let mut absorbed = 0.0;
-    let mut dist_sum = vec![0.0; m];
-    let mut absorbed_sum = 0.0;
-    for k in 0..right {
-        if k >= left {
-            let w = weights[k - left];
-            for (s, c) in dist_sum.iter_mut().zip(&current) {
-                *s += w * c;
-            }
-            absorbed_sum += w * absorbed;
-        }
-        if k + 1 == right {
-            break;
-        }
-        absorbed += current[m - 1] * up[m - 1];
-        for j in 0..m {
-            let mut v = current[j] * stay[j];
-            if j > 0 {
-                v += current[j - 1] * up[j - 1];
-            }
-            if j + 1 < m {
-                v += current[j + 1] * down[j + 1];
-            }
-            next[j] = v;
-        }
-        std::mem::swap(&mut current, &mut next);
-    }
-    (dist_sum, absorbed_sum)
-}
-
-/// Poisson(`mean`) weights on `[left, left + len)`, from the mode outward by the ratio
-/// recurrences, dropped below [`POISSON_CUTOFF`] of the mode and normalized by their sum (the
-/// exact `e^{-q}` prefactor would underflow for large means).
-fn poisson_window(mean: f64) -> (usize, Vec<f64>) {
-    let mode = mean.floor();
-    let mut below = Vec::new();
-    let (mut w, mut k) = (1.0, mode);
-    while k > 0.0 {
-        w *= k / mean;
-        if w < POISSON_CUTOFF {
-            break;
-        }
-        below.push(w);
-        k -= 1.0;
-    }
-    let left = mode as usize - below.len();
-    let mut weights: Vec<f64> = below.into_iter().rev().collect();
-    weights.push(1.0);
-    let (mut w, mut k) = (1.0, mode);
-    loop {
-        k += 1.0;
-        w *= mean / k;
-        if w < POISSON_CUTOFF {
-            break;
-        }
-        weights.push(w);
-    }
-    let sum: f64 = weights.iter().sum();
-    for x in &mut weights {
-        *x /= sum;
-    }
-    (left, weights)
 }
 
 /// Loss probabilities of every bay and of the system at a list of times.
