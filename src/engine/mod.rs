@@ -63,7 +63,7 @@ pub fn altitude_band_edges_m(top_m: f64) -> Vec<f64> {
 }
 
 /// Batches run between two folds of the running tally.
-const BATCHES_PER_CHUNK: u64 = 16;
+const BATCHES_PER_CHUNK: u64 = 32;
 
 /// Engine failures.
 #[derive(Debug, Error)]
