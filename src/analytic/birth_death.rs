@@ -224,8 +224,6 @@ impl BirthDeath {
     }
 }
 
-/// Poisson(`mean`) weights on a window `[left, left + len)`, normalized to sum to 1 over the
-/// window, dropping terms below [`POISSON_CUTOFF`] of the mode's weight.
 /// Transient distribution and absorbed mass after `t` from the transient distribution
 /// `start`, by uniformization at `rate` (at least every exit rate).
 pub(super) fn uniformize(
@@ -276,7 +274,6 @@ pub(super) fn uniformize(
 /// Poisson(`mean`) weights on `[left, left + len)`, from the mode outward by the ratio
 /// recurrences, dropped below [`POISSON_CUTOFF`] of the mode and normalized by their sum (the
 /// exact `e^{-q}` prefactor would underflow for large means).
-
 fn poisson_window(mean: f64) -> (usize, Vec<f64>) {
     let mode = mean.floor();
     // Unnormalized weights relative to the mode: w_{k+1}/w_k = mean/(k+1), w_{k-1}/w_k = k/mean.

@@ -5,14 +5,8 @@ use serde_json::{json, Value};
 use tether_risk::analytic::BirthDeath;
 use tether_risk::engine::{Engine, RunOptions, RunSummary};
 use tether_risk::model::Model;
-use tether_risk::scenario::{parse_spec, Scenario};
 
-use crate::util::DEMO;
-
-fn model_of(v: &Value) -> Model {
-    let spec = parse_spec(&v.to_string()).expect("scenario parses");
-    Model::build(Scenario::from_spec(spec, None).expect("scenario valid")).expect("model builds")
-}
+use crate::util::{model_of, one_bay_validation, DEMO};
 
 fn summary(model: &Model, histories: u64, seed: u64, factor: f64) -> RunSummary {
     let engine = Engine::new(model, 1.0)
@@ -31,28 +25,6 @@ fn summary(model: &Model, histories: u64, seed: u64, factor: f64) -> RunSummary 
     RunSummary::from_tally(&engine, tally, histories, seed, None, 0.05)
 }
 
-/// One bay of four ribbons in validation mode (see repair.rs for the tether).
-fn one_bay(lambda_per_day: f64, mu_per_day: f64) -> Value {
-    let mut v: Value = serde_json::from_str(DEMO).unwrap();
-    v["tether"]["top_altitude_km"] = json!(60000.0);
-    v["tether"]["cross_link_spacing_km"] = json!(60000.0);
-    v["tether"]["ribbon_count"] = json!(4);
-    v["tether"]["taper"] = json!("none");
-    v["tether"]["material"] =
-        json!({"name": "carbon fibre", "ultimate_strength_gpa": 7.0, "density_g_per_cm3": 1.79});
-    v["tether"]["anchor_preload_n"] = json!(10.0);
-    v["tether"]["traffic_load_n"] = json!(0.0);
-    v["repair"] = Value::Null;
-    v["run"]["mission_years"] = json!(10.0);
-    v["validation_mode"] = json!({
-        "cut_rate_per_segment_per_day": lambda_per_day,
-        "repair_rate_per_crew_per_day": mu_per_day,
-        "crews_per_bay": 1,
-        "required_ribbons": 1
-    });
-    v
-}
-
 /// The independent answer: the repairable 1-out-of-4 birth–death chain (Barlow & Proschan form,
 /// REFERENCES.md §8), solved by uniformization in `analytic` — itself checked there against
 /// the §8 table (R(10 yr) = 0.101688 for lambda = 0.01/d, mu = 0.05/d).
@@ -64,7 +36,12 @@ fn markov(lambda_per_day: f64, mu_per_day: f64) -> f64 {
 
 fn check(lambda: f64, mu: f64, factor: f64, histories: u64, seed: u64) -> (f64, f64) {
     let p = markov(lambda, mu);
-    let s = summary(&model_of(&one_bay(lambda, mu)), histories, seed, factor);
+    let s = summary(
+        &model_of(&one_bay_validation(lambda, mu, 1)),
+        histories,
+        seed,
+        factor,
+    );
     let r = s.rare_event.expect("rare-event diagnostics");
     let est = r.loss_probability.estimate;
     assert!(
@@ -125,7 +102,7 @@ fn agrees_with_plain_monte_carlo_where_both_resolve() {
 
 #[test]
 fn boost_factor_one_is_plain_monte_carlo_bit_for_bit() {
-    let m = model_of(&one_bay(0.01, 0.05));
+    let m = model_of(&one_bay_validation(0.01, 0.05, 1));
     let a = summary(&m, 2_000, 5, 1.0);
     let engine = Engine::new(&m, 1.0).unwrap();
     let opts = RunOptions {

@@ -4,14 +4,8 @@
 use serde_json::{json, Value};
 use tether_risk::engine::{Engine, LogEvent, RunOptions, RunSummary, Tally};
 use tether_risk::model::Model;
-use tether_risk::scenario::{parse_spec, Scenario};
 
-use crate::util::DEMO;
-
-fn model_of(v: &Value) -> Model {
-    let spec = parse_spec(&v.to_string()).expect("scenario parses");
-    Model::build(Scenario::from_spec(spec, None).expect("scenario valid")).expect("model builds")
-}
+use crate::util::{model_of, one_bay_validation, DEMO};
 
 fn run(model: &Model, histories: u64, seed: u64) -> Tally {
     let engine = Engine::new(model, 1.0).unwrap();
@@ -24,28 +18,6 @@ fn run(model: &Model, histories: u64, seed: u64) -> Tally {
         target_rel_error: None,
     };
     engine.run(&opts, &|_| {}).unwrap()
-}
-
-/// One bay of four carbon-fibre ribbons from the surface past L1, in validation mode.
-fn one_bay_validation(crews: u32) -> Value {
-    let mut v: Value = serde_json::from_str(DEMO).unwrap();
-    v["tether"]["top_altitude_km"] = json!(60000.0);
-    v["tether"]["cross_link_spacing_km"] = json!(60000.0);
-    v["tether"]["ribbon_count"] = json!(4);
-    v["tether"]["taper"] = json!("none");
-    v["tether"]["material"] =
-        json!({"name": "carbon fibre", "ultimate_strength_gpa": 7.0, "density_g_per_cm3": 1.79});
-    v["tether"]["anchor_preload_n"] = json!(10.0);
-    v["tether"]["traffic_load_n"] = json!(0.0);
-    v["repair"] = Value::Null;
-    v["run"]["mission_years"] = json!(10.0);
-    v["validation_mode"] = json!({
-        "cut_rate_per_segment_per_day": 0.01,
-        "repair_rate_per_crew_per_day": 0.05,
-        "crews_per_bay": crews,
-        "required_ribbons": 1
-    });
-    v
 }
 
 fn assert_within_3se(p_hat: f64, p: f64, n: u64, what: &str) {
@@ -63,7 +35,7 @@ fn one_out_of_four_one_crew_matches_birth_death_chain() {
     // 0.101688 (birth–death chain in the Barlow & Proschan form, shared REFERENCES.md §8; value
     // computed by matrix exponential and checked against the first-passage MTTF of 1625 d).
     let n = 20_000;
-    let t = run(&model_of(&one_bay_validation(1)), n, 11);
+    let t = run(&model_of(&one_bay_validation(0.01, 0.05, 1)), n, 11);
     assert_within_3se(
         t.losses as f64 / n as f64,
         1.0 - 0.101688,
@@ -76,7 +48,7 @@ fn one_out_of_four_one_crew_matches_birth_death_chain() {
 fn one_out_of_four_four_crews_matches_birth_death_chain() {
     // Same system with four crews: R(10 yr) = 0.59463 (REFERENCES.md §8, MTTF 7000 d).
     let n = 20_000;
-    let t = run(&model_of(&one_bay_validation(4)), n, 12);
+    let t = run(&model_of(&one_bay_validation(0.01, 0.05, 4)), n, 12);
     assert_within_3se(
         t.losses as f64 / n as f64,
         1.0 - 0.59463,
@@ -88,7 +60,7 @@ fn one_out_of_four_four_crews_matches_birth_death_chain() {
 #[test]
 fn two_out_of_four_one_crew_one_year() {
     // 2-out-of-4, one crew: R(1 yr = 365.25 d) = 0.33726 (REFERENCES.md §8).
-    let mut v = one_bay_validation(1);
+    let mut v = one_bay_validation(0.01, 0.05, 1);
     v["validation_mode"]["required_ribbons"] = json!(2);
     v["run"]["mission_years"] = json!(1.0);
     let n = 20_000;

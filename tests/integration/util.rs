@@ -58,3 +58,35 @@ pub fn scenario_with(name: &str, f: impl FnOnce(&mut serde_json::Value)) -> Path
     std::fs::write(&p, serde_json::to_string_pretty(&v).unwrap()).unwrap();
     p
 }
+
+/// Build a model from a scenario JSON value (panics on an invalid test scenario).
+pub fn model_of(v: &serde_json::Value) -> tether_risk::model::Model {
+    let spec = tether_risk::scenario::parse_spec(&v.to_string()).expect("scenario parses");
+    let sc = tether_risk::scenario::Scenario::from_spec(spec, None).expect("scenario valid");
+    tether_risk::model::Model::build(sc).expect("model builds")
+}
+
+/// One bay of four carbon-fibre ribbons from the surface past L1, in validation mode: a
+/// repairable 1-out-of-4 system with cut rate `lambda_per_day` per segment and `crews` crews of
+/// rate `mu_per_day`, over 10 years.
+pub fn one_bay_validation(lambda_per_day: f64, mu_per_day: f64, crews: u32) -> serde_json::Value {
+    use serde_json::{json, Value};
+    let mut v: Value = serde_json::from_str(DEMO).unwrap();
+    v["tether"]["top_altitude_km"] = json!(60000.0);
+    v["tether"]["cross_link_spacing_km"] = json!(60000.0);
+    v["tether"]["ribbon_count"] = json!(4);
+    v["tether"]["taper"] = json!("none");
+    v["tether"]["material"] =
+        json!({"name": "carbon fibre", "ultimate_strength_gpa": 7.0, "density_g_per_cm3": 1.79});
+    v["tether"]["anchor_preload_n"] = json!(10.0);
+    v["tether"]["traffic_load_n"] = json!(0.0);
+    v["repair"] = Value::Null;
+    v["run"]["mission_years"] = json!(10.0);
+    v["validation_mode"] = json!({
+        "cut_rate_per_segment_per_day": lambda_per_day,
+        "repair_rate_per_crew_per_day": mu_per_day,
+        "crews_per_bay": crews,
+        "required_ribbons": 1
+    });
+    v
+}
