@@ -921,6 +921,55 @@ fn sweep_rows(v: &Value) -> Option<&Vec<Value>> {
 const SWEEP_ROWS_SHOWN: usize = 200;
 
 fn sweep_section(sw: &SweepInput) -> Section {
+    // A sweep written by this version renders with the sweep's own table and front; anything
+    // else falls back to a generic reading of its rows.
+    if let Ok(r) = serde_json::from_value::<crate::sweep::SweepResult>(sw.value.clone()) {
+        let front: Vec<String> = r
+            .pareto_front
+            .iter()
+            .filter_map(|&i| r.points.get(i))
+            .map(|p| p.label.clone())
+            .collect();
+        let mut paragraphs = vec![format!(
+            "{} designs, {} histories each, seed {}. Designs on the mass against loss-probability front \
+             (no other design is lighter and safer): {}. With few losses per design the front reflects \
+             sampling noise as much as design; compare intervals before choosing.",
+            r.points.len(),
+            r.histories,
+            r.seed,
+            if front.is_empty() { "none".to_string() } else { front.join("; ") }
+        )];
+        paragraphs.push(r.common_random_numbers.clone());
+        paragraphs.push(r.spare_stock_basis.clone());
+        let mut figures = Vec::new();
+        for (svg, caption) in [
+            (
+                &sw.heatmap_svg,
+                "Loss probability over the design grid (sweep/heatmap.svg)",
+            ),
+            (
+                &sw.pareto_svg,
+                "Loss probability against total mass; the front is marked (sweep/pareto.svg)",
+            ),
+        ] {
+            if let Some(svg) = svg {
+                figures.push(ReportFigure {
+                    caption: caption.to_string(),
+                    svg: svg.clone(),
+                });
+            }
+        }
+        return Section {
+            heading: "Which cross-link spacing is best for its mass?".into(),
+            paragraphs,
+            cards: Vec::new(),
+            figures,
+            tables: vec![ReportTable::from_table(
+                "Trade study: one row per design (sweep/sweep.md holds the same table)",
+                &crate::report::sweep::sweep_table(&r, true),
+            )],
+        };
+    }
     let mut paragraphs = Vec::new();
     if let Some(o) = sw.value.as_object() {
         for (k, v) in o {
