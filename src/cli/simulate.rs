@@ -396,10 +396,12 @@ pub fn run(a: Args) -> anyhow::Result<()> {
             }
             return print(&replay(&model, &settings, h)?);
         }
-        let out_dir = a
-            .out
-            .clone()
-            .unwrap_or_else(|| PathBuf::from("out").join(sanitize(&model.scenario.spec.name)));
+        let out_dir = a.out.clone().unwrap_or_else(|| {
+            PathBuf::from("out").join(tether_risk::report::file_stem(
+                &model.scenario.spec.name,
+                "run",
+            ))
+        });
         prepare_out_dir(&out_dir, a.force)?;
         (model, settings, out_dir, None)
     };
@@ -417,23 +419,4 @@ pub fn run(a: Args) -> anyhow::Result<()> {
         return Err(super::interrupt::Interrupted(out_dir.display().to_string()).into());
     }
     Ok(())
-}
-
-/// A scenario name made safe as a folder name.
-pub fn sanitize(name: &str) -> String {
-    let s: String = name
-        .chars()
-        .map(|c| {
-            if c.is_ascii_alphanumeric() || c == '-' || c == '_' {
-                c
-            } else {
-                '_'
-            }
-        })
-        .collect();
-    if s.is_empty() {
-        "run".into()
-    } else {
-        s
-    }
 }

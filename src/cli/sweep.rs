@@ -7,7 +7,6 @@ use tether_risk::scenario::{self, FluxModelSpec};
 use tether_risk::sweep::{run_sweep_with_progress, SweepError, SweepSettings, SweepSpec};
 
 use super::output::{print, InputError};
-use super::simulate::sanitize;
 use super::Format;
 
 /// Arguments of `sweep`.
@@ -95,7 +94,10 @@ pub fn run(a: Args) -> anyhow::Result<()> {
     };
     let base: serde_json::Value = serde_json::from_str(&text)?;
     let out_dir = a.out.clone().unwrap_or_else(|| {
-        PathBuf::from("out").join(format!("{}-sweep", sanitize(&base_spec.name)))
+        PathBuf::from("out").join(format!(
+            "{}-sweep",
+            tether_risk::report::file_stem(&base_spec.name, "run")
+        ))
     });
     if out_dir.join("sweep.json").exists() && !a.force {
         return Err(InputError(format!(

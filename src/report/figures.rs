@@ -248,25 +248,6 @@ pub fn losses_figure(s: &RunSummary) -> Result<NamedFigure, FigureError> {
     named("losses_by_altitude", caption, bar_chart(&bars, &spec))
 }
 
-/// A station name made safe as a file stem.
-fn file_safe(name: &str) -> String {
-    let s: String = name
-        .chars()
-        .map(|c| {
-            if c.is_ascii_alphanumeric() || c == '-' || c == '_' {
-                c
-            } else {
-                '_'
-            }
-        })
-        .collect();
-    if s.is_empty() {
-        "station".into()
-    } else {
-        s
-    }
-}
-
 /// Spare-segment demand over the mission, one chart per station, with the recommended stock.
 pub fn spare_figures(s: &RunSummary) -> Result<Vec<NamedFigure>, FigureError> {
     let (Some(r), Some(sp)) = (&s.repair, &s.spares) else {
@@ -313,7 +294,10 @@ pub fn spare_figures(s: &RunSummary) -> Result<Vec<NamedFigure>, FigureError> {
             100.0 * r.stockout_target
         );
         out.push(named(
-            &format!("spare_demand_{}", file_safe(&d.station)),
+            &format!(
+                "spare_demand_{}",
+                crate::report::file_stem(&d.station, "station")
+            ),
             caption,
             histogram_chart(&points, &markers, &spec),
         )?);

@@ -19,3 +19,23 @@ pub mod table;
 pub use atomic::write_atomic;
 
 pub use crate::CAUTION;
+
+/// A name made safe as a file or folder name: ASCII letters, digits, `-` and `_` kept, anything
+/// else replaced by `_`; `fallback` when nothing is left.
+pub fn file_stem(name: &str, fallback: &str) -> String {
+    let s: String = name
+        .chars()
+        .map(|c| {
+            if c.is_ascii_alphanumeric() || c == '-' || c == '_' {
+                c
+            } else {
+                '_'
+            }
+        })
+        .collect();
+    if s.is_empty() {
+        fallback.into()
+    } else {
+        s
+    }
+}
