@@ -52,6 +52,11 @@ pub struct Impact {
     pub cos_incidence: f64,
     /// Particle bulk density, kg/m³.
     pub density_kg_per_m3: f64,
+    /// Angle between the in-plane projection of the particle velocity and the ribbon's long
+    /// axis, rad, in [0, π/2] (0: the track runs along the ribbon; π/2: across it). Uniform on
+    /// [0, π/2] for isotropic arrival; the strike sampler draws it as the last detail of a
+    /// strike (`FRAC_PI_2 * u`). Laws with a round hole ignore it.
+    pub track_angle_rad: f64,
 }
 
 impl Impact {
@@ -89,7 +94,18 @@ impl Impact {
             speed_m_per_s,
             cos_incidence: incidence_rad.cos().clamp(0.0, 1.0),
             density_kg_per_m3,
+            track_angle_rad: 0.0,
         })
+    }
+
+    /// The same impact with its track angle set (rad, clamped into [0, π/2]; NaN gives 0).
+    pub fn with_track_angle(mut self, track_angle_rad: f64) -> Self {
+        self.track_angle_rad = if track_angle_rad.is_nan() {
+            0.0
+        } else {
+            track_angle_rad.clamp(0.0, std::f64::consts::FRAC_PI_2)
+        };
+        self
     }
 }
 

@@ -630,6 +630,7 @@ impl Engine<'_> {
                 speed_m_per_s: s.speed_m_per_s,
                 cos_incidence: s.cos_incidence,
                 density_kg_per_m3: self.particle_density,
+                track_angle_rad: s.track_angle_rad,
             };
             let target = RibbonTarget {
                 width_m: w,

@@ -31,9 +31,8 @@ use rand::Rng;
 use crate::damage::RibbonTarget;
 use crate::environment::{mass_from_diameter_kg, FluxModel};
 use crate::model::Model;
-use crate::scenario::{LoadSharingSpec, SECONDS_PER_YEAR};
+use crate::scenario::SECONDS_PER_YEAR;
 use crate::stats::AliasTable;
-use crate::structure::load_sharing::CAPACITY_TOLERANCE;
 
 use super::EngineError;
 
@@ -52,6 +51,9 @@ pub struct Strike {
     pub speed_m_per_s: f64,
     /// Cosine of the angle from the face normal.
     pub cos_incidence: f64,
+    /// Angle of the velocity's in-plane projection from the ribbon's long axis, rad, in
+    /// [0, π/2]; drawn last.
+    pub track_angle_rad: f64,
 }
 
 /// Per-bay sampling constants.
@@ -141,31 +143,7 @@ const GRID: usize = 16_384;
 const DECADES_ABOVE_FLOOR: f64 = 5.0;
 const BANDS: usize = 32;
 
-/// The smallest hole that severs a surviving ribbon of a bay in any stable load state: the
-/// largest per-ribbon load `share x T` below one ribbon's intact capacity.
-fn smallest_severing_hole_m(model: &Model, j: usize) -> f64 {
-    let p = &model.profile;
-    let n = p.design.ribbon_count;
-    let t = p.bays[j].max_tension_n;
-    let w = p.bays[j].width_m;
-    let per_width = p.design.thickness_m * p.design.allowable_stress_pa;
-    let capacity = w * per_width;
-    let mut loads: Vec<f64> = Vec::new();
-    match model.scenario.tether.load_sharing {
-        LoadSharingSpec::None => loads.push(t / n as f64),
-        LoadSharingSpec::Equal => loads.extend((0..n).map(|k| t / (n - k) as f64)),
-        // Harlow–Phoenix local sharing: a survivor next to runs of r1 and r2 cut ribbons carries
-        // (1 + (r1 + r2)/2) nominal shares; in a row an edge run is carried by one flank.
-        LoadSharingSpec::Local => {
-            loads.extend((0..=2 * (n - 1)).map(|h| t / n as f64 * (1.0 + h as f64 / 2.0)))
-        }
-    }
-    loads
-        .into_iter()
-        .filter(|&l| l < capacity * (1.0 - CAPACITY_TOLERANCE))
-        .map(|l| w - l / per_width)
-        .fold(w, f64::min)
-}
+use crate::model::hole_rate::smallest_severing_hole_m;
 
 impl StrikeSampler {
     /// Build for a model. `floor_fraction` in (0, 1] scales each bay's smallest severing hole
@@ -382,6 +360,7 @@ impl StrikeSampler {
         let v_inf = band.v_inf_m_per_s[k] + (2.0 * unit(rng) - 1.0) * self.bin_half_width_m_per_s;
         let speed = (v_inf.max(0.0).powi(2) + band.v_esc_sq).sqrt();
         let cos_incidence = unit(rng).sqrt();
+        let track_angle_rad = std::f64::consts::FRAC_PI_2 * unit(rng);
         Strike {
             bay: j as u32,
             ribbon,
@@ -389,6 +368,7 @@ impl StrikeSampler {
             centre_m: centre,
             speed_m_per_s: speed,
             cos_incidence,
+            track_angle_rad,
         }
     }
 }

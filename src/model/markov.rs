@@ -484,6 +484,7 @@ fn unperforated_fraction_bound(model: &Model, holes: &[Vec<f64>], hole_factor: f
                 speed_m_per_s: v,
                 cos_incidence: cos_theta.clamp(0.0, 1.0),
                 density_kg_per_m3: rho_p,
+                track_angle_rad: 0.0,
             };
             law.ballistic_limit_diameter_m(&impact, &target)
         };
