@@ -63,6 +63,7 @@ pub fn run(a: Args) -> anyhow::Result<()> {
         rare_event: 1.0,
         target_rel_error: None,
         stockout_target: 0.05,
+        sampler: tether_risk::engine::Sampler::OnDemand,
     };
     let summary = execute(&model, &settings, a.threads, dir, None, None)?;
     let text = run_text(&summary);

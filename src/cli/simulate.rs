@@ -5,7 +5,9 @@ use std::sync::atomic::AtomicBool;
 use std::time::Instant;
 
 use serde::{Deserialize, Serialize};
-use tether_risk::engine::{Checkpoint, Engine, LogEvent, RunOptions, RunStatus, RunSummary};
+use tether_risk::engine::{
+    Checkpoint, Engine, LogEvent, RunOptions, RunStatus, RunSummary, Sampler,
+};
 use tether_risk::model::Model;
 use tether_risk::report::run::{crate_versions, run_text, write_run, Manifest};
 use tether_risk::report::write_atomic;
@@ -36,7 +38,8 @@ pub struct Args {
     /// Output folder (default: out/<scenario name>).
     #[arg(long)]
     pub out: Option<PathBuf>,
-    /// Replace results already in the output folder.
+    /// Replace results already in the output folder; also run when the expected work is beyond
+    /// the budget (see `check` for the estimate).
     #[arg(long)]
     pub force: bool,
     /// Sampling floor as a fraction of the smallest severing hole; below 1 also samples
@@ -59,15 +62,40 @@ pub struct Args {
     /// this (deterministic given the seed).
     #[arg(long, value_name = "X", allow_hyphen_values = true)]
     pub target_rel_error: Option<f64>,
+    /// Damage sampler: `on-demand` draws only cuts and, at each state change of a bay, its
+    /// segments' worst holes (fast, the default); `every-strike` draws every strike above the
+    /// floor (the reference engine; slow for low floors and many ribbons). Same results in
+    /// distribution, not in bits.
+    #[arg(long, value_enum, default_value_t = SamplerArg::OnDemand)]
+    pub sampler: SamplerArg,
     /// Print the event log of one history (0-based index) and exit.
     #[arg(long, value_name = "N")]
     pub replay_history: Option<u64>,
     /// Continue an interrupted run from its output folder.
-    #[arg(long, value_name = "DIR", conflicts_with_all = ["file", "histories", "seed", "shard", "rare_event", "target_rel_error", "floor_fraction"])]
+    #[arg(long, value_name = "DIR", conflicts_with_all = ["file", "histories", "seed", "shard", "rare_event", "target_rel_error", "floor_fraction", "sampler"])]
     pub resume: Option<PathBuf>,
     /// Output format on stdout.
     #[arg(long, value_enum, default_value_t)]
     pub format: Format,
+}
+
+/// The damage sampler on the command line.
+#[derive(clap::ValueEnum, Clone, Copy, Debug, PartialEq, Eq, Default)]
+pub enum SamplerArg {
+    /// Draw cut events and worst holes at state changes (default).
+    #[default]
+    OnDemand,
+    /// Draw every strike above the floor (reference).
+    EveryStrike,
+}
+
+impl From<SamplerArg> for Sampler {
+    fn from(a: SamplerArg) -> Self {
+        match a {
+            SamplerArg::OnDemand => Sampler::OnDemand,
+            SamplerArg::EveryStrike => Sampler::EveryStrike,
+        }
+    }
 }
 
 /// Largest number of histories a run may ask for.
@@ -92,6 +120,13 @@ pub struct RunSettingsFile {
     pub target_rel_error: Option<f64>,
     /// Stock-out target.
     pub stockout_target: f64,
+    /// Damage sampler (absent in folders written before the on-demand sampler: every-strike).
+    #[serde(default = "every_strike")]
+    pub sampler: Sampler,
+}
+
+fn every_strike() -> Sampler {
+    Sampler::EveryStrike
 }
 
 #[derive(Serialize, Deserialize)]
@@ -178,12 +213,14 @@ pub fn settings_from_args(model: &Model, a: &Args) -> anyhow::Result<RunSettings
         rare_event: a.rare_event.unwrap_or(1.0),
         target_rel_error: a.target_rel_error,
         stockout_target: a.stockout_target,
+        sampler: a.sampler.into(),
     })
 }
 
 /// Build the engine a run's settings ask for.
 pub fn engine_for<'m>(model: &'m Model, s: &RunSettingsFile) -> anyhow::Result<Engine<'m>> {
-    let engine = Engine::new(model, s.floor_fraction).map_err(|e| InputError(e.to_string()))?;
+    let engine = Engine::with_sampler(model, s.floor_fraction, s.sampler)
+        .map_err(|e| InputError(e.to_string()))?;
     Ok(engine
         .with_rare_event(s.rare_event)
         .map_err(|e| InputError(e.to_string()))?)
@@ -269,6 +306,7 @@ pub fn execute(
             checkpoint: Checkpoint {
                 tally: outcome.tally,
                 batches_done: outcome.batches_done,
+                completed_beyond: outcome.completed_beyond,
             },
         };
         write_atomic(&checkpoint_path, serde_json::to_string(&c)?.as_bytes()).map_err(io)?;
@@ -310,9 +348,10 @@ fn replay(model: &Model, s: &RunSettingsFile, index: u64) -> anyhow::Result<Stri
     let engine = engine_for(model, s)?;
     let (outcome, log) = engine.replay(index, s.seed);
     let mut o = format!(
-        "History {index} of scenario \"{}\" (seed {}): {} strikes sampled, {} cuts, {}\n",
+        "History {index} of scenario \"{}\" (seed {}, {} sampler): {} strikes sampled, {} cuts, {}\n",
         model.scenario.spec.name,
         s.seed,
+        s.sampler.name(),
         outcome.strikes,
         outcome.cuts,
         match outcome.loss {
@@ -349,6 +388,16 @@ fn replay(model: &Model, s: &RunSettingsFile, index: u64) -> anyhow::Result<Stri
             } => format!(
                 "{:>12.1} h  CUT     bay {bay:>5}  newly cut {newly_cut}, survivors {survivors}",
                 time_s / 3600.0
+            ),
+            LogEvent::CutHole {
+                time_s,
+                bay,
+                ribbon,
+                removed_m,
+            } => format!(
+                "{:>12.1} h  hole    bay {bay:>5} ribbon {ribbon:>2}  removed {:.3} mm (at least the critical width)",
+                time_s / 3600.0,
+                removed_m * 1e3
             ),
             LogEvent::Repair { time_s, kind } => format!("{:>12.1} h  repair  {kind:?}", time_s / 3600.0),
             LogEvent::Loss(l) => format!("{:>12.1} h  LOSS    bay {:>5} ({:?})", l.time_s / 3600.0, l.bay, l.cause),

@@ -1,24 +1,16 @@
-//! One history: the loop reads in one screen.
-//!
-//! next strike -> repair events due before it (detections, departures, arrivals, splices,
-//! returns, resupplies) -> apply strike: hole, worst cross-section, load check and cascade ->
-//! record cuts, schedule their detection -> a loss ends the history.
+//! Per-history state and the scores common to both samplers.
 //!
 //! A segment's state is its largest hole (the worst cross-section; see the sampler's notes on why
 //! holes along a bay do not add) and whether it is cut. Only bays touched in this history hold
-//! state, in a reusable arena: nothing is allocated per strike or per history once the arena
-//! has grown to the largest number of bays touched in a history.
-//!
-//! Strike gaps are exponential, so drawing the next strike time before handling the repair
-//! events that come earlier is exact (memorylessness), and the strike stream's draws do not
-//! depend on repair: two scenarios differing only in repair see the same strikes.
+//! state, in a reusable arena ([`Scratch`]): nothing is allocated per strike or per history once
+//! the arena has grown to the largest number of bays touched in a history. The event loop itself
+//! is in `events.rs`.
 
 use crate::damage::{removed_width_m, Impact, RibbonTarget};
 use crate::repair::{EventKind, Fleet, RepairPlan, RepairTally};
 use crate::scenario::LoadSharingSpec;
 use crate::structure::load_sharing::{settle_bay, CAPACITY_TOLERANCE, MAX_RIBBONS};
 
-use super::rng::{stream, Purpose};
 use super::sampler::Strike;
 use super::tally::{Loss, LossCause, Tally};
 use super::Engine;
@@ -28,22 +20,30 @@ const UNTOUCHED: u32 = u32::MAX;
 /// Reusable per-thread state of a history.
 #[derive(Debug, Default)]
 pub struct Scratch {
-    slot_of_bay: Vec<u32>,
-    touched: Vec<u32>,
-    worst_hole_m: Vec<f64>,
-    intact: Vec<bool>,
-    cuts_in_bay: Vec<u32>,
+    pub(crate) slot_of_bay: Vec<u32>,
+    pub(crate) touched: Vec<u32>,
+    pub(crate) worst_hole_m: Vec<f64>,
+    pub(crate) intact: Vec<bool>,
+    pub(crate) cuts_in_bay: Vec<u32>,
     /// Times of the bay's current cuts, oldest first (stride N).
-    cut_times: Vec<f64>,
-    bays_with_cuts: u32,
-    cut_since_s: f64,
-    cut_time_acc_s: f64,
-    max_cuts: u32,
-    fleet: Option<Fleet>,
+    pub(crate) cut_times: Vec<f64>,
+    pub(crate) bays_with_cuts: u32,
+    pub(crate) cut_since_s: f64,
+    pub(crate) cut_time_acc_s: f64,
+    pub(crate) max_cuts: u32,
+    pub(crate) fleet: Option<Fleet>,
     /// Validation mode: damaged bays and their cut counts.
     pub(crate) validation_bays: Vec<(u32, u64)>,
     /// Bays with at least one cut and their strike rates, 1/s.
-    damaged: Vec<(u32, f64)>,
+    pub(crate) damaged: Vec<(u32, f64)>,
+    /// On-demand: critical width of each segment under its current load, m (stride N).
+    pub(crate) critical_m: Vec<f64>,
+    /// On-demand: cut rate H(c) of each intact segment, 1/s (0 when cut; stride N).
+    pub(crate) cut_rate_s: Vec<f64>,
+    /// On-demand: sum of `cut_rate_s` over the bay's segments, 1/s.
+    pub(crate) bay_cut_rate_s: Vec<f64>,
+    /// On-demand: time up to which the bay's worst holes are drawn, s.
+    pub(crate) updated_s: Vec<f64>,
 }
 
 impl Scratch {
@@ -66,6 +66,10 @@ impl Scratch {
             self.slot_of_bay[b as usize] = UNTOUCHED;
         }
         self.touched.clear();
+        self.critical_m.clear();
+        self.cut_rate_s.clear();
+        self.bay_cut_rate_s.clear();
+        self.updated_s.clear();
         self.worst_hole_m.clear();
         self.intact.clear();
         self.cuts_in_bay.clear();
@@ -88,19 +92,31 @@ impl Scratch {
         self.worst_hole_m.extend(std::iter::repeat_n(0.0, ribbons));
         self.intact.extend(std::iter::repeat_n(true, ribbons));
         self.cut_times.extend(std::iter::repeat_n(0.0, ribbons));
+        self.critical_m.extend(std::iter::repeat_n(0.0, ribbons));
+        self.cut_rate_s.extend(std::iter::repeat_n(0.0, ribbons));
+        self.bay_cut_rate_s.push(0.0);
+        self.updated_s.push(0.0);
         self.cuts_in_bay.push(0);
         s
+    }
+
+    /// The arena slot of `bay`, if the bay holds state in this history.
+    pub(crate) fn slot_of(&self, bay: u32) -> Option<usize> {
+        match self.slot_of_bay[bay as usize] {
+            UNTOUCHED => None,
+            s => Some(s as usize),
+        }
     }
 
     pub(crate) fn note_max_cuts(&mut self, cuts: u32) {
         self.max_cuts = self.max_cuts.max(cuts);
     }
 
-    fn damaged_rate(&self) -> f64 {
+    pub(crate) fn damaged_rate(&self) -> f64 {
         self.damaged.iter().map(|d| d.1).sum()
     }
 
-    fn cuts_in(&self, bay: u32) -> u32 {
+    pub(crate) fn cuts_in(&self, bay: u32) -> u32 {
         match self.slot_of_bay[bay as usize] {
             UNTOUCHED => 0,
             s => self.cuts_in_bay[s as usize],
@@ -108,7 +124,14 @@ impl Scratch {
     }
 
     /// Record `newly` new cuts in the bay of `slot` at `t`.
-    fn add_cuts(&mut self, slot: usize, ribbons: usize, newly: u32, t: f64, bay_rate_s: f64) {
+    pub(crate) fn add_cuts(
+        &mut self,
+        slot: usize,
+        ribbons: usize,
+        newly: u32,
+        t: f64,
+        bay_rate_s: f64,
+    ) {
         let before = self.cuts_in_bay[slot];
         for k in 0..newly {
             let i = (before + k) as usize;
@@ -128,77 +151,6 @@ impl Scratch {
     }
 }
 
-/// The rare-event change of measure inside one history: strikes on bays that already have a cut
-/// are made `theta` times as frequent by an extra Poisson process of rate (theta - 1) x (strike
-/// rate of the damaged bays), and the history carries the likelihood ratio
-/// theta^-(strikes on damaged bays) x exp((theta - 1) x integral of that rate over time)
-/// (failure biasing by rate inflation; Heidelberger 1995, ACM TOMACS 5, 43).
-struct Bias {
-    theta: f64,
-    ln_theta: f64,
-    log_w: f64,
-    rate_s: f64,
-    t_last: f64,
-    next_extra_s: f64,
-    rng: rand_pcg::Pcg64Mcg,
-}
-
-impl Bias {
-    fn new(theta: f64, rng: rand_pcg::Pcg64Mcg) -> Self {
-        Bias {
-            theta,
-            ln_theta: theta.ln(),
-            log_w: 0.0,
-            rate_s: 0.0,
-            t_last: 0.0,
-            next_extra_s: f64::INFINITY,
-            rng,
-        }
-    }
-
-    fn active(&self) -> bool {
-        self.theta > 1.0
-    }
-
-    /// The damaged set changed at `t` (or an extra strike was used): close the compensator
-    /// integral at the old rate and draw the next extra strike at the new one.
-    fn changed(&mut self, t: f64, damaged_rate_s: f64) {
-        if !self.active() {
-            return;
-        }
-        self.log_w += (self.theta - 1.0) * self.rate_s * (t - self.t_last);
-        self.t_last = t;
-        self.rate_s = damaged_rate_s;
-        let extra = (self.theta - 1.0) * damaged_rate_s;
-        self.next_extra_s = if extra > 0.0 {
-            t - super::sampler::open01(&mut self.rng).ln() / extra
-        } else {
-            f64::INFINITY
-        };
-    }
-
-    /// A damaged bay chosen in proportion to its strike rate.
-    fn pick_damaged(&mut self, damaged: &[(u32, f64)]) -> usize {
-        let total: f64 = damaged.iter().map(|d| d.1).sum();
-        let mut x = super::sampler::unit(&mut self.rng) * total;
-        for &(b, r) in damaged {
-            if x < r {
-                return b as usize;
-            }
-            x -= r;
-        }
-        damaged.last().map_or(0, |d| d.0 as usize)
-    }
-
-    /// Likelihood ratio of the history observed until `end`.
-    fn weight_at(&self, end: f64) -> f64 {
-        if !self.active() {
-            return 1.0;
-        }
-        (self.log_w + (self.theta - 1.0) * self.rate_s * (end - self.t_last)).exp()
-    }
-}
-
 /// What happened in one history, beyond what went into the tally.
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub struct HistoryOutcome {
@@ -210,6 +162,9 @@ pub struct HistoryOutcome {
     pub strikes: u64,
     /// Likelihood ratio of the history (1 without the rare-event estimator).
     pub weight: f64,
+    /// The history was abandoned because a stop was requested; its scores are incomplete and
+    /// its batch must be discarded.
+    pub stopped: bool,
     /// An impossible state reached by this history (it is counted, and the run aborts past a
     /// threshold); replay it with `simulate --replay-history`.
     pub anomaly: Option<&'static str>,
@@ -227,7 +182,7 @@ pub enum LogEvent {
         /// Width removed, m.
         removed_m: f64,
     },
-    /// Segments cut by that strike (including cascade).
+    /// Segments cut by that strike or cut event (including cascade).
     Cut {
         /// Time, s.
         time_s: f64,
@@ -237,6 +192,18 @@ pub enum LogEvent {
         newly_cut: u32,
         /// Survivors left in the bay.
         survivors: u32,
+    },
+    /// On-demand: segment `ribbon` of `bay` is cut by a hole removing `removed_m` (drawn from
+    /// the hole-rate function above its critical width).
+    CutHole {
+        /// Time, s.
+        time_s: f64,
+        /// Bay.
+        bay: u32,
+        /// Ribbon.
+        ribbon: u32,
+        /// Removed width, m.
+        removed_m: f64,
     },
     /// A repair event.
     Repair {
@@ -256,162 +223,13 @@ impl Default for HistoryOutcome {
             cuts: 0,
             strikes: 0,
             weight: 1.0,
+            stopped: false,
             anomaly: None,
         }
     }
 }
 
 impl Engine<'_> {
-    /// Run history `index`, adding its scores to `tally`. `log`, when given, receives every
-    /// event (for `--replay-history`).
-    pub fn run_history(
-        &self,
-        index: u64,
-        seed: u64,
-        scratch: &mut Scratch,
-        tally: &mut Tally,
-        mut log: Option<&mut Vec<LogEvent>>,
-    ) -> HistoryOutcome {
-        if let Some(v) = self.model.scenario.validation_mode {
-            return self.run_validation_history(index, seed, &v, scratch, tally, log);
-        }
-        let mut rng = stream(seed, Purpose::Strikes, index);
-        let mut repair_rng = stream(seed, Purpose::Repair, index);
-        let mut bias = Bias::new(self.bias_factor, stream(seed, Purpose::Bias, index));
-        scratch.reset();
-        let mut fleet = scratch.fleet.take();
-        if let (Some(f), Some(plan)) = (fleet.as_mut(), self.repair.as_ref()) {
-            f.reset(plan);
-        }
-        let mission = self.mission_s;
-        let mut out = HistoryOutcome::default();
-        let mut t_strike = self.sampler.next_gap_s(&mut rng);
-        let mut last_t = 0.0;
-        loop {
-            let t_repair = fleet
-                .as_ref()
-                .and_then(|f| f.queue.next_time())
-                .unwrap_or(f64::INFINITY);
-            if t_strike.min(t_repair).min(bias.next_extra_s) > mission {
-                break;
-            }
-            // Repair events first on ties, then extra (biased) strikes, then natural strikes.
-            if t_repair <= t_strike && t_repair <= bias.next_extra_s {
-                if let (Some(f), Some(plan)) = (fleet.as_mut(), self.repair.as_ref()) {
-                    let Some(ev) = f.queue.pop() else { break };
-                    if let Some(l) = log.as_deref_mut() {
-                        l.push(LogEvent::Repair {
-                            time_s: ev.time_s,
-                            kind: ev.kind,
-                        });
-                    }
-                    if ev.time_s.is_nan() || ev.time_s < last_t {
-                        out.anomaly = Some("time went backwards at a repair event");
-                        break;
-                    }
-                    last_t = ev.time_s;
-                    let damaged_before = scratch.damaged.len();
-                    self.handle_repair_event(ev.time_s, ev.kind, plan, f, scratch, tally);
-                    if self.strict {
-                        let bay = match ev.kind {
-                            EventKind::SpliceDone { bay, .. } | EventKind::Detect { bay } => {
-                                Some(bay)
-                            }
-                            _ => Some(u32::MAX),
-                        };
-                        if let Some(a) = self
-                            .check_invariants(scratch, bay)
-                            .or_else(|| f.check(plan))
-                        {
-                            out.anomaly = Some(a);
-                            break;
-                        }
-                    }
-                    if scratch.damaged.len() != damaged_before {
-                        bias.changed(ev.time_s, scratch.damaged_rate());
-                    }
-                }
-                continue;
-            }
-            let (t, strike) = if bias.next_extra_s < t_strike {
-                let t = bias.next_extra_s;
-                let j = bias.pick_damaged(&scratch.damaged);
-                let s = self.sampler.sample_in_bay(&mut bias.rng, j);
-                bias.next_extra_s = f64::INFINITY; // drawn again below
-                (t, s)
-            } else {
-                // Draw order per strike: its details, then the gap to the next one (the same
-                // order as the bare strike stream).
-                let t = t_strike;
-                let s = self.sampler.sample(&mut rng);
-                t_strike = t + self.sampler.next_gap_s(&mut rng);
-                (t, s)
-            };
-            out.strikes += 1;
-            if t.is_nan() || t < last_t {
-                out.anomaly = Some("time went backwards at a strike");
-                break;
-            }
-            last_t = t;
-            if !(strike.diameter_m.is_finite()
-                && strike.diameter_m > 0.0
-                && strike.speed_m_per_s.is_finite())
-            {
-                out.anomaly = Some("non-finite strike");
-                break;
-            }
-            if bias.active() && scratch.cuts_in(strike.bay) > 0 {
-                bias.log_w -= bias.ln_theta;
-            }
-            let damaged_before = scratch.damaged.len();
-            let (newly, loss) =
-                self.apply_strike(t, &strike, scratch, tally, &mut out, log.as_deref_mut());
-            if bias.active()
-                && (scratch.damaged.len() != damaged_before || bias.next_extra_s.is_infinite())
-            {
-                bias.changed(t, scratch.damaged_rate());
-            }
-            if self.strict {
-                if let Some(a) = self.check_invariants(scratch, Some(strike.bay)) {
-                    out.anomaly = Some(a);
-                    break;
-                }
-            }
-            if newly > 0 {
-                if let (Some(f), Some(plan)) = (fleet.as_mut(), self.repair.as_ref()) {
-                    let cuts = scratch.cuts_in(strike.bay);
-                    for _ in 0..newly {
-                        f.on_cut(plan, &mut repair_rng, strike.bay, cuts, t);
-                    }
-                }
-            }
-            if let Some(mut loss) = loss {
-                if fleet
-                    .as_ref()
-                    .is_some_and(|f| f.bay_waits_for_stock(loss.bay))
-                {
-                    loss.cause = LossCause::StockoutDelay;
-                }
-                out.loss = Some(loss);
-                break;
-            }
-        }
-        let end = out.loss.map_or(mission, |l| l.time_s);
-        if let (Some(f), Some(plan)) = (fleet.as_mut(), self.repair.as_ref()) {
-            f.finish(plan, end, &mut tally.repair);
-        }
-        scratch.fleet = fleet;
-        out.weight = bias.weight_at(end);
-        if self.strict && out.anomaly.is_none() && out.loss.is_none() {
-            out.anomaly = self.check_invariants(scratch, None);
-        }
-        if !out.weight.is_finite() && out.anomaly.is_none() {
-            out.anomaly = Some("non-finite likelihood ratio");
-        }
-        self.close_history(index, end, scratch, tally, &out, log);
-        out
-    }
-
     /// Scores common to every history kind.
     pub(crate) fn close_history(
         &self,
@@ -525,48 +343,15 @@ impl Engine<'_> {
         y.min(self.years.saturating_sub(1))
     }
 
-    fn handle_repair_event(
+    /// Replace up to `segments` cut segments of `bay` with new ribbon.
+    pub(crate) fn splice(
         &self,
         t: f64,
-        kind: EventKind,
-        plan: &RepairPlan,
-        fleet: &mut Fleet,
+        bay: u32,
+        segments: u32,
         scratch: &mut Scratch,
-        tally: &mut Tally,
+        rt: &mut RepairTally,
     ) {
-        let policy = self.policy.as_ref();
-        let rt = &mut tally.repair;
-        match kind {
-            EventKind::Detect { bay } => {
-                fleet.on_detect(bay, scratch.cuts_in(bay), t, rt);
-                fleet.dispatch(plan, policy, t, rt);
-            }
-            EventKind::Arrive {
-                station,
-                bay,
-                segments,
-            } => fleet.on_arrive(plan, station, bay, segments, t),
-            EventKind::SpliceDone {
-                station,
-                bay,
-                segments,
-            } => {
-                self.splice(t, bay, segments, scratch, rt);
-                fleet.on_splice_done(plan, station, bay, t);
-            }
-            EventKind::Return { station } => {
-                fleet.on_return(station, t);
-                fleet.dispatch(plan, policy, t, rt);
-            }
-            EventKind::Resupply { station } => {
-                fleet.on_resupply(plan, station, t);
-                fleet.dispatch(plan, policy, t, rt);
-            }
-        }
-    }
-
-    /// Replace up to `segments` cut segments of `bay` with new ribbon.
-    fn splice(&self, t: f64, bay: u32, segments: u32, scratch: &mut Scratch, rt: &mut RepairTally) {
         let n = self.ribbons;
         let slot = scratch.slot(bay, n);
         let base = slot * n;
@@ -608,7 +393,7 @@ impl Engine<'_> {
 
     /// Apply one strike at time `t`; returns the number of new cuts and the loss if the bay
     /// lost its last load path.
-    fn apply_strike(
+    pub(crate) fn apply_strike(
         &self,
         t: f64,
         s: &Strike,
@@ -692,9 +477,43 @@ impl Engine<'_> {
             return (0, None);
         }
         let struck_cut = !intact[r];
-        let newly = outcome.newly_cut;
+        let (newly, survivors) = (outcome.newly_cut, outcome.survivors);
+        let loss = self.record_cuts(
+            t,
+            s.bay,
+            slot,
+            newly,
+            newly - u32::from(struck_cut),
+            survivors,
+            scratch,
+            tally,
+            out,
+            log,
+        );
+        (newly, loss)
+    }
+
+    /// Score `newly` new cuts in `bay` (slot `slot`) at `t`, `not_by_hole` of them caused by
+    /// load redistribution alone; `survivors` intact segments are left. Returns the loss when
+    /// none is left.
+    #[allow(clippy::too_many_arguments)]
+    pub(crate) fn record_cuts(
+        &self,
+        t: f64,
+        bay: u32,
+        slot: usize,
+        newly: u32,
+        not_by_hole: u32,
+        survivors: u32,
+        scratch: &mut Scratch,
+        tally: &mut Tally,
+        out: &mut HistoryOutcome,
+        log: Option<&mut Vec<LogEvent>>,
+    ) -> Option<Loss> {
+        let n = self.ribbons;
+        let j = bay as usize;
         out.cuts += newly;
-        tally.cascade_cuts += u64::from(newly - u32::from(struck_cut));
+        tally.cascade_cuts += u64::from(not_by_hole);
         let band = self.bay_band[j] as usize;
         tally.cuts_by_band[band] += u64::from(newly);
         let y = self.year_of(t);
@@ -705,26 +524,23 @@ impl Engine<'_> {
         if let Some(l) = log {
             l.push(LogEvent::Cut {
                 time_s: t,
-                bay: s.bay,
+                bay,
                 newly_cut: newly,
-                survivors: outcome.survivors,
+                survivors,
             });
         }
-        if outcome.survivors == 0 {
+        if survivors == 0 {
             let cause = if newly > 1 {
                 LossCause::Cascade
             } else {
                 LossCause::DirectCut
             };
-            return (
-                newly,
-                Some(Loss {
-                    time_s: t,
-                    bay: s.bay,
-                    cause,
-                }),
-            );
+            return Some(Loss {
+                time_s: t,
+                bay,
+                cause,
+            });
         }
-        (newly, None)
+        None
     }
 }

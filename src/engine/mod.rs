@@ -9,7 +9,9 @@
 //! Memory is flat in the number of histories: batches are run in chunks and folded into one
 //! running tally as each chunk completes.
 
+mod events;
 mod history;
+mod ondemand;
 mod rng;
 mod sampler;
 mod summary;
@@ -17,6 +19,7 @@ mod tally;
 mod validation;
 
 pub use history::{HistoryOutcome, LogEvent, Scratch};
+pub use ondemand::{critical_width_m, OnDemandTables};
 pub use rng::{splitmix64, stream, Purpose};
 pub use sampler::{open01, unit, Strike, StrikeSampler};
 pub use summary::{
@@ -25,7 +28,8 @@ pub use summary::{
 };
 pub use tally::{Loss, LossCause, Tally, WeightedBatch, ANOMALY_EXAMPLES};
 
-use std::sync::atomic::{AtomicBool, Ordering};
+use std::sync::atomic::{AtomicBool, AtomicU64, Ordering};
+use std::time::Duration;
 
 use rayon::prelude::*;
 use serde::{Deserialize, Serialize};
@@ -64,6 +68,29 @@ pub fn altitude_band_edges_m(top_m: f64) -> Vec<f64> {
 
 /// Batches run between two folds of the running tally.
 const BATCHES_PER_CHUNK: u64 = 32;
+
+/// Which damage sampler runs the histories. Both share the scenario, model, repair and tallies;
+/// each is bit-reproducible across threads and shards; they agree in distribution, not in bits.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Sampler {
+    /// Draw only cut events and, at each state change of a bay, the worst sub-critical holes
+    /// of its segments (see `engine::ondemand`). Cost per cut, not per strike. The default.
+    #[default]
+    OnDemand,
+    /// Draw every strike above the floor (the reference engine).
+    EveryStrike,
+}
+
+impl Sampler {
+    /// The name used on the command line and in reports.
+    pub fn name(&self) -> &'static str {
+        match self {
+            Sampler::OnDemand => "on-demand",
+            Sampler::EveryStrike => "every-strike",
+        }
+    }
+}
 
 /// Engine failures.
 #[derive(Debug, Error)]
@@ -125,8 +152,10 @@ pub struct RunOutcome {
     pub tally: Tally,
     /// How the run ended.
     pub status: RunStatus,
-    /// Number of this run's batches done (a prefix of [`Engine::batches_of`]).
+    /// Number of this run's batches done as a prefix of [`Engine::batches_of`].
     pub batches_done: u64,
+    /// Positions beyond the prefix that are done too (after a stop inside a chunk).
+    pub completed_beyond: Vec<u64>,
 }
 
 /// The batches of a run or shard: `start + k * step` for `k < count`.
@@ -174,6 +203,10 @@ pub struct Checkpoint {
     pub tally: Tally,
     /// Number of batches done (a prefix of the run's batch list).
     pub batches_done: u64,
+    /// Positions in the run's batch list beyond the prefix that are also done (a stop in the
+    /// middle of a chunk keeps the batches that finished), increasing.
+    #[serde(default)]
+    pub completed_beyond: Vec<u64>,
 }
 
 /// A model prepared for sampling. Immutable and shared by all threads.
@@ -181,6 +214,8 @@ pub struct Checkpoint {
 pub struct Engine<'m> {
     model: &'m Model,
     sampler: StrikeSampler,
+    sampler_kind: Sampler,
+    on_demand: Option<OnDemandTables>,
     sharing: Box<dyn LoadSharing>,
     sharing_kind: LoadSharingSpec,
     repair: Option<RepairPlan>,
@@ -198,14 +233,30 @@ pub struct Engine<'m> {
 }
 
 impl<'m> Engine<'m> {
-    /// Prepare a model: build the strike sampler and tables.
+    /// Prepare a model for the default (on-demand) sampler.
     pub fn new(model: &'m Model, floor_fraction: f64) -> Result<Self, EngineError> {
+        Self::with_sampler(model, floor_fraction, Sampler::OnDemand)
+    }
+
+    /// Prepare a model for the given sampler: build the strike sampler (always: it also gives
+    /// the expected strike counts) and, for on-demand, the hole-rate tables.
+    pub fn with_sampler(
+        model: &'m Model,
+        floor_fraction: f64,
+        sampler_kind: Sampler,
+    ) -> Result<Self, EngineError> {
         if !(floor_fraction > 0.0 && floor_fraction <= 1.0) {
             return Err(EngineError::Options(format!(
                 "floor fraction = {floor_fraction} is out of range: allowed (0, 1]"
             )));
         }
         let sampler = StrikeSampler::new(model, floor_fraction)?;
+        let on_demand =
+            if sampler_kind == Sampler::OnDemand && model.scenario.validation_mode.is_none() {
+                Some(OnDemandTables::new(model, floor_fraction)?)
+            } else {
+                None
+            };
         let t = &model.scenario.tether;
         let sharing: Box<dyn LoadSharing> = match t.load_sharing {
             LoadSharingSpec::Equal => Box::new(EqualSharing),
@@ -241,6 +292,8 @@ impl<'m> Engine<'m> {
         Ok(Engine {
             model,
             sampler,
+            sampler_kind,
+            on_demand,
             sharing,
             sharing_kind: t.load_sharing,
             repair,
@@ -283,6 +336,28 @@ impl<'m> Engine<'m> {
         self.bias_factor
     }
 
+    /// Which sampler runs the histories.
+    pub fn sampler_kind(&self) -> Sampler {
+        self.sampler_kind
+    }
+
+    /// The on-demand tables (absent under every-strike and in validation mode).
+    pub fn on_demand(&self) -> Option<&OnDemandTables> {
+        self.on_demand.as_ref()
+    }
+
+    /// Expected strikes above the floor per second on the whole tether (Poisson rate; with the
+    /// observed time it gives the expected strike count: optional stopping of N(t) - rate t).
+    pub fn strike_rate_per_s(&self) -> f64 {
+        self.sampler.total_rate_per_s()
+    }
+
+    /// Expected sub-critical holes (at least the floor) per second on the intact tether, from
+    /// the hole-rate tables (on-demand only).
+    pub fn subcritical_hole_rate_per_s(&self) -> Option<f64> {
+        self.on_demand.as_ref().map(|o| o.subcritical_rate_per_s())
+    }
+
     /// The strike sampler.
     pub fn sampler(&self) -> &StrikeSampler {
         &self.sampler
@@ -310,6 +385,22 @@ impl<'m> Engine<'m> {
 
     /// Run one batch: histories `[b * BATCH_SIZE, min((b + 1) * BATCH_SIZE, histories))`.
     pub fn run_batch(&self, b: u64, histories: u64, seed: u64, scratch: &mut Scratch) -> Tally {
+        let done = AtomicU64::new(0);
+        self.run_batch_until(b, histories, seed, scratch, None, &done)
+            .unwrap_or_else(|| self.empty_tally())
+    }
+
+    /// [`Self::run_batch`], giving up (None) soon after `stop` is raised; adds the number of
+    /// histories run to `done` as it goes (for progress display).
+    pub fn run_batch_until(
+        &self,
+        b: u64,
+        histories: u64,
+        seed: u64,
+        scratch: &mut Scratch,
+        stop: Option<&AtomicBool>,
+        done: &AtomicU64,
+    ) -> Option<Tally> {
         let mut tally = self.empty_tally();
         let lo = b * BATCH_SIZE;
         let hi = histories.min(lo.saturating_add(BATCH_SIZE));
@@ -321,9 +412,19 @@ impl<'m> Engine<'m> {
             });
         }
         for h in lo..hi {
-            self.run_history(h, seed, scratch, &mut tally, None);
+            if stop.is_some_and(|s| s.load(Ordering::Relaxed)) {
+                return None;
+            }
+            let out = self.run_history_until(h, seed, scratch, &mut tally, None, stop);
+            if out.stopped {
+                return None;
+            }
+            if (h - lo) % 16 == 15 {
+                done.fetch_add(16, Ordering::Relaxed);
+            }
         }
-        tally
+        done.fetch_add((hi - lo) % 16, Ordering::Relaxed);
+        Some(tally)
     }
 
     /// Replay one history with its event log.
@@ -363,10 +464,16 @@ impl<'m> Engine<'m> {
         }
     }
 
-    /// Run from a checkpoint (or the start), stopping early when `stop` is raised (after the
-    /// current chunk of batches) or when `opts.target_rel_error` is reached. Stopping points
-    /// are chunk boundaries, which depend only on the batch list, so an early stop is
-    /// deterministic given the seed.
+    /// Run from a checkpoint (or the start), stopping early when `stop` is raised or when
+    /// `opts.target_rel_error` is reached.
+    ///
+    /// The stop flag is polled between histories and every 1024 events inside one, so a run
+    /// stops within a fraction of a second whatever a history costs; the batches that finished
+    /// are kept (the prefix and the finished batches of the interrupted chunk), so resuming
+    /// gives the bits of the uninterrupted run. The target is checked at chunk boundaries,
+    /// which depend only on the batch list: an early stop is deterministic given the seed.
+    /// `progress` is called with the histories done (about 5 times a second while running,
+    /// from a helper thread, and after each chunk).
     pub fn run_resumable(
         &self,
         opts: &RunOptions,
@@ -379,58 +486,115 @@ impl<'m> Engine<'m> {
             .build()
             .map_err(|e| EngineError::Options(format!("cannot start worker threads: {e}")))?;
         let mine = Self::batches_of(opts);
-        let (mut total, mut done_batches) = match start {
-            Some(c) => (c.tally, c.batches_done),
-            None => (self.empty_tally(), 0),
+        let (mut total, mut done_batches, mut beyond) = match start {
+            Some(c) => (c.tally, c.batches_done, c.completed_beyond),
+            None => (self.empty_tally(), 0, Vec::new()),
         };
-        if done_batches > mine.len() {
+        if done_batches > mine.len()
+            || beyond.iter().any(|&k| k < done_batches || k >= mine.len())
+            || beyond.windows(2).any(|w| w[0] >= w[1])
+        {
             return Err(EngineError::Options(
                 "the checkpoint does not belong to this run".into(),
             ));
         }
+        // Chunk boundaries are multiples of BATCHES_PER_CHUNK in the list, whatever was resumed.
+        let counter = AtomicU64::new(total.histories);
+        let finished = AtomicBool::new(false);
         let mut status = RunStatus::Complete;
-        while done_batches < mine.len() {
-            if let Some(t) = opts.target_rel_error {
-                if self.relative_error(&total).is_some_and(|r| r <= t) {
-                    status = RunStatus::TargetMet;
-                    break;
+        let result: Result<(), EngineError> = std::thread::scope(|scope| {
+            scope.spawn(|| {
+                let mut last = u64::MAX;
+                while !finished.load(Ordering::Relaxed) {
+                    let now = counter.load(Ordering::Relaxed);
+                    if now != last {
+                        progress(now);
+                        last = now;
+                    }
+                    std::thread::sleep(Duration::from_millis(100));
                 }
-            }
-            if stop.is_some_and(|s| s.load(Ordering::SeqCst)) {
-                status = RunStatus::Interrupted;
-                break;
-            }
-            let end = (done_batches + BATCHES_PER_CHUNK).min(mine.len());
-            let chunk: Vec<u64> = (done_batches..end).map(|k| mine.get(k)).collect();
-            let tallies: Vec<Tally> = pool.install(|| {
-                chunk
-                    .par_iter()
-                    .map_init(
-                        || self.new_scratch(),
-                        |scratch, &b| self.run_batch(b, opts.histories, opts.seed, scratch),
-                    )
-                    .collect()
             });
-            for t in &tallies {
-                total.merge(t);
-            }
-            done_batches = end;
-            progress(total.histories);
-            let limit = (total.histories / 1000).max(10);
-            if total.anomalies > limit {
-                return Err(EngineError::Anomalies {
-                    count: total.anomalies,
-                    histories: total.histories,
-                    limit,
-                    examples: total
-                        .anomaly_examples
-                        .iter()
-                        .map(|(h, r)| format!("history {h}: {r}"))
-                        .collect::<Vec<_>>()
-                        .join("; "),
-                });
-            }
-        }
+            let r = (|| {
+                while done_batches < mine.len() {
+                    if let Some(t) = opts.target_rel_error {
+                        if done_batches % BATCHES_PER_CHUNK == 0
+                            && self.relative_error(&total).is_some_and(|r| r <= t)
+                        {
+                            status = RunStatus::TargetMet;
+                            break;
+                        }
+                    }
+                    if stop.is_some_and(|s| s.load(Ordering::SeqCst)) {
+                        status = RunStatus::Interrupted;
+                        break;
+                    }
+                    let chunk_end = ((done_batches / BATCHES_PER_CHUNK + 1) * BATCHES_PER_CHUNK)
+                        .min(mine.len());
+                    let todo: Vec<u64> = (done_batches..chunk_end)
+                        .filter(|k| beyond.binary_search(k).is_err())
+                        .collect();
+                    let tallies: Vec<(u64, Option<Tally>)> = pool.install(|| {
+                        todo.par_iter()
+                            .map_init(
+                                || self.new_scratch(),
+                                |scratch, &k| {
+                                    let t = self.run_batch_until(
+                                        mine.get(k),
+                                        opts.histories,
+                                        opts.seed,
+                                        scratch,
+                                        stop,
+                                        &counter,
+                                    );
+                                    (k, t)
+                                },
+                            )
+                            .collect()
+                    });
+                    let mut all = true;
+                    for (k, t) in &tallies {
+                        match t {
+                            Some(t) => {
+                                total.merge(t);
+                                beyond.push(*k);
+                            }
+                            None => all = false,
+                        }
+                    }
+                    beyond.sort_unstable();
+                    while beyond.first() == Some(&done_batches) {
+                        beyond.remove(0);
+                        done_batches += 1;
+                    }
+                    counter.store(total.histories, Ordering::Relaxed);
+                    progress(total.histories);
+                    if !all {
+                        status = RunStatus::Interrupted;
+                        break;
+                    }
+                    let limit = (total.histories / 1000).max(10);
+                    if total.anomalies > limit {
+                        return Err(EngineError::Anomalies {
+                            count: total.anomalies,
+                            histories: total.histories,
+                            limit,
+                            examples: total
+                                .anomaly_examples
+                                .iter()
+                                .map(|(h, r)| format!("history {h}: {r}"))
+                                .collect::<Vec<_>>()
+                                .join("; "),
+                        });
+                    }
+                }
+                Ok(())
+            })();
+            finished.store(true, Ordering::Relaxed);
+            r
+        });
+        result?;
+        // Batch order, whatever order the batches finished in (resumed runs, shards).
+        total.weighted.sort_by_key(|w| w.batch);
         if status == RunStatus::Complete {
             if let Some(t) = opts.target_rel_error {
                 if self.relative_error(&total).is_some_and(|r| r <= t) {
@@ -442,6 +606,7 @@ impl<'m> Engine<'m> {
             tally: total,
             status,
             batches_done: done_batches,
+            completed_beyond: beyond,
         })
     }
 

@@ -20,6 +20,10 @@ pub enum Purpose {
     Repair = 0x5245_5041,
     /// Analysis (bootstrap and the like).
     Analysis = 0x414e_4c59,
+    /// On-demand sampler: draws inside bays that hold state (worst holes brought up to date,
+    /// cut widths, cuts on those bays), kept apart so the untouched-bay cut process on the
+    /// strike stream does not depend on them.
+    Damage = 0x444d_4745,
     /// Extra strikes of the rare-event estimator (importance sampling), kept apart so the
     /// natural strikes stay identical with and without it.
     Bias = 0x4249_4153,

@@ -103,9 +103,20 @@ pub struct RunSummary {
     pub losses_by_cause: CauseCounts,
     /// Fraction of cuts that came from load redistribution.
     pub cascade_cut_fraction: f64,
-    /// Mean sampled strikes per history (particles above the sampling floor).
+    /// Damage sampler that ran the histories (`on-demand` or `every-strike`).
+    #[serde(default)]
+    pub sampler: String,
+    /// How the two strike tallies below were obtained: `counted` (every-strike) or
+    /// `expected from the rates` (on-demand, which draws no individual strike).
+    #[serde(default)]
+    pub strike_tallies: String,
+    /// Strikes per history by particles above the sampling floor: the mean count (every-strike)
+    /// or the expectation rate x observed time (on-demand).
     pub strikes_per_history: f64,
-    /// Mean holes per history that cut nothing.
+    /// Holes per history that cut nothing: every-strike, the mean count of strikes that deepened
+    /// a segment's worst hole without cutting; on-demand, the expected number of holes at least
+    /// the floor and below the intact critical width (rates of the intact tether x observed
+    /// time).
     pub subcritical_holes_per_history: f64,
     /// Histories by the largest number of cuts seen at once in one bay (index = cuts).
     pub max_cuts_in_one_bay: Vec<u64>,
@@ -266,8 +277,21 @@ impl RunSummary {
             } else {
                 0.0
             },
-            strikes_per_history: tally.strikes as f64 / h,
-            subcritical_holes_per_history: tally.subcritical_holes as f64 / h,
+            sampler: engine.sampler_kind().name().to_string(),
+            strike_tallies: match engine.sampler_kind() {
+                super::Sampler::EveryStrike => "counted".to_string(),
+                super::Sampler::OnDemand => "expected from the rates".to_string(),
+            },
+            strikes_per_history: match engine.sampler_kind() {
+                super::Sampler::EveryStrike => tally.strikes as f64 / h,
+                super::Sampler::OnDemand => {
+                    engine.strike_rate_per_s() * tally.time_observed_s as f64 / h
+                }
+            },
+            subcritical_holes_per_history: match engine.subcritical_hole_rate_per_s() {
+                Some(r) => r * tally.time_observed_s as f64 / h,
+                None => tally.subcritical_holes as f64 / h,
+            },
             max_cuts_in_one_bay: tally.max_cuts_in_bay.clone(),
             fraction_of_time_with_cut_bay: if engine.mission_s() > 0.0 {
                 tally.time_with_cut_bay_s as f64 / h / engine.mission_s()

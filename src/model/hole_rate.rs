@@ -437,8 +437,8 @@ impl HoleRateTable {
         }
         let law = model.perforation.as_ref();
         let design = &model.profile.design;
-        let mut bays = Vec::with_capacity(model.profile.bays.len());
-        for (j, bay) in model.profile.bays.iter().enumerate() {
+        let build_bay = |j: usize| -> Result<BayHoleRate, String> {
+            let bay = &model.profile.bays[j];
             let w = bay.width_m;
             let target = RibbonTarget {
                 width_m: w,
@@ -487,26 +487,25 @@ impl HoleRateTable {
                 }
                 // Beyond the grid top: the tail rate of larger particles (assumed to remove any
                 // x they removed at the top, an error of order F(top)/F(floor)).
+                // Nodes whose hole widths agree at every grid diameter contribute identically:
+                // integrate each distinct hole profile once, with the summed weight (exact).
+                let mut profiles: Vec<(Vec<f64>, f64, ImpactNode)> = Vec::new();
                 for node in src.impact_nodes(j) {
-                    let hole = |d: f64| {
-                        let impact = Impact {
-                            diameter_m: d,
-                            speed_m_per_s: node.speed_m_per_s,
-                            cos_incidence: node.cos_incidence,
-                            density_kg_per_m3: rho,
-                            track_angle_rad: node.track_angle_rad,
-                        };
-                        let v = law.hole_width_m(&impact, &target);
-                        if v.is_nan() || v < 0.0 {
-                            0.0
-                        } else {
-                            v
-                        }
-                    };
-                    let pts = refine_jumps(&ds, &fs, &hole, |d| {
+                    let hs: Vec<f64> = ds
+                        .iter()
+                        .map(|&d| hole_at(law, &node, rho, &target, d))
+                        .collect();
+                    match profiles.iter_mut().find(|p| p.0 == hs) {
+                        Some(p) => p.1 += node.weight,
+                        None => profiles.push((hs, node.weight, node)),
+                    }
+                }
+                for (hs, weight, node) in profiles {
+                    let hole = |d: f64| hole_at(law, &node, rho, &target, d);
+                    let pts = refine_jumps(&ds, &fs, &hs, &hole, |d| {
                         src.flux_above_per_m2_per_s(j, d).max(0.0)
                     });
-                    accumulate_node(&pts, w, &xs, 2.0 * length * node.weight, &mut h);
+                    accumulate_node(&pts, w, &xs, 2.0 * length * weight, &mut h);
                 }
             }
             // Enforce monotonicity against rounding.
@@ -519,7 +518,7 @@ impl HoleRateTable {
                 .iter()
                 .map(|&v| if v > 0.0 { v.ln() } else { f64::NEG_INFINITY })
                 .collect();
-            bays.push(BayHoleRate {
+            Ok(BayHoleRate {
                 width_m: w,
                 floor_m: floor,
                 floor_diameter_m: d_floor,
@@ -527,8 +526,14 @@ impl HoleRateTable {
                 step,
                 h,
                 ln_h,
-            });
-        }
+            })
+        };
+        // Bays are independent: build them in parallel (each result is the same on any thread).
+        use rayon::prelude::*;
+        let bays = (0..model.profile.bays.len())
+            .into_par_iter()
+            .map(build_bay)
+            .collect::<Result<Vec<_>, String>>()?;
         Ok(HoleRateTable {
             bays,
             sources: sources.iter().map(|s| s.name().to_string()).collect(),
@@ -557,15 +562,38 @@ impl HoleRateTable {
     }
 }
 
+/// Hole width at one node and diameter (0 for a NaN or negative answer).
+fn hole_at(
+    law: &dyn crate::damage::PerforationLaw,
+    node: &ImpactNode,
+    rho: f64,
+    target: &RibbonTarget,
+    d: f64,
+) -> f64 {
+    let impact = Impact {
+        diameter_m: d,
+        speed_m_per_s: node.speed_m_per_s,
+        cos_incidence: node.cos_incidence,
+        density_kg_per_m3: rho,
+        track_angle_rad: node.track_angle_rad,
+    };
+    let v = law.hole_width_m(&impact, target);
+    if v.is_nan() || v < 0.0 {
+        0.0
+    } else {
+        v
+    }
+}
+
 /// The node's (d, F, h) points with every jump of h located by bisection and inserted as two
 /// points a relative 1e-9 apart, so that h is close to a piecewise power law between points.
 fn refine_jumps(
     ds: &[f64],
     fs: &[f64],
+    hs: &[f64],
     hole: &dyn Fn(f64) -> f64,
     flux: impl Fn(f64) -> f64,
 ) -> Vec<DPoint> {
-    let hs: Vec<f64> = ds.iter().map(|&d| hole(d)).collect();
     let mut pts = Vec::with_capacity(ds.len() + 4);
     for i in 0..ds.len() {
         pts.push(DPoint {

@@ -159,3 +159,146 @@ fn hole_rate_is_monotone_and_its_inverse_inverts_it() {
         assert!(hr.floor_rate_per_s() > hr.full_width_rate_per_s());
     }
 }
+
+#[test]
+#[ignore]
+fn debug_tail() {
+    let model = demo_no_repair();
+    let n = model.profile.design.ribbon_count as f64;
+    let engine =
+        Engine::with_sampler(&model, 1.0, tether_risk::engine::Sampler::EveryStrike).unwrap();
+    let table = HoleRateTable::build(&model, 1.0).unwrap();
+    for j in [0usize, 100, 800] {
+        let hr = table.bay(j);
+        let w = hr.width_m();
+        let sampler = engine.sampler();
+        let draws = 2_000_000usize;
+        let mut rng = stream(5, Purpose::Strikes, j as u64);
+        let xs = [
+            hr.floor_m(),
+            0.3 * w,
+            0.4545 * w,
+            0.5 * w,
+            0.545 * w,
+            0.7 * w,
+            0.9 * w,
+            w,
+        ];
+        let mut counts = vec![0u64; xs.len()];
+        for _ in 0..draws {
+            let s = sampler.sample_in_bay(&mut rng, j);
+            let x = removed(&model, &s);
+            for (k, &xx) in xs.iter().enumerate() {
+                if x >= xx * (1.0 - 1e-12) {
+                    counts[k] += 1;
+                }
+            }
+        }
+        let per_segment = sampler.bay_rate_per_s(j) / n;
+        for (k, &xx) in xs.iter().enumerate() {
+            let mc = counts[k] as f64 / draws as f64 * per_segment;
+            let h = hr.rate_at_least_per_s(xx);
+            eprintln!(
+                "bay {j} x/w {:.4}: MC {:.4e} ({} hits) H {:.4e} ratio {:.4}",
+                xx / w,
+                mc,
+                counts[k],
+                h,
+                h / mc
+            );
+        }
+    }
+}
+
+#[test]
+#[ignore]
+fn debug_cascade_theory() {
+    let model = demo_no_repair();
+    let n = model.profile.design.ribbon_count;
+    let table = HoleRateTable::build(&model, 1.0).unwrap();
+    let p = &model.profile;
+    let pw = p.design.thickness_m * p.design.allowable_stress_pa;
+    let t_end = model.scenario.run.mission_s;
+    let (mut cuts, mut casc) = (0.0, 0.0);
+    for j in 0..p.bays.len() {
+        let hr = table.bay(j);
+        let w = p.bays[j].width_m;
+        let tn = p.bays[j].max_tension_n;
+        let c6 = w - tn / n as f64 / pw;
+        let c5 = w - tn / (n - 1) as f64 / pw;
+        let h6 = hr.rate_at_least_per_s(c6);
+        let h5 = hr.rate_at_least_per_s(c5);
+        cuts += n as f64 * h6 * t_end;
+        // first cut at t, probability that one of n-1 survivors has a hole in [c5, c6)
+        casc += n as f64 * h6 * (n - 1) as f64 * (h5 - h6) * t_end * t_end / 2.0;
+    }
+    eprintln!(
+        "expected cuts {cuts}, cascade events {casc}, fraction {}",
+        casc / cuts
+    );
+}
+
+#[test]
+#[ignore]
+fn debug_cascade_logs() {
+    let v: serde_json::Value = serde_json::from_str(DEMO).unwrap();
+    let model = model_of(&v);
+    let engine = Engine::new(&model, 1.0).unwrap();
+    let mut shown = 0;
+    for h in 0..20000u64 {
+        let (_out, log) = engine.replay(h, 20261202);
+        let casc = log.iter().any(
+            |e| matches!(e, tether_risk::engine::LogEvent::Cut { newly_cut, .. } if *newly_cut > 1),
+        );
+        if casc {
+            for e in &log {
+                eprintln!("h{h}: {e:?}");
+            }
+            shown += 1;
+            if shown > 4 {
+                break;
+            }
+        }
+    }
+}
+
+#[test]
+#[ignore]
+fn debug_cascade_stats() {
+    let v: serde_json::Value = serde_json::from_str(DEMO).unwrap();
+    let model = model_of(&v);
+    let hs: u64 = std::env::var("DBG_H")
+        .map(|v| v.parse().unwrap())
+        .unwrap_or(20000);
+    for s in [tether_risk::engine::Sampler::OnDemand] {
+        let engine = Engine::with_sampler(&model, 1.0, s).unwrap();
+        let (mut first, mut first_casc, mut later, mut later_casc) = (0, 0, 0, 0);
+        for h in 0..hs {
+            let (_out, log) = engine.replay(h, 20261202);
+            let mut seen = std::collections::HashSet::new();
+            for e in &log {
+                if let tether_risk::engine::LogEvent::Cut {
+                    bay,
+                    newly_cut,
+                    survivors,
+                    ..
+                } = e
+                {
+                    let was_intact = survivors + newly_cut == 6;
+                    if seen.insert(*bay) {
+                        first += 1;
+                        if *newly_cut > 1 {
+                            first_casc += 1;
+                        }
+                    } else if was_intact {
+                        later += 1;
+                        if *newly_cut > 1 {
+                            later_casc += 1;
+                        }
+                    }
+                }
+            }
+        }
+        eprintln!("{s:?}: first cuts {first} cascading {first_casc}; later cuts of intact bays {later} cascading {later_casc}");
+    }
+}

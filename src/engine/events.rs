@@ -1,0 +1,877 @@
+//! One history as a sequence of events.
+//!
+//! ```text
+//! loop {
+//!     match next_event() {
+//!         Repair(t)       => on_repair_step(t)     // detection, arrival, splice, return, resupply
+//!         Strike(t)       => on_strike(t)          // every-strike: one particle
+//!         FirstCut(t)     => on_first_cut(t)       // on-demand: a cut on a bay untouched so far
+//!         Cut(t)          => on_cut(t)             // on-demand: a cut on a bay holding state
+//!         MissionEnd      => break
+//!     }
+//! }
+//! on_mission_end()
+//! ```
+//!
+//! Both samplers share this loop, the repair fleet and every score; they differ in what a
+//! damage event is (a strike, or a cut drawn from the hole-rate functions; see
+//! [`super::ondemand`]).
+//!
+//! **Every change of a bay's state follows one recipe** ([`HistoryRun::bring_up_to_date`],
+//! the change, `settle_bay`, [`HistoryRun::loads_changed`]):
+//! 1. bring the worst holes of the bay's intact segments up to date (on-demand: one draw of the
+//!    conditional maximum each; every-strike: nothing, they are always current);
+//! 2. apply the change (mark a segment cut; splice; in future: an inspection replacing holed
+//!    segments, a climber's weight added to or removed from the bay's tension);
+//! 3. follow the cascade with the new loads and score the cuts;
+//! 4. compute the new critical widths and cut rates of the bay.
+//!
+//! A new kind of state change (climber arrival, inspection) is a new [`Event`] variant and a
+//! handler that follows these four steps; [`HistoryRun::on_inspection`] is written that way and
+//! waits for an inspection event in the repair model.
+//!
+//! Ties: repair events first, then extra (rare-event) strikes or cuts in touched bays, then the
+//! natural strike or untouched-bay cut. Gaps are exponential, so drawing the next damage time
+//! before handling earlier repair events is exact (memorylessness), and the strike stream does
+//! not depend on repair: two scenarios differing only in repair see the same strikes (on-demand:
+//! the same first cuts of untouched bays).
+
+use std::sync::atomic::{AtomicBool, Ordering};
+
+use rand_pcg::Pcg64Mcg;
+
+use crate::repair::{EventKind, Fleet, RepairPlan};
+use crate::structure::load_sharing::{settle_bay, MAX_RIBBONS};
+
+use super::history::{HistoryOutcome, LogEvent, Scratch};
+use super::ondemand::critical_width_m;
+use super::rng::{stream, Purpose};
+use super::sampler::{open01, unit};
+use super::tally::{LossCause, Tally};
+use super::{Engine, Sampler};
+
+/// Events between two polls of the stop flag inside one history.
+const EVENTS_PER_STOP_POLL: u64 = 1024;
+
+/// What comes next in a history.
+#[derive(Clone, Copy, Debug, PartialEq)]
+enum Event {
+    /// A repair event from the fleet's queue (detection, arrival, splice, return, resupply).
+    Repair(f64),
+    /// Every-strike: the next particle strike; `extra` for the rare-event estimator's strikes.
+    Strike { t: f64, extra: bool },
+    /// On-demand: a candidate cut from the process of bays untouched so far.
+    FirstCut(f64),
+    /// On-demand: a cut on a bay that holds state.
+    Cut(f64),
+    /// Nothing before mission end.
+    MissionEnd,
+}
+
+/// Whether the history goes on.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+enum Flow {
+    Go,
+    End,
+}
+
+/// The rare-event change of measure inside one history (failure biasing by rate inflation;
+/// Heidelberger 1995, ACM TOMACS 5, 43). Damage events on bays that already have a cut are made
+/// `theta` times as frequent: every-strike by an extra Poisson process of strikes of rate
+/// (theta - 1) x (strike rate of the damaged bays); on-demand by multiplying the cut rates of
+/// those bays. The history carries the likelihood ratio
+/// theta^-(boosted events) x exp((theta - 1) x integral of the natural rate of those events).
+pub(crate) struct RareEvent {
+    theta: f64,
+    ln_theta: f64,
+    log_w: f64,
+    /// Natural rate of the boosted events now, 1/s.
+    rate_s: f64,
+    t_last: f64,
+    /// Every-strike: time of the next extra strike.
+    next_extra_s: f64,
+    rng: Pcg64Mcg,
+}
+
+impl RareEvent {
+    pub(crate) fn new(theta: f64, rng: Pcg64Mcg) -> Self {
+        RareEvent {
+            theta,
+            ln_theta: theta.ln(),
+            log_w: 0.0,
+            rate_s: 0.0,
+            t_last: 0.0,
+            next_extra_s: f64::INFINITY,
+            rng,
+        }
+    }
+
+    /// Plain Monte Carlo when false (factor 1): nothing is drawn, the weight stays 1.
+    pub(crate) fn active(&self) -> bool {
+        self.theta > 1.0
+    }
+
+    /// The multiplier on the rates of damaged bays.
+    pub(crate) fn boost(&self) -> f64 {
+        self.theta
+    }
+
+    /// The natural rate of boostable events changes at `t`: close the compensator integral at
+    /// the old rate.
+    pub(crate) fn set_rate(&mut self, t: f64, rate_s: f64) {
+        if !self.active() {
+            return;
+        }
+        self.log_w += (self.theta - 1.0) * self.rate_s * (t - self.t_last);
+        self.t_last = t;
+        self.rate_s = rate_s;
+    }
+
+    /// Every-strike: the damaged set changed at `t` (or an extra strike was used): close the
+    /// integral and draw the next extra strike at the new rate.
+    pub(crate) fn strikes_changed(&mut self, t: f64, damaged_rate_s: f64) {
+        if !self.active() {
+            return;
+        }
+        self.set_rate(t, damaged_rate_s);
+        let extra = (self.theta - 1.0) * damaged_rate_s;
+        self.next_extra_s = if extra > 0.0 {
+            t - open01(&mut self.rng).ln() / extra
+        } else {
+            f64::INFINITY
+        };
+    }
+
+    /// One boosted event happened (a strike or cut on a damaged bay).
+    pub(crate) fn on_boosted_event(&mut self) {
+        if self.active() {
+            self.log_w -= self.ln_theta;
+        }
+    }
+
+    /// Every-strike: a damaged bay chosen in proportion to its strike rate.
+    pub(crate) fn pick_damaged(&mut self, damaged: &[(u32, f64)]) -> usize {
+        let total: f64 = damaged.iter().map(|d| d.1).sum();
+        let mut x = unit(&mut self.rng) * total;
+        for &(b, r) in damaged {
+            if x < r {
+                return b as usize;
+            }
+            x -= r;
+        }
+        damaged.last().map_or(0, |d| d.0 as usize)
+    }
+
+    /// Likelihood ratio of the history observed until `end`.
+    pub(crate) fn weight_at(&self, end: f64) -> f64 {
+        if !self.active() {
+            return 1.0;
+        }
+        (self.log_w + (self.theta - 1.0) * self.rate_s * (end - self.t_last)).exp()
+    }
+}
+
+/// The mutable state of one history being run.
+pub(crate) struct HistoryRun<'a, 'm> {
+    e: &'a Engine<'m>,
+    scratch: &'a mut Scratch,
+    tally: &'a mut Tally,
+    log: Option<&'a mut Vec<LogEvent>>,
+    fleet: Option<Fleet>,
+    /// Strikes (every-strike) or untouched-bay cut candidates (on-demand).
+    strikes: Pcg64Mcg,
+    /// On-demand: draws inside bays holding state.
+    damage: Pcg64Mcg,
+    repair: Pcg64Mcg,
+    rare: RareEvent,
+    out: HistoryOutcome,
+    last_t: f64,
+    /// Next natural strike / untouched-bay cut candidate, s.
+    next_primary_s: f64,
+    /// On-demand: next cut on a bay holding state, s.
+    next_cut_s: f64,
+    events: u64,
+    stop: Option<&'a AtomicBool>,
+}
+
+impl<'a, 'm> HistoryRun<'a, 'm> {
+    pub(crate) fn new(
+        e: &'a Engine<'m>,
+        index: u64,
+        seed: u64,
+        scratch: &'a mut Scratch,
+        tally: &'a mut Tally,
+        log: Option<&'a mut Vec<LogEvent>>,
+        stop: Option<&'a AtomicBool>,
+    ) -> Self {
+        scratch.reset();
+        let mut fleet = scratch.fleet.take();
+        if let (Some(f), Some(plan)) = (fleet.as_mut(), e.repair.as_ref()) {
+            f.reset(plan);
+        }
+        let mut strikes = stream(seed, Purpose::Strikes, index);
+        let next_primary_s = match &e.on_demand {
+            Some(od) if e.sampler_kind == Sampler::OnDemand => {
+                exp_gap(&mut strikes, od.intact_cut_rate_per_s())
+            }
+            _ => e.sampler.next_gap_s(&mut strikes),
+        };
+        HistoryRun {
+            e,
+            scratch,
+            tally,
+            log,
+            fleet,
+            strikes,
+            damage: stream(seed, Purpose::Damage, index),
+            repair: stream(seed, Purpose::Repair, index),
+            rare: RareEvent::new(e.bias_factor, stream(seed, Purpose::Bias, index)),
+            out: HistoryOutcome::default(),
+            last_t: 0.0,
+            next_primary_s,
+            next_cut_s: f64::INFINITY,
+            events: 0,
+            stop,
+        }
+    }
+
+    /// Run to the end; the outcome (its scores are in the tally).
+    pub(crate) fn run(mut self, index: u64) -> HistoryOutcome {
+        loop {
+            if self.stop_requested() {
+                self.out.stopped = true;
+                break;
+            }
+            let flow = match self.next_event() {
+                Event::Repair(t) => self.on_repair_step(t),
+                Event::Strike { t, extra } => self.on_strike(t, extra),
+                Event::FirstCut(t) => self.on_first_cut(t),
+                Event::Cut(t) => self.on_cut(t),
+                Event::MissionEnd => break,
+            };
+            if flow == Flow::End {
+                break;
+            }
+        }
+        self.on_mission_end(index)
+    }
+
+    /// A cheap check of the stop flag every [`EVENTS_PER_STOP_POLL`] events.
+    fn stop_requested(&mut self) -> bool {
+        self.events += 1;
+        self.events % EVENTS_PER_STOP_POLL == 0
+            && self.stop.is_some_and(|s| s.load(Ordering::Relaxed))
+    }
+
+    /// The earliest of: the next repair event, the next damage event, mission end.
+    fn next_event(&self) -> Event {
+        let t_repair = self
+            .fleet
+            .as_ref()
+            .and_then(|f| f.queue.next_time())
+            .unwrap_or(f64::INFINITY);
+        let (t_boost, boost) = match self.e.sampler_kind {
+            Sampler::EveryStrike => (
+                self.rare.next_extra_s,
+                Event::Strike {
+                    t: self.rare.next_extra_s,
+                    extra: true,
+                },
+            ),
+            Sampler::OnDemand => (self.next_cut_s, Event::Cut(self.next_cut_s)),
+        };
+        let t_primary = self.next_primary_s;
+        if t_repair.min(t_boost).min(t_primary) > self.e.mission_s {
+            return Event::MissionEnd;
+        }
+        if t_repair <= t_primary && t_repair <= t_boost {
+            return Event::Repair(t_repair);
+        }
+        if t_boost < t_primary {
+            return boost;
+        }
+        match self.e.sampler_kind {
+            Sampler::EveryStrike => Event::Strike {
+                t: t_primary,
+                extra: false,
+            },
+            Sampler::OnDemand => Event::FirstCut(t_primary),
+        }
+    }
+
+    /// Time must not go backwards; a NaN or earlier time marks the history anomalous.
+    fn advance_clock(&mut self, t: f64, what: &'static str) -> Flow {
+        if t.is_nan() || t < self.last_t {
+            self.out.anomaly = Some(what);
+            return Flow::End;
+        }
+        self.last_t = t;
+        Flow::Go
+    }
+
+    // ---------------------------------------------------------------------------------------
+    // Repair
+    // ---------------------------------------------------------------------------------------
+
+    /// One event of the repair fleet.
+    fn on_repair_step(&mut self, _t: f64) -> Flow {
+        let (Some(mut fleet), Some(plan)) = (self.fleet.take(), self.e.repair.as_ref()) else {
+            return Flow::End;
+        };
+        let Some(ev) = fleet.queue.pop() else {
+            self.fleet = Some(fleet);
+            return Flow::End;
+        };
+        if let Some(l) = self.log.as_deref_mut() {
+            l.push(LogEvent::Repair {
+                time_s: ev.time_s,
+                kind: ev.kind,
+            });
+        }
+        if self.advance_clock(ev.time_s, "time went backwards at a repair event") == Flow::End {
+            self.fleet = Some(fleet);
+            return Flow::End;
+        }
+        let t = ev.time_s;
+        let policy = self.e.policy.as_ref();
+        let damaged_before = self.scratch.damaged.len();
+        match ev.kind {
+            EventKind::Detect { bay } => {
+                let rt = &mut self.tally.repair;
+                fleet.on_detect(bay, self.scratch.cuts_in(bay), t, rt);
+                fleet.dispatch(plan, policy, t, rt);
+            }
+            EventKind::Arrive {
+                station,
+                bay,
+                segments,
+            } => fleet.on_arrive(plan, station, bay, segments, t),
+            EventKind::SpliceDone {
+                station,
+                bay,
+                segments,
+            } => {
+                self.on_splice(t, bay, segments);
+                fleet.on_splice_done(plan, station, bay, t);
+            }
+            EventKind::Return { station } => {
+                fleet.on_return(station, t);
+                fleet.dispatch(plan, policy, t, &mut self.tally.repair);
+            }
+            EventKind::Resupply { station } => self.on_resupply(&mut fleet, plan, station, t),
+        }
+        let flow = if self.e.strict {
+            let bay = match ev.kind {
+                EventKind::SpliceDone { bay, .. } | EventKind::Detect { bay } => Some(bay),
+                _ => Some(u32::MAX),
+            };
+            match self
+                .e
+                .check_invariants(self.scratch, bay)
+                .or_else(|| fleet.check(plan))
+            {
+                Some(a) => {
+                    self.out.anomaly = Some(a);
+                    Flow::End
+                }
+                None => Flow::Go,
+            }
+        } else {
+            Flow::Go
+        };
+        self.fleet = Some(fleet);
+        if self.e.sampler_kind == Sampler::EveryStrike
+            && self.scratch.damaged.len() != damaged_before
+        {
+            let r = self.scratch.damaged_rate();
+            self.rare.strikes_changed(t, r);
+        }
+        flow
+    }
+
+    /// A delivery of spare stock reaches a station: idle climbers may now be dispatched.
+    fn on_resupply(&mut self, fleet: &mut Fleet, plan: &RepairPlan, station: u32, t: f64) {
+        fleet.on_resupply(plan, station, t);
+        fleet.dispatch(plan, self.e.policy.as_ref(), t, &mut self.tally.repair);
+    }
+
+    /// A splice is done: a bay state change (segments replaced, loads fall).
+    fn on_splice(&mut self, t: f64, bay: u32, segments: u32) {
+        let n = self.e.ribbons;
+        let slot = self.scratch.slot(bay, n);
+        self.bring_up_to_date(slot, t);
+        self.e
+            .splice(t, bay, segments, self.scratch, &mut self.tally.repair);
+        // More survivors carry less each: nothing can fail, so no cascade to follow.
+        self.loads_changed(slot, t);
+    }
+
+    /// Hook for an inspection that replaces the holed segments of `bay` whose worst hole is at
+    /// least `replace_above_m` (no inspection event exists in the repair model yet). It follows
+    /// the state-change recipe: bring the worst holes up to date (the inspection sees them),
+    /// replace, settle (a replacement only lowers loads), new rates.
+    #[allow(dead_code)]
+    pub(crate) fn on_inspection(&mut self, t: f64, bay: u32, replace_above_m: f64) -> u32 {
+        let n = self.e.ribbons;
+        let Some(slot) = self.scratch.slot_of(bay) else {
+            return 0; // never touched: on-demand has no hole to show; nothing to replace
+        };
+        self.bring_up_to_date(slot, t);
+        let base = slot * n;
+        let mut replaced = 0;
+        for i in 0..n {
+            if self.scratch.intact[base + i]
+                && self.scratch.worst_hole_m[base + i] >= replace_above_m
+            {
+                self.scratch.worst_hole_m[base + i] = 0.0;
+                replaced += 1;
+            }
+        }
+        self.loads_changed(slot, t);
+        replaced
+    }
+
+    // ---------------------------------------------------------------------------------------
+    // Damage: every-strike
+    // ---------------------------------------------------------------------------------------
+
+    /// Every-strike: one particle strike (natural, or an extra one of the rare-event estimator).
+    fn on_strike(&mut self, t: f64, extra: bool) -> Flow {
+        let strike = if extra {
+            let j = self.rare.pick_damaged(&self.scratch.damaged);
+            let s = self.e.sampler.sample_in_bay(&mut self.rare.rng, j);
+            self.rare.next_extra_s = f64::INFINITY; // drawn again below
+            s
+        } else {
+            // Draw order per strike: its details, then the gap to the next one (the same order
+            // as the bare strike stream).
+            let s = self.e.sampler.sample(&mut self.strikes);
+            self.next_primary_s = t + self.e.sampler.next_gap_s(&mut self.strikes);
+            s
+        };
+        self.out.strikes += 1;
+        if self.advance_clock(t, "time went backwards at a strike") == Flow::End {
+            return Flow::End;
+        }
+        if !(strike.diameter_m.is_finite()
+            && strike.diameter_m > 0.0
+            && strike.speed_m_per_s.is_finite())
+        {
+            self.out.anomaly = Some("non-finite strike");
+            return Flow::End;
+        }
+        if self.scratch.cuts_in(strike.bay) > 0 {
+            self.rare.on_boosted_event();
+        }
+        let damaged_before = self.scratch.damaged.len();
+        let (newly, loss) = self.e.apply_strike(
+            t,
+            &strike,
+            self.scratch,
+            self.tally,
+            &mut self.out,
+            self.log.as_deref_mut(),
+        );
+        if self.rare.active()
+            && (self.scratch.damaged.len() != damaged_before
+                || self.rare.next_extra_s.is_infinite())
+        {
+            let r = self.scratch.damaged_rate();
+            self.rare.strikes_changed(t, r);
+        }
+        if self.e.strict {
+            if let Some(a) = self.e.check_invariants(self.scratch, Some(strike.bay)) {
+                self.out.anomaly = Some(a);
+                return Flow::End;
+            }
+        }
+        self.after_cuts(t, strike.bay, newly, loss)
+    }
+
+    // ---------------------------------------------------------------------------------------
+    // Damage: on-demand
+    // ---------------------------------------------------------------------------------------
+
+    /// On-demand: a candidate of the untouched-bay cut process. Draws (bay, ribbon, next gap)
+    /// whatever the state, so this stream does not depend on what happened elsewhere; a
+    /// candidate on a bay that already holds state is discarded (that bay has its own process).
+    fn on_first_cut(&mut self, t: f64) -> Flow {
+        let Some(od) = self.e.on_demand.as_ref() else {
+            return Flow::End;
+        };
+        let n = self.e.ribbons;
+        let bay = od.pick_bay(&mut self.strikes) as u32;
+        let ribbon = ((unit(&mut self.strikes) * n as f64) as usize).min(n - 1);
+        self.next_primary_s = t + exp_gap(&mut self.strikes, od.intact_cut_rate_per_s());
+        if self.scratch.slot_of(bay).is_some() {
+            return Flow::Go; // thinned away
+        }
+        if self.advance_clock(t, "time went backwards at a cut") == Flow::End {
+            return Flow::End;
+        }
+        let slot = self.scratch.slot(bay, n);
+        self.loads_changed(slot, 0.0); // intact loads since mission start
+        self.cut_segment(t, slot, ribbon)
+    }
+
+    /// On-demand: a cut on a bay holding state, chosen in proportion to the (boosted) rates.
+    fn on_cut(&mut self, t: f64) -> Flow {
+        if self.advance_clock(t, "time went backwards at a cut") == Flow::End {
+            return Flow::End;
+        }
+        let n = self.e.ribbons;
+        let boost = self.rare.boost();
+        let total = self.touched_cut_rate();
+        let mut x = unit(&mut self.damage) * total;
+        let s = &*self.scratch;
+        let mut pick = None;
+        for slot in 0..s.touched.len() {
+            let r = s.bay_cut_rate_s[slot] * if s.cuts_in_bay[slot] > 0 { boost } else { 1.0 };
+            if x < r {
+                pick = Some(slot);
+                break;
+            }
+            x -= r;
+        }
+        let Some(slot) = pick.or_else(|| {
+            (0..s.touched.len())
+                .rev()
+                .find(|&k| s.bay_cut_rate_s[k] > 0.0)
+        }) else {
+            self.next_cut_s = f64::INFINITY;
+            return Flow::Go;
+        };
+        let mut y = unit(&mut self.damage) * s.bay_cut_rate_s[slot];
+        let base = slot * n;
+        let mut ribbon = None;
+        for i in 0..n {
+            let r = s.cut_rate_s[base + i];
+            if r > 0.0 && y < r {
+                ribbon = Some(i);
+                break;
+            }
+            y -= r;
+        }
+        let Some(ribbon) = ribbon.or_else(|| (0..n).rev().find(|&i| s.cut_rate_s[base + i] > 0.0))
+        else {
+            self.next_cut_s = f64::INFINITY;
+            return Flow::Go;
+        };
+        if s.cuts_in_bay[slot] > 0 {
+            self.rare.on_boosted_event();
+        }
+        self.cut_segment(t, slot, ribbon)
+    }
+
+    /// On-demand: segment `ribbon` of the bay in `slot` is cut at `t` (a hole at least its
+    /// critical width). The state-change recipe: bring up to date, cut, cascade, new rates.
+    fn cut_segment(&mut self, t: f64, slot: usize, ribbon: usize) -> Flow {
+        let e = self.e;
+        let Some(od) = e.on_demand.as_ref() else {
+            return Flow::End;
+        };
+        let n = e.ribbons;
+        let base = slot * n;
+        let bay = self.scratch.touched[slot];
+        let j = bay as usize;
+        self.bring_up_to_date(slot, t);
+        // The cut's removed width: P(X >= x | X >= c) = H(x) / H(c).
+        let hr = od.holes.bay(j);
+        let c = self.scratch.critical_m[base + ribbon];
+        let removed = hr.width_with_rate_m(unit(&mut self.damage) * hr.rate_at_least_per_s(c));
+        self.scratch.worst_hole_m[base + ribbon] = removed.max(c).min(hr.width_m());
+        self.scratch.intact[base + ribbon] = false;
+        if let Some(l) = self.log.as_deref_mut() {
+            l.push(LogEvent::CutHole {
+                time_s: t,
+                bay,
+                ribbon: ribbon as u32,
+                removed_m: removed,
+            });
+        }
+        // Cascade with the up-to-date worst holes.
+        let w = e.model.profile.bays[j].width_m;
+        let mut capacity = [0.0f64; MAX_RIBBONS];
+        for (cap, hole) in capacity
+            .iter_mut()
+            .zip(&self.scratch.worst_hole_m[base..base + n])
+        {
+            *cap = (w - hole).max(0.0) * e.per_width_capacity;
+        }
+        let tension = e.model.profile.bays[j].max_tension_n;
+        let intact = &mut self.scratch.intact[base..base + n];
+        let Ok(cascade) = settle_bay(e.sharing.as_ref(), intact, &capacity[..n], tension) else {
+            self.out.anomaly = Some("too many ribbons for the cascade");
+            return Flow::End;
+        };
+        let newly = 1 + cascade.newly_cut;
+        let loss = e.record_cuts(
+            t,
+            bay,
+            slot,
+            newly,
+            cascade.newly_cut,
+            cascade.survivors,
+            self.scratch,
+            self.tally,
+            &mut self.out,
+            self.log.as_deref_mut(),
+        );
+        self.loads_changed(slot, t);
+        if e.strict {
+            if let Some(a) = e.check_invariants(self.scratch, Some(bay)) {
+                self.out.anomaly = Some(a);
+                return Flow::End;
+            }
+        }
+        self.after_cuts(t, bay, newly, loss)
+    }
+
+    /// Step 1 of a state change (on-demand): draw the worst sub-critical hole of each intact
+    /// segment over the time since the bay's last change, P(M < x) = exp(-(H(x) - H(c)) dt),
+    /// and keep the larger of it and the worst hole so far. One uniform per intact segment.
+    pub(crate) fn bring_up_to_date(&mut self, slot: usize, t: f64) {
+        let Some(od) = self.e.on_demand.as_ref() else {
+            return; // every-strike: holes are always current
+        };
+        if self.e.sampler_kind != Sampler::OnDemand {
+            return;
+        }
+        let s = &mut *self.scratch;
+        let dt = t - s.updated_s[slot];
+        s.updated_s[slot] = t;
+        if !(dt > 0.0) {
+            return;
+        }
+        let n = self.e.ribbons;
+        let base = slot * n;
+        let hr = od.holes.bay(s.touched[slot] as usize);
+        let floor_rate = hr.floor_rate_per_s();
+        for i in 0..n {
+            if !s.intact[base + i] {
+                continue;
+            }
+            let target = s.cut_rate_s[base + i] - open01(&mut self.damage).ln() / dt;
+            if target >= floor_rate {
+                continue; // the largest sub-critical hole is below the floor: irrelevant
+            }
+            let c = s.critical_m[base + i];
+            let m = hr.width_with_rate_m(target).min(c * (1.0 - 1e-9));
+            if m > s.worst_hole_m[base + i] {
+                s.worst_hole_m[base + i] = m;
+            }
+        }
+    }
+
+    /// Step 4 of a state change (on-demand): the bay's loads changed at `t`; compute each intact
+    /// segment's critical width and cut rate H(c), the bay's total, and redraw the next cut on
+    /// bays holding state (exact: exponential gaps are memoryless). Also moves the rare-event
+    /// compensator to the new rate of damaged bays.
+    pub(crate) fn loads_changed(&mut self, slot: usize, t: f64) {
+        if self.e.sampler_kind != Sampler::OnDemand {
+            return;
+        }
+        let Some(od) = self.e.on_demand.as_ref() else {
+            return;
+        };
+        let e = self.e;
+        let n = e.ribbons;
+        let base = slot * n;
+        let s = &mut *self.scratch;
+        let j = s.touched[slot] as usize;
+        let hr = od.holes.bay(j);
+        let w = e.model.profile.bays[j].width_m;
+        let mut loads = [0.0f64; MAX_RIBBONS];
+        e.sharing.distribute(
+            &s.intact[base..base + n],
+            e.model.profile.bays[j].max_tension_n,
+            &mut loads[..n],
+        );
+        let mut total = 0.0;
+        for i in 0..n {
+            if s.intact[base + i] {
+                let c = critical_width_m(w, loads[i], e.per_width_capacity).max(hr.floor_m());
+                let r = hr.rate_at_least_per_s(c);
+                s.critical_m[base + i] = c;
+                s.cut_rate_s[base + i] = r;
+                total += r;
+            } else {
+                s.critical_m[base + i] = 0.0;
+                s.cut_rate_s[base + i] = 0.0;
+            }
+        }
+        s.bay_cut_rate_s[slot] = total;
+        s.updated_s[slot] = t;
+        let t_now = t.max(self.last_t);
+        let damaged: f64 = (0..s.touched.len())
+            .filter(|&k| s.cuts_in_bay[k] > 0)
+            .map(|k| s.bay_cut_rate_s[k])
+            .sum();
+        self.rare.set_rate(t_now, damaged);
+        let rate = self.touched_cut_rate();
+        self.next_cut_s = t_now + exp_gap(&mut self.damage, rate);
+    }
+
+    /// Total (boosted) cut rate of the bays holding state, 1/s.
+    fn touched_cut_rate(&self) -> f64 {
+        let s = &*self.scratch;
+        let boost = self.rare.boost();
+        (0..s.touched.len())
+            .map(|k| s.bay_cut_rate_s[k] * if s.cuts_in_bay[k] > 0 { boost } else { 1.0 })
+            .sum()
+    }
+
+    /// After cuts in `bay`: schedule their detection; a loss ends the history.
+    fn after_cuts(
+        &mut self,
+        t: f64,
+        bay: u32,
+        newly: u32,
+        loss: Option<super::tally::Loss>,
+    ) -> Flow {
+        if newly > 0 {
+            if let (Some(f), Some(plan)) = (self.fleet.as_mut(), self.e.repair.as_ref()) {
+                let cuts = self.scratch.cuts_in(bay);
+                for _ in 0..newly {
+                    f.on_cut(plan, &mut self.repair, bay, cuts, t);
+                }
+            }
+        }
+        match loss {
+            Some(mut loss) => {
+                if self
+                    .fleet
+                    .as_ref()
+                    .is_some_and(|f| f.bay_waits_for_stock(loss.bay))
+                {
+                    loss.cause = LossCause::StockoutDelay;
+                }
+                self.out.loss = Some(loss);
+                Flow::End
+            }
+            None => Flow::Go,
+        }
+    }
+
+    // ---------------------------------------------------------------------------------------
+    // Mission end
+    // ---------------------------------------------------------------------------------------
+
+    /// Close the history: repair tallies up to the end, the likelihood ratio, final invariant
+    /// check and the common scores. Nothing is drawn (on-demand: no tally needs the sub-critical
+    /// holes; their expected numbers come from the rates).
+    fn on_mission_end(mut self, index: u64) -> HistoryOutcome {
+        let e = self.e;
+        if self.out.stopped {
+            self.scratch.fleet = self.fleet.take();
+            return self.out;
+        }
+        let end = self.out.loss.map_or(e.mission_s, |l| l.time_s);
+        if let (Some(f), Some(plan)) = (self.fleet.as_mut(), e.repair.as_ref()) {
+            f.finish(plan, end, &mut self.tally.repair);
+        }
+        self.scratch.fleet = self.fleet.take();
+        self.out.weight = self.rare.weight_at(end);
+        if e.strict && self.out.anomaly.is_none() && self.out.loss.is_none() {
+            self.out.anomaly = e.check_invariants(self.scratch, None);
+        }
+        if !self.out.weight.is_finite() && self.out.anomaly.is_none() {
+            self.out.anomaly = Some("non-finite likelihood ratio");
+        }
+        e.close_history(index, end, self.scratch, self.tally, &self.out, self.log);
+        self.out
+    }
+
+    /// Test hook: bring every bay holding state up to `t` (on-demand) and list its segments as
+    /// (bay, ribbon, worst hole m, intact).
+    pub(crate) fn segments_at(&mut self, t: f64) -> Vec<(u32, u32, f64, bool)> {
+        let n = self.e.ribbons;
+        let mut v = Vec::new();
+        for slot in 0..self.scratch.touched.len() {
+            self.bring_up_to_date(slot, t);
+            for i in 0..n {
+                v.push((
+                    self.scratch.touched[slot],
+                    i as u32,
+                    self.scratch.worst_hole_m[slot * n + i],
+                    self.scratch.intact[slot * n + i],
+                ));
+            }
+        }
+        v
+    }
+}
+
+/// An exponential gap at `rate` (infinite when the rate is 0).
+#[inline]
+fn exp_gap(rng: &mut Pcg64Mcg, rate_s: f64) -> f64 {
+    if rate_s > 0.0 {
+        -open01(rng).ln() / rate_s
+    } else {
+        f64::INFINITY
+    }
+}
+
+impl Engine<'_> {
+    /// Run history `index`, adding its scores to `tally`. `log`, when given, receives every
+    /// event (for `--replay-history`).
+    pub fn run_history(
+        &self,
+        index: u64,
+        seed: u64,
+        scratch: &mut Scratch,
+        tally: &mut Tally,
+        log: Option<&mut Vec<LogEvent>>,
+    ) -> HistoryOutcome {
+        if let Some(v) = self.model.scenario.validation_mode {
+            return self.run_validation_history(index, seed, &v, scratch, tally, log);
+        }
+        self.run_history_until(index, seed, scratch, tally, log, None)
+    }
+
+    /// [`Self::run_history`], abandoning the history (outcome `stopped`) soon after `stop` is
+    /// raised: the flag is polled every 1024 events.
+    pub fn run_history_until(
+        &self,
+        index: u64,
+        seed: u64,
+        scratch: &mut Scratch,
+        tally: &mut Tally,
+        log: Option<&mut Vec<LogEvent>>,
+        stop: Option<&AtomicBool>,
+    ) -> HistoryOutcome {
+        if let Some(v) = self.model.scenario.validation_mode {
+            return self.run_validation_history(index, seed, &v, scratch, tally, log);
+        }
+        HistoryRun::new(self, index, seed, scratch, tally, log, stop).run(index)
+    }
+
+    /// Run history `index` and list, at its end, every segment of the bays that hold state as
+    /// (bay, ribbon, worst hole m, intact), with the end time (on-demand: brought up to date to
+    /// the end with extra draws that change nothing else). For distribution tests.
+    pub fn segments_at_end(
+        &self,
+        index: u64,
+        seed: u64,
+    ) -> (HistoryOutcome, f64, Vec<(u32, u32, f64, bool)>) {
+        let mut scratch = self.new_scratch();
+        let mut tally = self.empty_tally();
+        let mut run = HistoryRun::new(self, index, seed, &mut scratch, &mut tally, None, None);
+        loop {
+            let flow = match run.next_event() {
+                Event::Repair(t) => run.on_repair_step(t),
+                Event::Strike { t, extra } => run.on_strike(t, extra),
+                Event::FirstCut(t) => run.on_first_cut(t),
+                Event::Cut(t) => run.on_cut(t),
+                Event::MissionEnd => break,
+            };
+            if flow == Flow::End {
+                break;
+            }
+        }
+        let end = run.out.loss.map_or(self.mission_s, |l| l.time_s);
+        let segs = run.segments_at(end);
+        let out = run.out;
+        (out, end, segs)
+    }
+}

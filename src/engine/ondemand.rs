@@ -1,0 +1,179 @@
+//! On-demand damage sampling: cost per cut and per state change, not per strike.
+//!
+//! # The problem
+//! The strike-by-strike engine ([`super::sampler`]) draws every particle above a size floor:
+//! about a thousand per demo history, over a million for a many-ribbon design sized close to
+//! its margin. Almost all of those strikes leave a sub-critical hole that never matters.
+//!
+//! # What matters about a segment
+//! A segment's state is its worst hole (holes at different places along a bay tens of km long
+//! do not add) and whether it is cut. Its load changes only at a *state change* of its bay: a
+//! cut (with its cascade), a splice, and in future an inspection that replaces holed segments
+//! or a climber that arrives on or leaves the bay. Between two state changes of bay j, each
+//! intact segment k carries a constant load and so has a constant critical width
+//! c_k = w - load_k / (t σ_allow (1 - tol)): a hole removing more than c_k cuts it.
+//!
+//! # Poisson thinning
+//! Holes on one segment form a marked Poisson process: holes arrive at rate H(floor) and their
+//! removed widths X have P(X >= x) = H(x) / H(floor), where H(x) is the segment's rate of holes
+//! removing at least x ([`crate::model::hole_rate`]). Thinning by mark (Kingman 1993, *Poisson
+//! Processes*, the colouring theorem; a standard result) splits it into two **independent**
+//! Poisson processes:
+//! - holes with X >= c_k: the cut events of segment k, rate H(c_k);
+//! - holes with X < c_k: sub-critical holes, rate H(floor) - H(c_k), marks with
+//!   P(X < x | X < c_k) = (H(floor) - H(x)) / (H(floor) - H(c_k)).
+//!
+//! # The conditional maximum
+//! Over an interval of length dt in which c_k is constant, the largest sub-critical hole M is
+//! below x (floor <= x <= c_k) exactly when no sub-critical hole of width in [x, c_k) arrived.
+//! Those arrive as a Poisson process of rate H(x) - H(c_k), so
+//!
+//! P(M < x) = exp(-(H(x) - H(c_k)) dt),
+//!
+//! and M is drawn by inversion with one uniform u: H(M) = H(c_k) - ln(u) / dt (when that rate
+//! exceeds H(floor), M lies below the floor: nothing that can ever matter). The worst hole
+//! after the interval is max(worst before, M), because the maximum of a union is the maximum of
+//! the maxima.
+//!
+//! # The algorithm
+//! 1. Draw only cut events. Bays never touched in this history all have the intact-bay loads,
+//!    so their cut process is one Poisson process of rate Σ_j N H_j(c0_j) over the tether, with
+//!    the bay chosen from an alias table. Bays touched in this history (they hold state) have
+//!    their own rates Σ_k H_j(c_k); a candidate of the untouched-bay process that lands on a
+//!    touched bay is discarded (thinning again: the touched bay's events come from its own
+//!    process). Two independent processes superpose into one, so the next event is the earlier
+//!    of the two next times; after a state change the touched process is redrawn at its new
+//!    rate (exact by memorylessness).
+//! 2. At a cut of segment i of bay j at time t: bring every intact segment of j up to date by
+//!    one draw of M over [t_last_change, t] each, mark i cut (its removed width, drawn from
+//!    P(X >= x | X >= c_i) = H(x) / H(c_i), is logged), apply the new loads and follow the
+//!    cascade with the up-to-date worst holes, then compute the new critical widths and rates.
+//! 3. At any other state change (a splice; in future an inspection or a climber's load) the
+//!    same recipe: bring up to date, change, settle, new rates.
+//! 4. At mission end nothing is drawn: no tally needs the sub-critical holes, and expected
+//!    counts (strikes, sub-critical holes) follow from the rates.
+//!
+//! # Why it is exact
+//! Every step is an identity in distribution for the process of holes above the floor that the
+//! strike-by-strike engine samples: the thinning split is exact, the superposition and
+//! discarding are exact, the conditional maximum is the exact law of the only statistic the
+//! future depends on, and it is drawn exactly when the future first depends on it (a change of
+//! loads). Holes below the floor can never sever (the floor is the smallest hole that severs in
+//! any stable load state), so leaving them out changes nothing. The only approximation is the
+//! numerical quadrature of H itself (see [`crate::model::hole_rate`]), which the tests bound.
+//! The cost is O(cuts + state changes x N) per history, independent of the number of strikes.
+//!
+//! # Time-varying flux
+//! With a flux that varies in time (meteor streams) H_j(x) becomes H_j(x, t); the rates above
+//! become integrals over the interval: P(M < x) = exp(-∫ (H(x, s) - H(c, s)) ds), and cut
+//! times come from the integrated rate. The structure of the algorithm does not change.
+//!
+//! # Rare-event estimator
+//! Under `--rare-event θ` the cut process of intact segments in bays that already have a cut
+//! runs θ times faster, and the history carries the likelihood ratio
+//! θ^-(such cuts) · exp((θ - 1) ∫ R_damaged(t) dt), R_damaged the natural cut rate of those
+//! segments (failure biasing by rate inflation; Heidelberger 1995, ACM TOMACS 5, 43). The
+//! sub-critical process is not biased (it needs no weight). The strike-by-strike engine biases
+//! all strikes on damaged bays instead; both are unbiased estimators of the same probability.
+
+use crate::model::hole_rate::HoleRateTable;
+use crate::model::Model;
+use crate::stats::AliasTable;
+use crate::structure::load_sharing::CAPACITY_TOLERANCE;
+
+use super::EngineError;
+
+/// Tables of the on-demand sampler, built once per model.
+#[derive(Debug)]
+pub struct OnDemandTables {
+    /// H_j(x) per bay.
+    pub(crate) holes: HoleRateTable,
+    /// Critical width of an intact segment in an intact bay, per bay, m.
+    pub(crate) intact_critical_m: Vec<f64>,
+    /// Cut rate of one intact segment of an intact bay, per bay, 1/s.
+    intact_cut_rate_s: Vec<f64>,
+    /// Bay choice of the untouched-bay cut process (weights N H_j(c0_j)).
+    bay_alias: AliasTable,
+    /// Total rate of the untouched-bay cut process (all bays intact), 1/s.
+    total_rate_s: f64,
+    /// Expected sub-critical holes (at least the floor) per second, whole intact tether.
+    subcritical_rate_s: f64,
+}
+
+impl OnDemandTables {
+    /// Build for a model (`floor_fraction` as for the strike sampler).
+    pub fn new(model: &Model, floor_fraction: f64) -> Result<Self, EngineError> {
+        let holes = HoleRateTable::build(model, floor_fraction).map_err(EngineError::Model)?;
+        let p = &model.profile;
+        let n = p.design.ribbon_count;
+        let per_width = p.design.thickness_m * p.design.allowable_stress_pa;
+        let mut intact_critical_m = Vec::with_capacity(p.bays.len());
+        let mut intact_cut_rate_s = Vec::with_capacity(p.bays.len());
+        let mut weights = Vec::with_capacity(p.bays.len());
+        let mut subcritical_rate_s = 0.0;
+        for (j, bay) in p.bays.iter().enumerate() {
+            let hr = holes.bay(j);
+            // Every sharing rule gives T/N per ribbon when all are intact.
+            let c = critical_width_m(bay.width_m, bay.max_tension_n / n as f64, per_width)
+                .max(hr.floor_m());
+            let r = hr.rate_at_least_per_s(c);
+            intact_critical_m.push(c);
+            intact_cut_rate_s.push(r);
+            weights.push(r * n as f64);
+            subcritical_rate_s += (hr.floor_rate_per_s() - r).max(0.0) * n as f64;
+        }
+        let total_rate_s: f64 = weights.iter().sum();
+        let bay_alias = if total_rate_s > 0.0 {
+            AliasTable::new(&weights)
+        } else {
+            AliasTable::new(&vec![1.0; weights.len()])
+        }
+        .map_err(|e| EngineError::Model(e.to_string()))?;
+        Ok(OnDemandTables {
+            holes,
+            intact_critical_m,
+            intact_cut_rate_s,
+            bay_alias,
+            total_rate_s,
+            subcritical_rate_s,
+        })
+    }
+
+    /// Total cut rate of the intact tether, 1/s.
+    pub fn intact_cut_rate_per_s(&self) -> f64 {
+        self.total_rate_s
+    }
+
+    /// Critical width of an intact segment of intact bay `j`, m.
+    pub fn intact_critical_width_m(&self, j: usize) -> f64 {
+        self.intact_critical_m[j]
+    }
+
+    /// Cut rate of one intact segment of intact bay `j`, 1/s.
+    pub fn segment_cut_rate_per_s(&self, j: usize) -> f64 {
+        self.intact_cut_rate_s[j]
+    }
+
+    /// Expected sub-critical holes at least the floor per second on the intact tether.
+    pub fn subcritical_rate_per_s(&self) -> f64 {
+        self.subcritical_rate_s
+    }
+
+    /// The hole-rate table.
+    pub fn holes(&self) -> &HoleRateTable {
+        &self.holes
+    }
+
+    /// A bay of the untouched-bay process, chosen in proportion to its rate.
+    #[inline]
+    pub(crate) fn pick_bay<R: rand::Rng + ?Sized>(&self, rng: &mut R) -> usize {
+        self.bay_alias.sample(rng)
+    }
+}
+
+/// The critical width of a segment carrying `load_n`: the removed width above which it is cut
+/// (the overload test of `settle_bay`, solved for the hole), m. May be <= 0 (cut without a hole).
+#[inline]
+pub fn critical_width_m(width_m: f64, load_n: f64, per_width_capacity_n_per_m: f64) -> f64 {
+    width_m - load_n / (per_width_capacity_n_per_m * (1.0 - CAPACITY_TOLERANCE))
+}
