@@ -1,7 +1,11 @@
 //! Throughput of the Monte Carlo engine on the demo scenario with repair off.
 //!
-//! - `histories/full`: whole histories (strike stream + holes + load checks + tallies), one
-//!   thread, the same histories and seeds as a real run;
+//! - `samplers/on_demand` and `samplers/every_strike`: whole histories of the demo with repair
+//!   off, one thread, under each damage sampler (issue goal: on-demand >= 100x every-strike in
+//!   histories per second). The on-demand group runs 100x more histories per iteration so both
+//!   take comparable time; compare the throughput lines (histories/s);
+//! - `histories/full`: whole every-strike histories (strike stream + holes + load checks +
+//!   tallies), one thread, the same histories and seeds as a real run;
 //! - `histories/bare_stream`: the same strike streams alone (gaps and strikes drawn over one
 //!   mission, no damage processing), the floor that the full cost is compared with;
 //! - `profile/build`: building the model (profile, per-bay tables) and the strike sampler.
@@ -13,7 +17,7 @@ use std::hint::black_box;
 use std::time::Duration;
 
 use criterion::{criterion_group, criterion_main, Criterion, Throughput};
-use tether_risk::engine::{stream, Engine, Purpose};
+use tether_risk::engine::{stream, Engine, Purpose, Sampler};
 use tether_risk::model::Model;
 use tether_risk::scenario::{parse_spec, Scenario, DEMO_SCENARIO_JSON};
 
@@ -27,9 +31,32 @@ fn demo_without_repair() -> Scenario {
     Scenario::from_spec(spec, None).expect("demo validates")
 }
 
+fn samplers(c: &mut Criterion) {
+    let model = Model::build(demo_without_repair()).expect("demo builds");
+    let mut group = c.benchmark_group("samplers");
+    for (name, sampler, histories) in [
+        ("on_demand", Sampler::OnDemand, 100 * HISTORIES),
+        ("every_strike", Sampler::EveryStrike, HISTORIES),
+    ] {
+        let engine = Engine::with_sampler(&model, 1.0, sampler).expect("engine");
+        group.throughput(Throughput::Elements(histories));
+        group.bench_function(name, |b| {
+            let mut scratch = engine.new_scratch();
+            b.iter(|| {
+                let mut tally = engine.empty_tally();
+                for h in 0..histories {
+                    engine.run_history(h, SEED, &mut scratch, &mut tally, None);
+                }
+                black_box(tally.cuts)
+            })
+        });
+    }
+    group.finish();
+}
+
 fn histories(c: &mut Criterion) {
     let model = Model::build(demo_without_repair()).expect("demo builds");
-    let engine = Engine::new(&model, 1.0).expect("engine");
+    let engine = Engine::with_sampler(&model, 1.0, Sampler::EveryStrike).expect("engine");
     let mut group = c.benchmark_group("histories");
     group.throughput(Throughput::Elements(HISTORIES));
 
@@ -46,7 +73,7 @@ fn histories(c: &mut Criterion) {
 
     // The demo as shipped, with repair logistics: same strikes, plus the event queue.
     let with_repair = Model::build(tether_risk::scenario::demo()).expect("demo builds");
-    let engine_r = Engine::new(&with_repair, 1.0).expect("engine");
+    let engine_r = Engine::with_sampler(&with_repair, 1.0, Sampler::EveryStrike).expect("engine");
     group.bench_function("full_with_repair", |b| {
         let mut scratch = engine_r.new_scratch();
         b.iter(|| {
@@ -102,6 +129,6 @@ criterion_group! {
         .sample_size(10)
         .warm_up_time(Duration::from_secs(1))
         .measurement_time(Duration::from_secs(4));
-    targets = histories, profile
+    targets = samplers, histories, profile
 }
 criterion_main!(benches);

@@ -1,5 +1,11 @@
-//! `tether-risk check FILE`: validate and print derived design quantities.
+//! `tether-risk check FILE`: validate and print derived design quantities, and the expected
+//! work of a run (state changes, strikes, estimated time on this machine).
 
+use std::sync::atomic::{AtomicBool, Ordering};
+use std::time::{Duration, Instant};
+
+use tether_risk::engine::{Engine, Sampler, WORK_BUDGET_EVENTS};
+use tether_risk::model::Model;
 use tether_risk::report::design::DesignSummary;
 
 use super::output::{load_model, print};
@@ -8,7 +14,7 @@ use super::Format;
 /// Arguments of `check`.
 #[derive(clap::Args, Debug)]
 #[command(
-    after_help = "Examples:\n  tether-risk check my-tether.json\n  tether-risk check demo --format json\n  cat my-tether.json | tether-risk check -\n\nExit code 0: valid; 2: invalid (the reason is printed on stderr)."
+    after_help = "Examples:\n  tether-risk check my-tether.json\n  tether-risk check demo --format json\n  cat my-tether.json | tether-risk check -\n\nExit code 0: valid; 2: invalid (the reason is printed on stderr).\n\nThe work estimate runs the engine for about half a second to time it on this machine."
 )]
 pub struct Args {
     /// Scenario file (JSON); `-` reads standard input; `demo` is the built-in scenario.
@@ -18,11 +24,136 @@ pub struct Args {
     format: Format,
 }
 
+/// Expected work of the scenario's run, with times measured on this machine.
+#[derive(serde::Serialize)]
+struct WorkReport {
+    histories: u64,
+    strikes_per_history: f64,
+    state_changes_per_history: f64,
+    on_demand_seconds_one_thread: f64,
+    every_strike_seconds_one_thread: f64,
+    budget_events: f64,
+    every_strike_within_budget: bool,
+}
+
+/// Time `sampler` for at most `limit` wall time; seconds per history (every-strike: from the
+/// time per strike, so that one very long history still gives an estimate).
+fn seconds_per_history(model: &Model, sampler: Sampler, limit: Duration) -> Option<f64> {
+    let engine = Engine::with_sampler(model, 1.0, sampler).ok()?;
+    let stop = AtomicBool::new(false);
+    let mut scratch = engine.new_scratch();
+    let mut tally = engine.empty_tally();
+    let (mut strikes, mut done) = (0u64, 0u64);
+    let started = Instant::now();
+    std::thread::scope(|s| {
+        s.spawn(|| {
+            let step = Duration::from_millis(10);
+            let mut waited = Duration::ZERO;
+            while waited < limit && !stop.load(Ordering::Relaxed) {
+                std::thread::sleep(step);
+                waited += step;
+            }
+            stop.store(true, Ordering::Relaxed);
+        });
+        let mut h = 0;
+        while !stop.load(Ordering::Relaxed) && h < 100_000 {
+            let out = engine.run_history_until(
+                h,
+                model.scenario.run.seed,
+                &mut scratch,
+                &mut tally,
+                None,
+                Some(&stop),
+            );
+            strikes += out.strikes;
+            if !out.stopped {
+                done += 1;
+            }
+            h += 1;
+        }
+        stop.store(true, Ordering::Relaxed);
+    });
+    let elapsed = started.elapsed().as_secs_f64();
+    match sampler {
+        Sampler::EveryStrike if strikes > 0 => {
+            Some(elapsed / strikes as f64 * engine.work_estimate().strikes_per_history)
+        }
+        _ if done > 0 => Some(elapsed / done as f64),
+        _ => None,
+    }
+}
+
+fn work_report(model: &Model) -> Option<WorkReport> {
+    let engine = Engine::with_sampler(model, 1.0, Sampler::OnDemand).ok()?;
+    let w = engine.work_estimate();
+    let histories = model.scenario.run.histories;
+    let od = seconds_per_history(model, Sampler::OnDemand, Duration::from_millis(200))?;
+    let es = seconds_per_history(model, Sampler::EveryStrike, Duration::from_millis(300))?;
+    Some(WorkReport {
+        histories,
+        strikes_per_history: w.strikes_per_history,
+        state_changes_per_history: w.state_changes_per_history,
+        on_demand_seconds_one_thread: od * histories as f64,
+        every_strike_seconds_one_thread: es * histories as f64,
+        budget_events: WORK_BUDGET_EVENTS,
+        every_strike_within_budget: w.strikes_per_history * histories as f64 <= WORK_BUDGET_EVENTS,
+    })
+}
+
+fn work_text(w: &WorkReport) -> String {
+    let t = |s: f64| {
+        if s < 120.0 {
+            format!("{s:.1} s")
+        } else if s < 7200.0 {
+            format!("{:.1} min", s / 60.0)
+        } else {
+            format!("{:.1} h", s / 3600.0)
+        }
+    };
+    format!(
+        "\nExpected work of the run ({} histories, estimates from the rates; times measured now on this machine, one thread)\n  \
+         state changes per history (cuts, splices): {:.3}\n  \
+         strikes per history above the floor (every-strike draws each): {:.4}\n  \
+         estimated time, on-demand sampler (default): {}\n  \
+         estimated time, every-strike sampler: {}{}\n",
+        w.histories,
+        w.state_changes_per_history,
+        w.strikes_per_history,
+        t(w.on_demand_seconds_one_thread),
+        t(w.every_strike_seconds_one_thread),
+        if w.every_strike_within_budget {
+            String::new()
+        } else {
+            format!(
+                " (beyond the budget of {:.0e} strikes: every-strike needs --force)",
+                w.budget_events
+            )
+        }
+    )
+}
+
 pub fn run(a: Args) -> anyhow::Result<()> {
     let model = load_model(&a.file)?;
     let s = DesignSummary::from_model(&model);
+    let work = if model.scenario.validation_mode.is_none() {
+        work_report(&model)
+    } else {
+        None
+    };
     match a.format {
-        Format::Json => print(&(serde_json::to_string_pretty(&s)? + "\n")),
-        Format::Text | Format::Csv => print(&s.to_text()),
+        Format::Json => {
+            let mut v = serde_json::to_value(&s)?;
+            if let (Some(w), Some(obj)) = (&work, v.as_object_mut()) {
+                obj.insert("work_estimate".into(), serde_json::to_value(w)?);
+            }
+            print(&(serde_json::to_string_pretty(&v)? + "\n"))
+        }
+        Format::Text | Format::Csv => {
+            let mut text = s.to_text();
+            if let Some(w) = &work {
+                text.push_str(&work_text(w));
+            }
+            print(&text)
+        }
     }
 }

@@ -65,7 +65,7 @@ pub fn run(a: Args) -> anyhow::Result<()> {
         stockout_target: 0.05,
         sampler: tether_risk::engine::Sampler::OnDemand,
     };
-    let summary = execute(&model, &settings, a.threads, dir, None, None)?;
+    let summary = execute(&model, &settings, a.threads, dir, None, None, false)?;
     let text = run_text(&summary);
     write("simulate.txt", &text)?;
     print(&format!(
@@ -99,6 +99,7 @@ fn sweep_spacing(threads: usize, dir: &std::path::Path) -> anyhow::Result<()> {
         rare_event_factor: 1.0,
         stockout_target: 0.05,
         flux_table_json: None,
+        ..Default::default()
     };
     let result = run_sweep_with_progress(&base, &spec, &settings, &|p, n| {
         let _ = print(&format!("  point {}/{n}: {}\n", p.index + 1, p.label));

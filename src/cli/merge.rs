@@ -46,12 +46,27 @@ fn read_json<T: serde::de::DeserializeOwned>(path: &std::path::Path) -> anyhow::
 
 pub fn run(a: Args) -> anyhow::Result<()> {
     let mut parts: Vec<(RunSummary, RunSettingsFile)> = Vec::new();
+    let stop = super::interrupt::flag();
+    let bar = indicatif::ProgressBar::new(a.dirs.len() as u64);
+    bar.set_style(
+        indicatif::ProgressStyle::with_template("{spinner} reading shard {pos}/{len} {wide_bar}")
+            .unwrap_or_else(|_| indicatif::ProgressStyle::default_bar()),
+    );
+    bar.enable_steady_tick(std::time::Duration::from_millis(250));
     for d in &a.dirs {
+        if stop.load(std::sync::atomic::Ordering::SeqCst) {
+            bar.finish_and_clear();
+            return Err(
+                super::interrupt::Stopped("merge stopped; nothing was written".into()).into(),
+            );
+        }
+        bar.inc(1);
         parts.push((
             read_json(&d.join("summary.json"))?,
             read_json(&d.join("settings.json"))?,
         ));
     }
+    bar.finish_and_clear();
     let (first, first_settings) = &parts[0];
     let count = match first_settings.shard {
         Some((_, n)) => n,

@@ -36,9 +36,10 @@ pub fn report_error(e: &anyhow::Error) -> i32 {
         msg.push_str(&format!("\n  caused by: {cause}"));
     }
     eprintln!("{msg}");
-    if e.chain()
-        .any(|c| c.downcast_ref::<super::interrupt::Interrupted>().is_some())
-    {
+    if e.chain().any(|c| {
+        c.downcast_ref::<super::interrupt::Interrupted>().is_some()
+            || c.downcast_ref::<super::interrupt::Stopped>().is_some()
+    }) {
         return 130;
     }
     if input {

@@ -234,8 +234,23 @@ pub fn execute(
     out_dir: &Path,
     start: Option<Checkpoint>,
     stop: Option<&AtomicBool>,
+    force: bool,
 ) -> anyhow::Result<RunSummary> {
     let engine = engine_for(model, s)?;
+    if !force {
+        let share = Engine::batches_of(&RunOptions {
+            histories: s.histories,
+            seed: s.seed,
+            threads,
+            floor_fraction: s.floor_fraction,
+            shard: s.shard,
+            target_rel_error: None,
+        })
+        .histories();
+        engine
+            .check_work_budget(share, s.floor_fraction)
+            .map_err(|e| InputError(e.to_string()))?;
+    }
     let opts = RunOptions {
         histories: s.histories,
         seed: s.seed,
@@ -455,7 +470,15 @@ pub fn run(a: Args) -> anyhow::Result<()> {
         (model, settings, out_dir, None)
     };
     let stop = super::interrupt::flag();
-    let summary = execute(&model, &settings, a.threads, &out_dir, start, Some(stop))?;
+    let summary = execute(
+        &model,
+        &settings,
+        a.threads,
+        &out_dir,
+        start,
+        Some(stop),
+        a.force || a.resume.is_some(),
+    )?;
     match a.format {
         Format::Json => print(&(serde_json::to_string_pretty(&summary)? + "\n"))?,
         Format::Text | Format::Csv => print(&format!(

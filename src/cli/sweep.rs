@@ -32,9 +32,13 @@ pub struct Args {
     /// Output folder (default: out/<scenario name>-sweep).
     #[arg(long)]
     pub out: Option<PathBuf>,
-    /// Replace sweep results already in the output folder.
+    /// Replace sweep results already in the output folder; also run points whose expected work
+    /// is beyond the budget.
     #[arg(long)]
     pub force: bool,
+    /// Damage sampler for every point (see `simulate --help`).
+    #[arg(long, value_enum, default_value_t = super::simulate::SamplerArg::OnDemand)]
+    pub sampler: super::simulate::SamplerArg,
     /// Rare-event estimator boost factor for every design (see `simulate --help`).
     #[arg(long, value_name = "FACTOR")]
     pub rare_event: Option<f64>,
@@ -113,6 +117,8 @@ pub fn run(a: Args) -> anyhow::Result<()> {
         rare_event_factor: a.rare_event.unwrap_or(1.0),
         stockout_target: a.stockout_target,
         flux_table_json,
+        sampler: a.sampler.into(),
+        force_work: a.force,
     };
     let progress = |p: &tether_risk::sweep::PointResult, n: usize| {
         let what = match (&p.loss_probability, &p.reason) {
@@ -122,7 +128,27 @@ pub fn run(a: Args) -> anyhow::Result<()> {
         };
         eprintln!("point {}/{n} {}: {what}", p.index + 1, p.label);
     };
-    let result = run_sweep_with_progress(&base, &spec, &settings, &progress).map_err(sweep_err)?;
+    let stop = super::interrupt::flag();
+    let bar = indicatif::ProgressBar::new(spec.point_count() as u64);
+    bar.set_style(
+        indicatif::ProgressStyle::with_template("{spinner} point {pos}/{len} {wide_bar} {eta}")
+            .unwrap_or_else(|_| indicatif::ProgressStyle::default_bar()),
+    );
+    bar.enable_steady_tick(std::time::Duration::from_millis(250));
+    let progress = |p: &tether_risk::sweep::PointResult, n: usize| {
+        bar.inc(1);
+        bar.suspend(|| progress(p, n));
+    };
+    let result = run_sweep_with_progress(&base, &spec, &settings, &progress);
+    bar.finish_and_clear();
+    if stop.load(std::sync::atomic::Ordering::SeqCst) {
+        return Err(super::interrupt::Stopped(
+            "the sweep stopped within a second of the signal; finished points were not written"
+                .into(),
+        )
+        .into());
+    }
+    let result = result.map_err(sweep_err)?;
     std::fs::create_dir_all(&out_dir)
         .map_err(|e| anyhow::anyhow!("cannot create output folder {}: {e}", out_dir.display()))?;
     write_sweep(&out_dir, &result)?;

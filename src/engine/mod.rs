@@ -92,6 +92,38 @@ impl Sampler {
     }
 }
 
+/// Process-wide stop request (set by the command line's signal handler). Every run checks it
+/// together with its own stop flag, so a run started by any command (simulate, sweep, merge's
+/// callers) stops within a fraction of a second.
+static STOP_REQUESTED: AtomicBool = AtomicBool::new(false);
+
+/// Ask every running and future run of this process to stop soon (at most 1024 events later).
+pub fn request_stop() {
+    STOP_REQUESTED.store(true, Ordering::SeqCst);
+}
+
+/// True once [`request_stop`] was called.
+pub fn stop_requested() -> bool {
+    STOP_REQUESTED.load(Ordering::Relaxed)
+}
+
+/// Largest expected work of one run accepted without `--force`, in sampled events (every-strike:
+/// strikes; on-demand: per-segment draws at state changes). At the measured ~0.3 µs per strike
+/// this is about 1.7 hours of one core for the strike-by-strike engine.
+pub const WORK_BUDGET_EVENTS: f64 = 2e10;
+
+/// What one history is expected to cost.
+#[derive(Clone, Copy, Debug, PartialEq, Serialize)]
+pub struct WorkEstimate {
+    /// Expected strikes above the floor per history (what every-strike draws).
+    pub strikes_per_history: f64,
+    /// Expected bay state changes per history (cuts; with repair, splices too) on the intact
+    /// tether's rates (a lower bound when cuts cluster).
+    pub state_changes_per_history: f64,
+    /// Expected sampled events per history for this engine's sampler.
+    pub events_per_history: f64,
+}
+
 /// Engine failures.
 #[derive(Debug, Error)]
 pub enum EngineError {
@@ -101,6 +133,9 @@ pub enum EngineError {
     /// Bad run options.
     #[error("{0}")]
     Options(String),
+    /// The run was stopped by a stop request before it finished (no result).
+    #[error("interrupted before the run finished")]
+    Interrupted,
     /// Too many histories reached an impossible state; the run was stopped.
     #[error("{count} of {histories} histories reached an impossible state (limit {limit}); first: {examples}. Replay one with `simulate --replay-history N`")]
     Anomalies {
@@ -358,6 +393,57 @@ impl<'m> Engine<'m> {
         self.on_demand.as_ref().map(|o| o.subcritical_rate_per_s())
     }
 
+    /// Expected work per history (from the rates; no history is run).
+    pub fn work_estimate(&self) -> WorkEstimate {
+        let strikes = self.sampler.total_rate_per_s() * self.mission_s;
+        let cut_rate = match &self.on_demand {
+            Some(o) => o.intact_cut_rate_per_s(),
+            None => self.model.total_damaging_strike_rate_per_year() / SECONDS_PER_YEAR,
+        };
+        let changes = cut_rate * self.mission_s * if self.repair.is_some() { 2.0 } else { 1.0 };
+        let events = match self.sampler_kind {
+            Sampler::EveryStrike => strikes,
+            Sampler::OnDemand => 1.0 + changes * self.ribbons as f64,
+        };
+        WorkEstimate {
+            strikes_per_history: strikes,
+            state_changes_per_history: changes,
+            events_per_history: events,
+        }
+    }
+
+    /// Refuse a run of `histories` whose expected work is beyond [`WORK_BUDGET_EVENTS`], with
+    /// the drivers named (floor, ribbons, years, flux factor).
+    pub fn check_work_budget(
+        &self,
+        histories: u64,
+        floor_fraction: f64,
+    ) -> Result<(), EngineError> {
+        let w = self.work_estimate();
+        let total = w.events_per_history * histories as f64;
+        if total <= WORK_BUDGET_EVENTS {
+            return Ok(());
+        }
+        let sc = &self.model.scenario;
+        let unit = match self.sampler_kind {
+            Sampler::EveryStrike => "strikes",
+            Sampler::OnDemand => "segment draws",
+        };
+        Err(EngineError::Options(format!(
+            "the expected work is {total:.2e} {unit} ({:.3e} per history x {histories} histories, {} sampler), beyond the budget of {WORK_BUDGET_EVENTS:.0e} (about 1.7 h of one core for every-strike). Drivers: floor fraction {floor_fraction} (strikes grow roughly as floor^-3 when it is lowered), {} ribbons, {} mission years, flux factor {}{}. Pass --force to run it anyway",
+            w.events_per_history,
+            self.sampler_kind.name(),
+            self.ribbons,
+            sc.run.mission_years,
+            sc.environment.flux_scale_factor,
+            if self.sampler_kind == Sampler::EveryStrike {
+                "; the on-demand sampler (--sampler on-demand) costs per cut, not per strike"
+            } else {
+                ""
+            }
+        )))
+    }
+
     /// The strike sampler.
     pub fn sampler(&self) -> &StrikeSampler {
         &self.sampler
@@ -443,7 +529,11 @@ impl<'m> Engine<'m> {
         opts: &RunOptions,
         progress: &(dyn Fn(u64) + Sync),
     ) -> Result<Tally, EngineError> {
-        Ok(self.run_resumable(opts, None, progress, None)?.tally)
+        let out = self.run_resumable(opts, None, progress, None)?;
+        if out.status == RunStatus::Interrupted {
+            return Err(EngineError::Interrupted);
+        }
+        Ok(out.tally)
     }
 
     /// The batches this run (or shard) owns, in the order they are run. Arithmetic, not a
@@ -486,6 +576,8 @@ impl<'m> Engine<'m> {
             .build()
             .map_err(|e| EngineError::Options(format!("cannot start worker threads: {e}")))?;
         let mine = Self::batches_of(opts);
+        let stop: Option<&AtomicBool> = Some(stop.unwrap_or(&STOP_REQUESTED));
+        let global_stop = || STOP_REQUESTED.load(Ordering::Relaxed);
         let (mut total, mut done_batches, mut beyond) = match start {
             Some(c) => (c.tally, c.batches_done, c.completed_beyond),
             None => (self.empty_tally(), 0, Vec::new()),
@@ -524,7 +616,7 @@ impl<'m> Engine<'m> {
                             break;
                         }
                     }
-                    if stop.is_some_and(|s| s.load(Ordering::SeqCst)) {
+                    if global_stop() || stop.is_some_and(|s| s.load(Ordering::SeqCst)) {
                         status = RunStatus::Interrupted;
                         break;
                     }

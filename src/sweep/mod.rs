@@ -229,6 +229,10 @@ pub struct SweepSettings {
     pub stockout_target: f64,
     /// Text of the flux table file when the base scenario names one.
     pub flux_table_json: Option<String>,
+    /// Damage sampler of every point.
+    pub sampler: crate::engine::Sampler,
+    /// Run points whose expected work is beyond the engine's budget.
+    pub force_work: bool,
 }
 
 impl Default for SweepSettings {
@@ -240,6 +244,8 @@ impl Default for SweepSettings {
             rare_event_factor: 1.0,
             stockout_target: 0.05,
             flux_table_json: None,
+            sampler: crate::engine::Sampler::OnDemand,
+            force_work: false,
         }
     }
 }
@@ -706,9 +712,14 @@ fn evaluate_point(
         Err(ScenarioError::Infeasible { reason }) => return Ok(infeasible(&mut p, reason)),
         Err(e) => return Err(point_err(e)),
     };
-    let engine = match Engine::new(&model, 1.0)
+    let engine = match Engine::with_sampler(&model, 1.0, settings.sampler)
         .and_then(|e| e.with_rare_event(settings.rare_event_factor))
-    {
+        .and_then(|e| {
+            if !settings.force_work {
+                e.check_work_budget(histories, 1.0)?;
+            }
+            Ok(e)
+        }) {
         Ok(e) => e,
         Err(EngineError::Model(m)) => {
             return Ok(infeasible(

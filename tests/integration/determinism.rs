@@ -18,7 +18,7 @@
 use std::path::Path;
 
 use serde_json::Value;
-use tether_risk::engine::{Engine, RunOptions, RunSummary, Tally};
+use tether_risk::engine::{Engine, RunOptions, RunSummary, Sampler, Tally};
 use tether_risk::model::Model;
 
 use crate::util::*;
@@ -50,21 +50,40 @@ fn five_years() -> &'static str {
 
 #[test]
 fn thread_counts_give_identical_summaries() {
-    let common = ["--histories", "5000", "--seed", "11"];
-    let one = summary_bytes(
-        "det-threads-1",
-        &[&common[..], &["--threads", "1"]].concat(),
-    );
-    let two = summary_bytes(
-        "det-threads-2",
-        &[&common[..], &["--threads", "2"]].concat(),
-    );
-    assert!(one == two, "summary.json differs between 1 and 2 threads");
-    let v: Value = serde_json::from_slice(&one).unwrap();
-    assert!(
-        v["tally"]["strikes"].as_u64().unwrap() > 0,
-        "the run samples strikes"
-    );
+    for (sampler, histories) in [("on-demand", "20000"), ("every-strike", "3000")] {
+        let common = [
+            "--histories",
+            histories,
+            "--seed",
+            "11",
+            "--sampler",
+            sampler,
+        ];
+        let one = summary_bytes(
+            &format!("det-threads-1-{sampler}"),
+            &[&common[..], &["--threads", "1"]].concat(),
+        );
+        let two = summary_bytes(
+            &format!("det-threads-2-{sampler}"),
+            &[&common[..], &["--threads", "2"]].concat(),
+        );
+        assert!(
+            one == two,
+            "{sampler}: summary.json differs between 1 and 2 threads"
+        );
+        let v: Value = serde_json::from_slice(&one).unwrap();
+        assert_eq!(v["sampler"], sampler);
+        assert!(
+            v["tally"]["cuts"].as_u64().unwrap() > 0,
+            "{sampler}: the run cuts"
+        );
+        if sampler == "every-strike" {
+            assert!(
+                v["tally"]["strikes"].as_u64().unwrap() > 0,
+                "the run samples strikes"
+            );
+        }
+    }
 }
 
 /// Through the library: three shards merged, summarised, equal the whole run exactly.
@@ -74,7 +93,13 @@ fn three_shards_merged_equal_the_whole_run() {
     sc.run.mission_years = 5.0;
     sc.run.mission_s = 5.0 * tether_risk::scenario::SECONDS_PER_YEAR;
     let model = Model::build(sc).unwrap();
-    let engine = Engine::new(&model, 1.0).unwrap();
+    for sampler in [Sampler::OnDemand, Sampler::EveryStrike] {
+        three_shards_for(&model, sampler);
+    }
+}
+
+fn three_shards_for(model: &Model, sampler: Sampler) {
+    let engine = Engine::with_sampler(model, 1.0, sampler).unwrap();
     let opts = |shard| RunOptions {
         histories: 7_500,
         seed: 5,
@@ -160,6 +185,10 @@ fn temp_dir_path(name: &str) -> std::path::PathBuf {
 // ---------------------------------------------------------------------------------------------
 
 const GOLDEN: &str = concat!(env!("CARGO_MANIFEST_DIR"), "/tests/golden/demo_summary.txt");
+const GOLDEN_EVERY_STRIKE: &str = concat!(
+    env!("CARGO_MANIFEST_DIR"),
+    "/tests/golden/demo_summary_every_strike.txt"
+);
 
 /// Seven significant digits: far above the last-bit noise a platform's `ln`/`exp` could add,
 /// far below any change worth noticing.
@@ -262,35 +291,39 @@ fn line_diff(want: &str, got: &str) -> String {
 /// UPDATE_GOLDEN=1 rewrites the file instead (see the module docs).
 #[test]
 fn golden_demo_summary() {
-    let bytes = summary_bytes(
-        "det-golden",
-        &[
-            "--histories",
-            "3000",
-            "--seed",
-            "20261202",
-            "--threads",
-            "2",
-        ],
-    );
-    let s: Value = serde_json::from_slice(&bytes).unwrap();
-    let got = format!(
-        "# Key numbers of `tether-risk simulate demo --histories 3000 --seed 20261202`.\n\
-         # Regression record, not a reference: regenerate with UPDATE_GOLDEN=1 (see\n\
-         # tests/integration/determinism.rs) and say why the numbers moved.\n{}",
-        reduce(&s)
-    );
-    if std::env::var("UPDATE_GOLDEN").is_ok_and(|v| v == "1") {
-        std::fs::create_dir_all(Path::new(GOLDEN).parent().unwrap()).unwrap();
-        std::fs::write(GOLDEN, &got).unwrap();
-        eprintln!("rewrote {GOLDEN}");
-        return;
+    for (sampler, golden) in [("on-demand", GOLDEN), ("every-strike", GOLDEN_EVERY_STRIKE)] {
+        let bytes = summary_bytes(
+            &format!("det-golden-{sampler}"),
+            &[
+                "--histories",
+                "3000",
+                "--seed",
+                "20261202",
+                "--threads",
+                "2",
+                "--sampler",
+                sampler,
+            ],
+        );
+        let s: Value = serde_json::from_slice(&bytes).unwrap();
+        let got = format!(
+            "# Key numbers of `tether-risk simulate demo --histories 3000 --seed 20261202 --sampler {sampler}`.\n\
+             # Regression record, not a reference: regenerate with UPDATE_GOLDEN=1 (see\n\
+             # tests/integration/determinism.rs) and say why the numbers moved.\n{}",
+            reduce(&s)
+        );
+        if std::env::var("UPDATE_GOLDEN").is_ok_and(|v| v == "1") {
+            std::fs::create_dir_all(Path::new(golden).parent().unwrap()).unwrap();
+            std::fs::write(golden, &got).unwrap();
+            eprintln!("rewrote {golden}");
+            continue;
+        }
+        let want = std::fs::read_to_string(golden)
+            .unwrap_or_else(|e| panic!("{golden}: {e}; create it with UPDATE_GOLDEN=1"));
+        assert!(
+            want == got,
+            "the demo summary ({sampler}) differs from {golden} (- golden, + now):\n{}",
+            line_diff(&want, &got)
+        );
     }
-    let want = std::fs::read_to_string(GOLDEN)
-        .unwrap_or_else(|e| panic!("{GOLDEN}: {e}; create it with UPDATE_GOLDEN=1"));
-    assert!(
-        want == got,
-        "the demo summary differs from {GOLDEN} (- golden, + now):\n{}",
-        line_diff(&want, &got)
-    );
 }

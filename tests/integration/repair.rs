@@ -2,7 +2,7 @@
 //! repairable k-out-of-n system, Little's law, and common random numbers.
 
 use serde_json::{json, Value};
-use tether_risk::engine::{Engine, LogEvent, RunOptions, RunSummary, Tally};
+use tether_risk::engine::{Engine, LogEvent, RunOptions, RunSummary, Sampler, Tally};
 use tether_risk::model::Model;
 
 use crate::util::{model_of, one_bay_validation, DEMO};
@@ -120,7 +120,26 @@ fn repair_settings_leave_strikes_identical() {
     vb["repair"]["climber"]["speed_up_m_per_s"] = json!(5.0);
     vb["repair"]["detection"] = json!({"kind": "exponential", "mean_hours": 48.0});
     let b = model_of(&vb);
-    let (ea, eb) = (Engine::new(&a, 1.0).unwrap(), Engine::new(&b, 1.0).unwrap());
+    let (ea, eb) = (
+        Engine::with_sampler(&a, 1.0, Sampler::EveryStrike).unwrap(),
+        Engine::with_sampler(&b, 1.0, Sampler::EveryStrike).unwrap(),
+    );
+    // On-demand: the first cuts of untouched bays come from the strike stream, whatever the
+    // state, so the first cut of every history is the same under both repair settings.
+    let (oa, ob) = (Engine::new(&a, 1.0).unwrap(), Engine::new(&b, 1.0).unwrap());
+    let mut first_cuts = 0;
+    for h in 0..200 {
+        let first = |e: &Engine<'_>| {
+            e.replay(h, 99)
+                .1
+                .into_iter()
+                .find(|x| matches!(x, LogEvent::CutHole { .. }))
+        };
+        let (x, y) = (first(&oa), first(&ob));
+        assert_eq!(x, y, "on-demand history {h}");
+        first_cuts += usize::from(x.is_some());
+    }
+    assert!(first_cuts > 0, "the check needs cuts");
     let mut differing_repairs = 0;
     for h in 0..20 {
         let (_, la) = ea.replay(h, 99);
