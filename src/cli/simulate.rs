@@ -237,7 +237,8 @@ pub fn execute(
     force: bool,
 ) -> anyhow::Result<RunSummary> {
     let engine = engine_for(model, s)?;
-    if !force {
+    // A run with a target error stops when it is met; its history count is only a ceiling.
+    if !force && s.target_rel_error.is_none() {
         let share = Engine::batches_of(&RunOptions {
             histories: s.histories,
             seed: s.seed,
