@@ -107,6 +107,10 @@ pub struct RunSummary {
     pub strikes_per_history: f64,
     /// Mean holes per history that cut nothing.
     pub subcritical_holes_per_history: f64,
+    /// Share of the holes that cut their segment whose size was extrapolated outside the hole
+    /// law's calibration range (0 when nothing was cut).
+    #[serde(default)]
+    pub extrapolated_share_of_cutting_holes: f64,
     /// Histories by the largest number of cuts seen at once in one bay (index = cuts).
     pub max_cuts_in_one_bay: Vec<u64>,
     /// Fraction of mission time with at least one cut bay (mean over histories).
@@ -268,6 +272,11 @@ impl RunSummary {
             },
             strikes_per_history: tally.strikes as f64 / h,
             subcritical_holes_per_history: tally.subcritical_holes as f64 / h,
+            extrapolated_share_of_cutting_holes: if tally.cutting_holes > 0 {
+                tally.cutting_holes_extrapolated as f64 / tally.cutting_holes as f64
+            } else {
+                0.0
+            },
             max_cuts_in_one_bay: tally.max_cuts_in_bay.clone(),
             fraction_of_time_with_cut_bay: if engine.mission_s() > 0.0 {
                 tally.time_with_cut_bay_s as f64 / h / engine.mission_s()

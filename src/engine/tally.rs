@@ -57,6 +57,13 @@ pub struct Tally {
     pub strikes: u64,
     /// Strikes that made a hole but cut nothing (sub-critical damage).
     pub subcritical_holes: u64,
+    /// Strikes whose own hole cut the struck segment.
+    #[serde(default)]
+    pub cutting_holes: u64,
+    /// Of those, holes outside the hole law's calibration range
+    /// (`PerforationLaw::is_extrapolated`).
+    #[serde(default)]
+    pub cutting_holes_extrapolated: u64,
     /// Histogram of the largest number of cuts seen at once in one bay (index = cuts).
     pub max_cuts_in_bay: Vec<u64>,
     /// Sum over histories of mission time with at least one cut bay, s (rounded to whole s).
@@ -133,6 +140,8 @@ impl Tally {
         self.cascade_cuts += o.cascade_cuts;
         self.strikes += o.strikes;
         self.subcritical_holes += o.subcritical_holes;
+        self.cutting_holes += o.cutting_holes;
+        self.cutting_holes_extrapolated += o.cutting_holes_extrapolated;
         add(&mut self.max_cuts_in_bay, &o.max_cuts_in_bay);
         self.time_with_cut_bay_s += o.time_with_cut_bay_s;
         self.time_observed_s += o.time_observed_s;

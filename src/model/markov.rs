@@ -57,8 +57,8 @@ use crate::analytic::AnalyticError;
 use crate::damage::{Impact, RibbonTarget, ThinFilmHoleLaw};
 use crate::environment::{mass_from_diameter_kg, FluxModel};
 use crate::scenario::{
-    DamageSpec, DetectionSpec, LoadSharingSpec, RepairSettings, RunSettings, ValidationSettings,
-    SECONDS_PER_YEAR,
+    DamageSpec, DetectionSpec, HoleSizeSpec, LoadSharingSpec, RepairSettings, RunSettings,
+    ValidationSettings, SECONDS_PER_YEAR,
 };
 
 use super::Model;
@@ -182,7 +182,7 @@ impl<'a> TailIntegral<'a> {
                 let dc = fraction * w;
                 self.flux_per_m2_per_year(dc) * (w + dc) + self.tail_per_m_per_year(dc)
             }
-            DamageSpec::ThinFilmHole { hole_factor: f } => {
+            DamageSpec::ThinFilmHole { hole_factor: f, .. } => {
                 let d_min = h / f;
                 let (g_sat, g_min) = (
                     if f > 1.0 {
@@ -204,7 +204,7 @@ impl<'a> TailIntegral<'a> {
 fn diameters_needed(damage: &DamageSpec, w: f64, h: f64) -> [f64; 2] {
     match *damage {
         DamageSpec::FractionOfWidth { fraction } => [fraction * w, fraction * w],
-        DamageSpec::ThinFilmHole { hole_factor: f } => {
+        DamageSpec::ThinFilmHole { hole_factor: f, .. } => {
             let d_min = h / f;
             let d_sat = if f > 1.0 { 2.0 * h / (f - 1.0) } else { d_min };
             [d_min, d_sat.max(d_min)]
@@ -344,6 +344,28 @@ impl MarkovModel {
 
     fn build_physical(model: &Model) -> Result<Self, EstimateError> {
         let sc = &model.scenario;
+        if let DamageSpec::ThinFilmHole {
+            hole_size,
+            oblique_footprint,
+            ..
+        } = &sc.damage
+        {
+            if *hole_size != HoleSizeSpec::Constant || *oblique_footprint == Some(true) {
+                return Err(EstimateError::Unsupported(
+                    "the fast estimate's closed-form cut rates need the constant round hole \
+                     (damage.hole_size = \"constant\", no oblique footprint); fitted hole laws \
+                     need the per-bay hole-rate table"
+                        .into(),
+                ));
+            }
+        }
+        if sc.environment.lunar_ejecta.enabled {
+            return Err(EstimateError::Unsupported(
+                "the fast estimate does not include the lunar-ejecta source \
+                 (environment.lunar_ejecta.enabled = true)"
+                    .into(),
+            ));
+        }
         let profile = &model.profile;
         let n = profile.design.ribbon_count;
         let sharing = sc.tether.load_sharing;
@@ -418,7 +440,7 @@ impl MarkovModel {
         }
 
         let bound = match *damage {
-            DamageSpec::ThinFilmHole { hole_factor } => {
+            DamageSpec::ThinFilmHole { hole_factor, .. } => {
                 Some(unperforated_fraction_bound(model, &holes, hole_factor))
             }
             DamageSpec::FractionOfWidth { .. } => None,
@@ -484,6 +506,7 @@ fn unperforated_fraction_bound(model: &Model, holes: &[Vec<f64>], hole_factor: f
                 speed_m_per_s: v,
                 cos_incidence: cos_theta.clamp(0.0, 1.0),
                 density_kg_per_m3: rho_p,
+                track_angle_rad: 0.0,
             };
             law.ballistic_limit_diameter_m(&impact, &target)
         };
@@ -522,7 +545,7 @@ fn physical_assumptions(model: &Model, bound: Option<f64>) -> Vec<String> {
         None => a.push("no repair".into()),
     }
     match (&sc.damage, bound) {
-        (DamageSpec::ThinFilmHole { hole_factor }, Some(b)) => a.push(format!(
+        (DamageSpec::ThinFilmHole { hole_factor, .. }, Some(b)) => a.push(format!(
             "speed-independent hole: every strike perforates and opens a hole {hole_factor} x the particle diameter; the perforation threshold is ignored (it would stop at most {b:.1e} of the strikes able to cut, slowest speed and smallest cutting particle)"
         )),
         (DamageSpec::FractionOfWidth { fraction }, _) => a.push(format!(
@@ -644,11 +667,7 @@ mod tests {
             (0.1, 0.002, 2.5),
             (0.012, 0.0119, 1.7),
         ] {
-            let got = table.severing_rate_per_m_per_year(
-                &DamageSpec::ThinFilmHole { hole_factor: f },
-                w,
-                h,
-            );
+            let got = table.severing_rate_per_m_per_year(&DamageSpec::constant_hole(f), w, h);
             let want = power_law_closed_form(c, s, w, h, f);
             assert!(
                 (got / want - 1.0).abs() < 1e-8,
@@ -656,11 +675,7 @@ mod tests {
             );
         }
         // A hole wider than the ribbon cannot be removed.
-        let none = table.severing_rate_per_m_per_year(
-            &DamageSpec::ThinFilmHole { hole_factor: 1.3 },
-            0.01,
-            0.02,
-        );
+        let none = table.severing_rate_per_m_per_year(&DamageSpec::constant_hole(1.3), 0.01, 0.02);
         assert_eq!(none, 0.0);
     }
 
@@ -690,8 +705,7 @@ mod tests {
         let rho = 2500.0;
         let (w, h, f) = (0.03, 0.008, 1.3);
         let table = TailIntegral::new(&flux, rho, 1e-3, 0.1);
-        let got =
-            table.severing_rate_per_m_per_year(&DamageSpec::ThinFilmHole { hole_factor: f }, w, h);
+        let got = table.severing_rate_per_m_per_year(&DamageSpec::constant_hole(f), w, h);
         let big_f =
             |d: f64| flux.cumulative_flux_per_m2_per_year(mass_from_diameter_kg(d, rho).unwrap());
         let n = |d: f64| {
@@ -744,6 +758,7 @@ mod tests {
             payload_kg: 400.0,
             turnaround_s: 12.0 * 3600.0,
             splice_s: 8.0 * 3600.0,
+            climber_mass_kg: 300.0,
             detection,
             resupply: crate::scenario::ResupplySpec::None,
             dispatch: crate::scenario::DispatchSpec::FirstCome,
