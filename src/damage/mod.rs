@@ -56,10 +56,10 @@ pub struct Impact {
     pub cos_incidence: f64,
     /// Particle bulk density, kg/m³.
     pub density_kg_per_m3: f64,
-    /// Angle in [0, π/2] between the in-plane projection of the velocity and the ribbon's long
-    /// axis (0: the track runs along the ribbon; π/2: across it). Uniform on [0, π/2] for
-    /// isotropic arrival; the strike sampler draws it last among a strike's details,
-    /// `FRAC_PI_2 * u`.
+    /// Angle between the in-plane projection of the particle velocity and the ribbon's long
+    /// axis, rad, in [0, π/2] (0: the track runs along the ribbon; π/2: across it). Uniform on
+    /// [0, π/2] for isotropic arrival; the strike sampler draws it as the last detail of a
+    /// strike (`FRAC_PI_2 * u`). Laws with a round hole ignore it.
     pub track_angle_rad: f64,
 }
 
@@ -103,19 +103,14 @@ impl Impact {
         })
     }
 
-    /// The same impact with the given track angle.
-    ///
-    /// # Errors
-    /// [`DamageError::OutOfRange`] unless the angle is in [0, π/2].
-    pub fn with_track_angle(mut self, track_angle_rad: f64) -> Result<Self, DamageError> {
-        check_range(
-            "track_angle_rad",
-            track_angle_rad,
-            (0.0..=std::f64::consts::FRAC_PI_2).contains(&track_angle_rad),
-            "[0, pi/2]",
-        )?;
-        self.track_angle_rad = track_angle_rad;
-        Ok(self)
+    /// The same impact with its track angle set (rad, clamped into [0, π/2]; NaN gives 0).
+    pub fn with_track_angle(mut self, track_angle_rad: f64) -> Self {
+        self.track_angle_rad = if track_angle_rad.is_nan() {
+            0.0
+        } else {
+            track_angle_rad.clamp(0.0, std::f64::consts::FRAC_PI_2)
+        };
+        self
     }
 }
 
@@ -262,7 +257,7 @@ mod tests {
                 min_cos_incidence: 0.2,
             })
             .unwrap();
-            let impact = impact.with_track_angle(angle).unwrap();
+            let impact = impact.with_track_angle(angle);
             let laws: [&dyn PerforationLaw; 4] = [
                 &ThinFilmHoleLaw::new(factor).unwrap(),
                 &FractionOfWidth::new(fraction).unwrap(),

@@ -36,9 +36,8 @@ use rand::Rng;
 use crate::damage::RibbonTarget;
 use crate::environment::{mass_from_diameter_kg, FluxModel};
 use crate::model::Model;
-use crate::scenario::{LoadSharingSpec, SECONDS_PER_YEAR};
+use crate::scenario::SECONDS_PER_YEAR;
 use crate::stats::AliasTable;
-use crate::structure::load_sharing::CAPACITY_TOLERANCE;
 
 use super::EngineError;
 
@@ -168,31 +167,7 @@ const GRID: usize = 16_384;
 const DECADES_ABOVE_FLOOR: f64 = 5.0;
 const BANDS: usize = 32;
 
-/// The smallest hole that severs a surviving ribbon of a bay in any stable load state: the
-/// largest per-ribbon load `share x T` below one ribbon's intact capacity.
-fn smallest_severing_hole_m(model: &Model, j: usize) -> f64 {
-    let p = &model.profile;
-    let n = p.design.ribbon_count;
-    let t = p.bays[j].max_tension_n;
-    let w = p.bays[j].width_m;
-    let per_width = p.design.thickness_m * p.design.allowable_stress_pa;
-    let capacity = w * per_width;
-    let mut loads: Vec<f64> = Vec::new();
-    match model.scenario.tether.load_sharing {
-        LoadSharingSpec::None => loads.push(t / n as f64),
-        LoadSharingSpec::Equal => loads.extend((0..n).map(|k| t / (n - k) as f64)),
-        // Harlow–Phoenix local sharing: a survivor next to runs of r1 and r2 cut ribbons carries
-        // (1 + (r1 + r2)/2) nominal shares; in a row an edge run is carried by one flank.
-        LoadSharingSpec::Local => {
-            loads.extend((0..=2 * (n - 1)).map(|h| t / n as f64 * (1.0 + h as f64 / 2.0)))
-        }
-    }
-    loads
-        .into_iter()
-        .filter(|&l| l < capacity * (1.0 - CAPACITY_TOLERANCE))
-        .map(|l| p.critical_removed_width_for_load_m(j, l))
-        .fold(w, f64::min)
-}
+use crate::model::hole_rate::smallest_severing_hole_m;
 
 impl StrikeSampler {
     /// Build for a model. `floor_fraction` in (0, 1] scales each bay's smallest severing hole

@@ -8,6 +8,7 @@
 
 pub mod climber;
 pub mod ejecta;
+pub mod hole_rate;
 pub mod markov;
 mod rates;
 
