@@ -344,28 +344,25 @@ impl MarkovModel {
 
     fn build_physical(model: &Model) -> Result<Self, EstimateError> {
         let sc = &model.scenario;
-        if let DamageSpec::ThinFilmHole {
-            hole_size,
-            oblique_footprint,
-            ..
-        } = &sc.damage
-        {
-            if *hole_size != HoleSizeSpec::Constant || *oblique_footprint == Some(true) {
-                return Err(EstimateError::Unsupported(
-                    "the fast estimate's closed-form cut rates need the constant round hole \
-                     (damage.hole_size = \"constant\", no oblique footprint); fitted hole laws \
-                     need the per-bay hole-rate table"
-                        .into(),
-                ));
-            }
-        }
-        if sc.environment.lunar_ejecta.enabled {
-            return Err(EstimateError::Unsupported(
-                "the fast estimate does not include the lunar-ejecta source \
-                 (environment.lunar_ejecta.enabled = true)"
-                    .into(),
-            ));
-        }
+        // Fitted hole laws, the oblique footprint and the lunar-ejecta source have no closed
+        // form: their cut rates come from the per-bay hole-rate table H_j(x) (rate per segment
+        // of holes removing at least x), cut rate in state k = (N − k) H_j(h_k).
+        let needs_table = match &sc.damage {
+            DamageSpec::ThinFilmHole {
+                hole_size,
+                oblique_footprint,
+                ..
+            } => *hole_size != HoleSizeSpec::Constant || *oblique_footprint == Some(true),
+            DamageSpec::FractionOfWidth { .. } => false,
+        } || sc.environment.lunar_ejecta.enabled;
+        let hole_rates = if needs_table {
+            Some(
+                super::hole_rate::HoleRateTable::build(model, 1.0)
+                    .map_err(EstimateError::Unsupported)?,
+            )
+        } else {
+            None
+        };
         let profile = &model.profile;
         let n = profile.design.ribbon_count;
         let sharing = sc.tether.load_sharing;
@@ -426,6 +423,11 @@ impl MarkovModel {
             let mut cut = Vec::with_capacity(hs.len());
             let mut repair = Vec::with_capacity(hs.len());
             for (k, &h) in hs.iter().enumerate() {
+                if let Some(t) = &hole_rates {
+                    cut.push((n - k) as f64 * t.bay(j).rate_at_least_per_s(h));
+                    repair.push(if k == 0 { 0.0 } else { repair_rate });
+                    continue;
+                }
                 let per_ribbon = table.as_ref().map_or(0.0, |t| {
                     t.severing_rate_per_m_per_year(damage, bay.width_m, h)
                 });
@@ -440,12 +442,19 @@ impl MarkovModel {
         }
 
         let bound = match *damage {
+            _ if hole_rates.is_some() => None,
             DamageSpec::ThinFilmHole { hole_factor, .. } => {
                 Some(unperforated_fraction_bound(model, &holes, hole_factor))
             }
             DamageSpec::FractionOfWidth { .. } => None,
         };
-        let assumptions = physical_assumptions(model, bound);
+        let mut assumptions = physical_assumptions(model, bound);
+        if let Some(t) = &hole_rates {
+            assumptions.push(format!(
+                "cut rates from the per-bay hole-rate table (quadrature over diameter, speed, incidence and track angle of: {})",
+                t.sources().join(", ")
+            ));
+        }
         Ok(MarkovModel {
             mode: MarkovMode::Physical,
             bays,
