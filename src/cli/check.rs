@@ -1,5 +1,6 @@
 //! `tether-risk check FILE`: validate and print derived design quantities.
 
+use tether_risk::model::warnings::design_warnings;
 use tether_risk::report::design::DesignSummary;
 
 use super::output::{load_model, print};
@@ -21,8 +22,26 @@ pub struct Args {
 pub fn run(a: Args) -> anyhow::Result<()> {
     let model = load_model(&a.file)?;
     let s = DesignSummary::from_model(&model);
+    let warnings = design_warnings(&model);
     match a.format {
-        Format::Json => print(&(serde_json::to_string_pretty(&s)? + "\n")),
-        Format::Text | Format::Csv => print(&s.to_text()),
+        Format::Json => {
+            // The design summary plus `warnings`: a list of {code, message}, one stable code
+            // per kind (see tether_risk::model::warnings).
+            let mut v = serde_json::to_value(&s)?;
+            if let Some(obj) = v.as_object_mut() {
+                obj.insert("warnings".into(), serde_json::to_value(&warnings)?);
+            }
+            print(&(serde_json::to_string_pretty(&v)? + "\n"))
+        }
+        Format::Text | Format::Csv => {
+            let mut text = s.to_text();
+            if !warnings.is_empty() {
+                text.push_str("\nWarnings\n");
+                for w in &warnings {
+                    text.push_str(&format!("- [{}] {}\n", w.code, w.message));
+                }
+            }
+            print(&text)
+        }
     }
 }

@@ -8,6 +8,7 @@ mod determinism;
 mod engine_validation;
 mod estimate;
 mod hole_rate;
+mod physics;
 mod rare_event;
 mod repair;
 mod report;
