@@ -31,6 +31,9 @@ pub enum EstimateError {
         /// What was wrong.
         source: AnalyticError,
     },
+    /// The scenario uses a model the fast estimate cannot represent (the text says which).
+    #[error("{0}")]
+    Unsupported(String),
     /// A requested time is negative or not finite.
     #[error("time {value} s at position {index} is invalid: times must be finite and >= 0")]
     BadTime {

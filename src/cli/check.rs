@@ -5,6 +5,7 @@ use std::sync::atomic::{AtomicBool, Ordering};
 use std::time::{Duration, Instant};
 
 use tether_risk::engine::{Engine, Sampler, WORK_BUDGET_EVENTS};
+use tether_risk::model::warnings::design_warnings;
 use tether_risk::model::Model;
 use tether_risk::report::design::DesignSummary;
 
@@ -140,11 +141,17 @@ pub fn run(a: Args) -> anyhow::Result<()> {
     } else {
         None
     };
+    let warnings = design_warnings(&model);
     match a.format {
         Format::Json => {
+            // The design summary plus `warnings` (a list of {code, message}, one stable code per
+            // kind, see tether_risk::model::warnings) and `work_estimate`.
             let mut v = serde_json::to_value(&s)?;
-            if let (Some(w), Some(obj)) = (&work, v.as_object_mut()) {
-                obj.insert("work_estimate".into(), serde_json::to_value(w)?);
+            if let Some(obj) = v.as_object_mut() {
+                obj.insert("warnings".into(), serde_json::to_value(&warnings)?);
+                if let Some(w) = &work {
+                    obj.insert("work_estimate".into(), serde_json::to_value(w)?);
+                }
             }
             print(&(serde_json::to_string_pretty(&v)? + "\n"))
         }
@@ -152,6 +159,12 @@ pub fn run(a: Args) -> anyhow::Result<()> {
             let mut text = s.to_text();
             if let Some(w) = &work {
                 text.push_str(&work_text(w));
+            }
+            if !warnings.is_empty() {
+                text.push_str("\nWarnings\n");
+                for w in &warnings {
+                    text.push_str(&format!("- [{}] {}\n", w.code, w.message));
+                }
             }
             print(&text)
         }

@@ -2,6 +2,9 @@
 
 use tether_risk::report::design::ProfileSummary;
 
+use tether_risk::environment::horizontal_face_shielding_factor;
+use tether_risk::model::Model;
+
 use super::output::{load_model, print};
 use super::Format;
 
@@ -22,7 +25,9 @@ pub fn run(a: Args) -> anyhow::Result<()> {
     let model = load_model(&a.file)?;
     let p = ProfileSummary::from_model(&model);
     match a.format {
-        Format::Json => print(&(serde_json::to_string_pretty(&p)? + "\n")),
+        Format::Json => {
+            print(&(serde_json::to_string_pretty(&with_physics_fields(&model, &p)?)? + "\n"))
+        }
         Format::Csv => print(&p.table().to_csv()),
         Format::Text => print(&format!(
             "Tether profile: scenario \"{}\" (hash {}), {} bays, {} km\n\n{}",
@@ -33,4 +38,46 @@ pub fn run(a: Args) -> anyhow::Result<()> {
             p.table().to_text()
         )),
     }
+}
+
+/// The profile as JSON with, per bay row: `face_shielding_factor` (the Moon's shielding of a
+/// ribbon face, whose normal is horizontal; 1 with shielding off), `critical_hole_widths_mm`
+/// (one value per number of ribbons already cut, 0..N-1, under the material's notch model),
+/// `ejecta_strike_rate_per_year` (lunar-ejecta strikes able to sever an intact segment, all
+/// ribbons; 0 with the source off) and `climber_weight_n` (a loaded climber at the bay's middle
+/// in the local effective gravity; 0 without repair).
+fn with_physics_fields(model: &Model, p: &ProfileSummary) -> anyhow::Result<serde_json::Value> {
+    let mut v = serde_json::to_value(p)?;
+    let orbit = &model.orbit;
+    if let Some(rows) = v.get_mut("bays").and_then(|b| b.as_array_mut()) {
+        for (j, row) in rows.iter_mut().enumerate() {
+            let (Some(obj), Some(bay), Some(t)) = (
+                row.as_object_mut(),
+                model.profile.bays.get(j),
+                model.bays.get(j),
+            ) else {
+                continue;
+            };
+            let face = if model.scenario.environment.moon_shielding {
+                horizontal_face_shielding_factor(orbit.moon_radius_m, bay.mid_altitude_m())?
+            } else {
+                1.0
+            };
+            obj.insert("face_shielding_factor".into(), face.into());
+            obj.insert(
+                "critical_hole_widths_mm".into(),
+                t.critical_hole_width_m
+                    .iter()
+                    .map(|h| h * 1e3)
+                    .collect::<Vec<f64>>()
+                    .into(),
+            );
+            obj.insert(
+                "ejecta_strike_rate_per_year".into(),
+                t.ejecta_strike_rate_per_year.into(),
+            );
+            obj.insert("climber_weight_n".into(), t.climber_weight_n.into());
+        }
+    }
+    Ok(v)
 }

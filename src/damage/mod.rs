@@ -7,10 +7,14 @@
 //! width still carries the segment's tension is decided by the structure model, not here.
 
 mod fraction;
+pub mod hole_size;
+mod low_speed;
 mod thin_film;
 
 pub use fraction::FractionOfWidth;
-pub use thin_film::ThinFilmHoleLaw;
+pub use hole_size::{HoleFactorLaw, HoleSize};
+pub use low_speed::LowSpeedHoleLaw;
+pub use thin_film::{ThinFilmHoleLaw, DEFAULT_SPEED_BOUND_M_PER_S};
 
 /// Errors from constructing damage-model values.
 #[derive(Debug, Clone, PartialEq, thiserror::Error)]
@@ -60,7 +64,8 @@ pub struct Impact {
 }
 
 impl Impact {
-    /// A validated impact: positive finite diameter, speed and density; incidence in [0, π/2].
+    /// A validated impact: positive finite diameter, speed and density; incidence in [0, π/2];
+    /// track angle 0 (along the ribbon; see [`Impact::with_track_angle`]).
     ///
     /// # Errors
     /// [`DamageError::OutOfRange`] naming the first offending field.
@@ -161,6 +166,11 @@ pub trait PerforationLaw: Send + Sync + std::fmt::Debug {
     /// speed and angle the law accepts (used to choose the sampling mass floor). Must be a true
     /// lower bound.
     fn min_diameter_for_hole_m(&self, hole_width_m: f64, target: &RibbonTarget) -> f64;
+    /// Whether this impact's hole lies outside the calibration range of the law (the hole was
+    /// extrapolated). Laws without a calibration range say `false`.
+    fn is_extrapolated(&self, _impact: &Impact, _target: &RibbonTarget) -> bool {
+        false
+    }
 }
 
 /// Width of ribbon removed by a hole: the overlap of `[c - h/2, c + h/2]` with `[0, w]`, m.
@@ -235,9 +245,24 @@ mod tests {
         ) {
             let impact = Impact::new(d, v, angle, rho_p).unwrap();
             let target = RibbonTarget::new(width, thickness, rho_t).unwrap();
-            let laws: [&dyn PerforationLaw; 2] = [
+            let sawle = ThinFilmHoleLaw::with_hole_size(HoleSize {
+                law: HoleFactorLaw::SawleType,
+                oblique_footprint: true,
+                min_cos_incidence: 0.2,
+            })
+            .unwrap();
+            let hill = ThinFilmHoleLaw::with_hole_size(HoleSize {
+                law: HoleFactorLaw::HILL_DEFAULT,
+                oblique_footprint: true,
+                min_cos_incidence: 0.2,
+            })
+            .unwrap();
+            let impact = impact.with_track_angle(angle);
+            let laws: [&dyn PerforationLaw; 4] = [
                 &ThinFilmHoleLaw::new(factor).unwrap(),
                 &FractionOfWidth::new(fraction).unwrap(),
+                &sawle,
+                &hill,
             ];
             for law in laws {
                 let hole = law.hole_width_m(&impact, &target);

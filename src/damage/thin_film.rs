@@ -1,9 +1,12 @@
-//! Default perforation law for thin ribbons: an ECSS ballistic-limit threshold and a hole as
-//! wide as a fixed multiple of the particle diameter.
+//! Default perforation law for thin ribbons: an ECSS ballistic-limit threshold and a hole whose
+//! size follows a hole-size law ([`HoleSize`]: constant factor, Sawle-type or Hill-type, with
+//! the oblique elliptical footprint).
 
+use super::hole_size::HoleSize;
 use super::{check_range, DamageError, Impact, PerforationLaw, RibbonTarget};
 
-/// Thin-film hole law: perforation above a ballistic limit, hole width `hole_factor × d_p`.
+/// Thin-film hole law: perforation above a ballistic limit, lateral hole width from a
+/// [`HoleSize`] law (see `damage::hole_size` for the relations and their provenance).
 ///
 /// # Perforation threshold
 /// ECSS-E-ST-10-04C Rev.1 (2020), Annex J.3.3.1, eq. (J-4), the single-wall ballistic-limit
@@ -27,20 +30,32 @@ use super::{check_range, DamageError, Impact, PerforationLaw, RibbonTarget};
 /// # Hole width
 /// In the thin-film limit (`t ≪ d_p`) the hole tends to the projectile diameter; foil
 /// experiments and extrapolated hole-size relations put `D_h / d_p` between about 1.0 and 1.7.
-/// **The default factor 1.3 is an engineering assumption, not a fitted value.** Obliquity is
-/// ignored for the lateral width (also an assumption: an oblique strike elongates the hole
-/// along its track, which may lie along or across the ribbon; we take the round-hole width).
+/// [`ThinFilmHoleLaw::new`] keeps the former constant round hole `hole_factor × d_p`
+/// (**1.3 is an engineering assumption, not a fitted value**); [`ThinFilmHoleLaw::with_hole_size`]
+/// takes a fitted law and the oblique footprint.
+///
+/// # Speed bound
+/// Speeds above `speed_bound_m_per_s` are evaluated at the bound, so that
+/// [`PerforationLaw::min_diameter_for_hole_m`] is a true lower bound. The model builder sets
+/// the bound above every speed its environment produces, so the clamp never acts in a run.
 ///
 /// # Validity
 /// Intended for polymer films of some tens of µm struck by particles of µm to cm size at
 /// 10–70 km/s. Outside that, treat results as indicative. Stress concentration and tear
-/// propagation from the hole edge are not modelled (the structure model's knock-downs carry them).
+/// propagation from the hole edge are the structure model's notch model
+/// (`structure::notch`), not part of the hole size.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct ThinFilmHoleLaw {
     hole_factor: f64,
+    hole: HoleSize,
+    speed_bound_m_per_s: f64,
     material_constant_k1: f64,
     perforation_factor_kf: f64,
 }
+
+/// Default speed bound of the hole law, m/s (above the 72 km/s top of ECSS Table C-1 plus
+/// focusing).
+pub const DEFAULT_SPEED_BOUND_M_PER_S: f64 = 100_000.0;
 
 /// Reference aluminium density for the areal-density-equivalent thickness, kg/m³.
 pub const ALUMINIUM_DENSITY_KG_PER_M3: f64 = 2700.0;
@@ -54,6 +69,8 @@ impl Default for ThinFilmHoleLaw {
     fn default() -> Self {
         Self {
             hole_factor: 1.3,
+            hole: HoleSize::constant(1.3),
+            speed_bound_m_per_s: DEFAULT_SPEED_BOUND_M_PER_S,
             material_constant_k1: 0.33,
             perforation_factor_kf: 1.8,
         }
@@ -74,8 +91,46 @@ impl ThinFilmHoleLaw {
         )?;
         Ok(Self {
             hole_factor,
+            hole: HoleSize::constant(hole_factor),
             ..Self::default()
         })
+    }
+
+    /// Default constants with a general hole-size law (validated).
+    ///
+    /// # Errors
+    /// [`DamageError::OutOfRange`] naming the offending hole-size parameter.
+    pub fn with_hole_size(hole: HoleSize) -> Result<Self, DamageError> {
+        let hole = hole.validated()?;
+        let hole_factor = match hole.law {
+            super::HoleFactorLaw::Constant { factor } => factor,
+            _ => f64::NAN,
+        };
+        Ok(Self {
+            hole_factor,
+            hole,
+            ..Self::default()
+        })
+    }
+
+    /// Replace the speed bound (m/s): speeds above it are evaluated at the bound.
+    ///
+    /// # Errors
+    /// [`DamageError::OutOfRange`] unless `0 < bound <= 1e6`.
+    pub fn with_speed_bound(mut self, speed_bound_m_per_s: f64) -> Result<Self, DamageError> {
+        check_range(
+            "speed_bound_m_per_s",
+            speed_bound_m_per_s,
+            speed_bound_m_per_s > 0.0 && speed_bound_m_per_s <= 1e6,
+            "(0, 1e6]",
+        )?;
+        self.speed_bound_m_per_s = speed_bound_m_per_s;
+        Ok(self)
+    }
+
+    /// The hole-size law.
+    pub fn hole_size(&self) -> &HoleSize {
+        &self.hole
     }
 
     /// Replace the ECSS material constant `K1` (0.33 aluminium, 0.2 stainless steel).
@@ -93,7 +148,7 @@ impl ThinFilmHoleLaw {
         Ok(self)
     }
 
-    /// Hole width over particle diameter.
+    /// Hole width over particle diameter for the constant law (NaN for a fitted law).
     pub fn hole_factor(&self) -> f64 {
         self.hole_factor
     }
@@ -141,22 +196,73 @@ impl PerforationLaw for ThinFilmHoleLaw {
             + BETA * (impact.density_kg_per_m3 / 1000.0).ln()
             + GAMMA * (impact.speed_m_per_s / 1000.0 * cos_a).ln();
         // NaN in any input makes the comparison false: no hole.
-        if d > 0.0 && d.is_finite() && lhs > t_al_cm.ln() {
-            self.hole_factor * d
-        } else {
-            0.0
+        if !(d > 0.0 && d.is_finite() && lhs > t_al_cm.ln()) {
+            return 0.0;
         }
+        if let (super::HoleFactorLaw::Constant { .. }, false) =
+            (self.hole.law, self.hole.oblique_footprint)
+        {
+            // The former law, bit for bit.
+            return self.hole_factor * d;
+        }
+        self.hole.lateral_width_m(
+            d,
+            target.thickness_m,
+            impact.speed_m_per_s.min(self.speed_bound_m_per_s),
+            cos_a,
+            impact.track_angle_rad,
+            impact.density_kg_per_m3,
+            target.density_kg_per_m3,
+        )
     }
 
-    /// `hole_width_m / hole_factor`: the hole is never wider than `hole_factor × d_p`, whatever
-    /// the speed (the ballistic limit tends to 0 as speed grows, so it gives no tighter bound
-    /// without a speed cap).
-    fn min_diameter_for_hole_m(&self, hole_width_m: f64, _target: &RibbonTarget) -> f64 {
-        if hole_width_m > 0.0 {
-            hole_width_m / self.hole_factor
-        } else {
-            0.0
+    /// Constant round law: `hole_width_m / hole_factor` (the hole is never wider). Otherwise the
+    /// diameter at which the largest lateral width over every angle and every speed up to the
+    /// speed bound ([`HoleSize::max_lateral_width_m`], non-decreasing in `d`) reaches
+    /// `hole_width_m`, found by bisection in `ln d` and returned from below.
+    fn min_diameter_for_hole_m(&self, hole_width_m: f64, target: &RibbonTarget) -> f64 {
+        if !(hole_width_m > 0.0) {
+            return 0.0;
         }
+        if let (super::HoleFactorLaw::Constant { .. }, false) =
+            (self.hole.law, self.hole.oblique_footprint)
+        {
+            return hole_width_m / self.hole_factor;
+        }
+        // Particle density does not enter the Sawle-type law; the Hill-type law depends on it
+        // as (rho_p)^-0.035, largest for the lightest particles: use a low bound (100 kg/m^3,
+        // below the ECSS lightest meteoroid 150 kg/m^3).
+        let rho_p = 100.0;
+        let max_w = |d: f64| {
+            self.hole.max_lateral_width_m(
+                d,
+                target.thickness_m,
+                self.speed_bound_m_per_s,
+                rho_p,
+                target.density_kg_per_m3,
+            )
+        };
+        let (mut lo, mut hi) = (hole_width_m * 1e-9, hole_width_m);
+        if max_w(lo) >= hole_width_m {
+            return lo;
+        }
+        for _ in 0..80 {
+            let mid = (lo * hi).sqrt();
+            if max_w(mid) >= hole_width_m {
+                hi = mid;
+            } else {
+                lo = mid;
+            }
+        }
+        lo
+    }
+
+    fn is_extrapolated(&self, impact: &Impact, target: &RibbonTarget) -> bool {
+        self.hole.is_extrapolated(
+            impact.diameter_m,
+            target.thickness_m,
+            impact.speed_m_per_s * impact.cos_incidence,
+        )
     }
 }
 
@@ -218,6 +324,12 @@ mod tests {
             ..big
         };
         assert_eq!(law.hole_width_m(&bad, &al), 0.0);
+        let bad = Impact {
+            track_angle_rad: f64::NAN,
+            ..big
+        };
+        // The constant round law ignores the track.
+        assert!(law.hole_width_m(&bad, &al) > 0.0);
     }
 
     #[test]

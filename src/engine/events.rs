@@ -580,6 +580,10 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
         let c = self.scratch.critical_m[base + ribbon];
         let removed = hr.width_with_rate_m(unit(&mut self.damage) * hr.rate_at_least_per_s(c));
         self.scratch.worst_hole_m[base + ribbon] = removed.max(c).min(hr.width_m());
+        // The extrapolation tally as an expectation: P(extrapolated | X >= c).
+        self.tally.cutting_holes += 1;
+        self.tally.cutting_holes_extrapolated_expected_e9 +=
+            (hr.extrapolated_share_at_least(c) * 1e9).round() as u64;
         self.scratch.intact[base + ribbon] = false;
         if let Some(l) = self.log.as_deref_mut() {
             l.push(LogEvent::CutHole {
@@ -590,13 +594,12 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
             });
         }
         // Cascade with the up-to-date worst holes.
-        let w = e.model.profile.bays[j].width_m;
         let mut capacity = [0.0f64; MAX_RIBBONS];
         for (cap, hole) in capacity
             .iter_mut()
             .zip(&self.scratch.worst_hole_m[base..base + n])
         {
-            *cap = (w - hole).max(0.0) * e.per_width_capacity;
+            *cap = e.model.profile.ribbon_capacity_n(j, *hole);
         }
         let tension = e.model.profile.bays[j].max_tension_n;
         let intact = &mut self.scratch.intact[base..base + n];
@@ -680,7 +683,6 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
         let s = &mut *self.scratch;
         let j = s.touched[slot] as usize;
         let hr = od.holes.bay(j);
-        let w = e.model.profile.bays[j].width_m;
         let mut loads = [0.0f64; MAX_RIBBONS];
         e.sharing.distribute(
             &s.intact[base..base + n],
@@ -690,7 +692,7 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
         let mut total = 0.0;
         for i in 0..n {
             if s.intact[base + i] {
-                let c = critical_width_m(w, loads[i], e.per_width_capacity).max(hr.floor_m());
+                let c = critical_width_m(&e.model.profile, j, loads[i]).max(hr.floor_m());
                 let r = hr.rate_at_least_per_s(c);
                 s.critical_m[base + i] = c;
                 s.cut_rate_s[base + i] = r;

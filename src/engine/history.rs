@@ -326,7 +326,10 @@ impl Engine<'_> {
             }
             self.sharing.distribute(intact, tension, &mut loads[..n]);
             for i in 0..n {
-                let cap = (w - scratch.worst_hole_m[base + i]).max(0.0) * self.per_width_capacity;
+                let cap = self
+                    .model
+                    .profile
+                    .ribbon_capacity_n(bay as usize, scratch.worst_hole_m[base + i]);
                 if !loads[i].is_finite() {
                     return Some("non-finite ribbon load");
                 }
@@ -409,12 +412,20 @@ impl Engine<'_> {
         let r = s.ribbon as usize;
         let bay = &self.model.profile.bays[j];
         let w = bay.width_m;
+        let mut extrapolated = false;
         let removed = if scratch.intact[base + r] {
+            let (law, density): (&dyn crate::damage::PerforationLaw, f64) =
+                match (&self.model.ejecta, s.ejecta_altitude_m) {
+                    (Some(e), Some(_)) => {
+                        (&e.perforation, e.environment.particle_density_kg_per_m3)
+                    }
+                    _ => (self.model.perforation.as_ref(), self.particle_density),
+                };
             let impact = Impact {
                 diameter_m: s.diameter_m,
                 speed_m_per_s: s.speed_m_per_s,
                 cos_incidence: s.cos_incidence,
-                density_kg_per_m3: self.particle_density,
+                density_kg_per_m3: density,
                 track_angle_rad: s.track_angle_rad,
             };
             let target = RibbonTarget {
@@ -422,7 +433,8 @@ impl Engine<'_> {
                 thickness_m: self.thickness_m,
                 density_kg_per_m3: self.ribbon_density,
             };
-            let hole = self.model.perforation.hole_width_m(&impact, &target);
+            let hole = law.hole_width_m(&impact, &target);
+            extrapolated = hole > 0.0 && law.is_extrapolated(&impact, &target);
             removed_width_m(s.centre_m, hole, w)
         } else {
             0.0 // a cut segment carries nothing; a second hole changes nothing
@@ -449,7 +461,7 @@ impl Engine<'_> {
         };
         if let Some(k) = survivors {
             let load = bay.max_tension_n / k;
-            if load <= (w - removed).max(0.0) * self.per_width_capacity * (1.0 - CAPACITY_TOLERANCE)
+            if load <= self.model.profile.ribbon_capacity_n(j, removed) * (1.0 - CAPACITY_TOLERANCE)
             {
                 tally.subcritical_holes += 1;
                 return (0, None);
@@ -460,7 +472,7 @@ impl Engine<'_> {
             .iter_mut()
             .zip(&scratch.worst_hole_m[base..base + n])
         {
-            *c = (w - hole).max(0.0) * self.per_width_capacity;
+            *c = self.model.profile.ribbon_capacity_n(j, *hole);
         }
         let intact = &mut scratch.intact[base..base + n];
         // Slices have N <= MAX_RIBBONS entries by construction, so settle_bay cannot fail here.
@@ -477,6 +489,10 @@ impl Engine<'_> {
             return (0, None);
         }
         let struck_cut = !intact[r];
+        if struck_cut {
+            tally.cutting_holes += 1;
+            tally.cutting_holes_extrapolated += u64::from(extrapolated);
+        }
         let (newly, survivors) = (outcome.newly_cut, outcome.survivors);
         let loss = self.record_cuts(
             t,

@@ -262,7 +262,6 @@ pub struct Engine<'m> {
     particle_density: f64,
     thickness_m: f64,
     ribbon_density: f64,
-    per_width_capacity: f64,
     bias_factor: f64,
     strict: bool,
 }
@@ -340,7 +339,6 @@ impl<'m> Engine<'m> {
             particle_density: model.scenario.environment.particle_density_kg_per_m3,
             thickness_m: t.thickness_m,
             ribbon_density: t.material_density_kg_per_m3,
-            per_width_capacity: t.thickness_m * t.allowable_stress_pa,
             bias_factor: 1.0,
             strict: false,
         })

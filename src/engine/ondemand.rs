@@ -80,6 +80,7 @@ use crate::model::hole_rate::HoleRateTable;
 use crate::model::Model;
 use crate::stats::AliasTable;
 use crate::structure::load_sharing::CAPACITY_TOLERANCE;
+use crate::structure::TetherProfile;
 
 use super::EngineError;
 
@@ -106,7 +107,6 @@ impl OnDemandTables {
         let holes = HoleRateTable::build(model, floor_fraction).map_err(EngineError::Model)?;
         let p = &model.profile;
         let n = p.design.ribbon_count;
-        let per_width = p.design.thickness_m * p.design.allowable_stress_pa;
         let mut intact_critical_m = Vec::with_capacity(p.bays.len());
         let mut intact_cut_rate_s = Vec::with_capacity(p.bays.len());
         let mut weights = Vec::with_capacity(p.bays.len());
@@ -114,8 +114,7 @@ impl OnDemandTables {
         for (j, bay) in p.bays.iter().enumerate() {
             let hr = holes.bay(j);
             // Every sharing rule gives T/N per ribbon when all are intact.
-            let c = critical_width_m(bay.width_m, bay.max_tension_n / n as f64, per_width)
-                .max(hr.floor_m());
+            let c = critical_width_m(p, j, bay.max_tension_n / n as f64).max(hr.floor_m());
             let r = hr.rate_at_least_per_s(c);
             intact_critical_m.push(c);
             intact_cut_rate_s.push(r);
@@ -171,9 +170,10 @@ impl OnDemandTables {
     }
 }
 
-/// The critical width of a segment carrying `load_n`: the removed width above which it is cut
-/// (the overload test of `settle_bay`, solved for the hole), m. May be <= 0 (cut without a hole).
+/// The critical width of a segment of bay `j` carrying `load_n`: the removed width above which
+/// it is cut (the overload test of `settle_bay`, `load > capacity(D) (1 - tol)`, solved for the
+/// hole under the design's notch model), m. May be <= 0 (cut without a hole).
 #[inline]
-pub fn critical_width_m(width_m: f64, load_n: f64, per_width_capacity_n_per_m: f64) -> f64 {
-    width_m - load_n / (per_width_capacity_n_per_m * (1.0 - CAPACITY_TOLERANCE))
+pub fn critical_width_m(profile: &TetherProfile, j: usize, load_n: f64) -> f64 {
+    profile.critical_removed_width_for_load_m(j, load_n / (1.0 - CAPACITY_TOLERANCE))
 }

@@ -24,7 +24,12 @@
 //!
 //! **Speed** is drawn from the locally focused ECSS Table C-1 distribution of the bay's
 //! altitude band (32 bands), uniformly within the 0.5 km/s bin. **Incidence** on a flat face
-//! under isotropic flux has density 2 cos(theta) sin(theta), so cos(theta) = sqrt(u).
+//! under isotropic flux has density 2 cos(theta) sin(theta), so cos(theta) = sqrt(u). The
+//! **track angle** (in-plane velocity to the ribbon's long axis) is uniform on [0, π/2].
+//!
+//! **Draw order** per strike (strikes stream): bay (alias), size component, size, ribbon,
+//! centre, speed bin, speed within the bin, incidence, track angle; then the gap to the next
+//! strike.
 
 use rand::Rng;
 
@@ -51,9 +56,23 @@ pub struct Strike {
     pub speed_m_per_s: f64,
     /// Cosine of the angle from the face normal.
     pub cos_incidence: f64,
-    /// Angle of the velocity's in-plane projection from the ribbon's long axis, rad, in
-    /// [0, π/2]; drawn last.
+    /// Angle between the in-plane velocity and the ribbon's long axis, rad, in [0, π/2].
     pub track_angle_rad: f64,
+    /// `Some(altitude above the surface, m)` for a lunar-ejecta strike; `None` for a primary
+    /// meteoroid.
+    pub ejecta_altitude_m: Option<f64>,
+}
+
+/// Per-bay lunar-ejecta sampling constants (see [`crate::model::ejecta`]).
+#[derive(Clone, Debug)]
+struct EjectaBay {
+    /// Probability that a strike on this bay is a primary meteoroid.
+    p_primary: f64,
+    /// Cumulative bin probabilities among ejecta strikes.
+    bin_cdf: Vec<f64>,
+    floor_m: f64,
+    bottom_m: f64,
+    top_m: f64,
 }
 
 /// Per-bay sampling constants.
@@ -137,6 +156,11 @@ pub struct StrikeSampler {
     bands: Vec<VelocityBand>,
     bin_half_width_m_per_s: f64,
     floor_diameter_m: Vec<f64>,
+    /// Lunar-ejecta constants for bays the source reaches (`None` elsewhere or when off).
+    ejecta_bays: Vec<Option<EjectaBay>>,
+    /// Ejecta bins: (low, high speed m/s, diameter exponent q of F(d) ∝ d^q).
+    ejecta_bins: Vec<(f64, f64, f64)>,
+    ejecta_ceiling: Option<crate::environment::LunarEjecta>,
 }
 
 const GRID: usize = 16_384;
@@ -290,6 +314,68 @@ impl StrikeSampler {
                 band: band_of(bay.mid_altitude_m()) as u16,
             });
         }
+        // Lunar ejecta: a second source on the bays it reaches, added to those bays' rates.
+        let mut ejecta_bays: Vec<Option<EjectaBay>> = vec![None; model.profile.bays.len()];
+        let mut ejecta_bins = Vec::new();
+        if let Some(e) = &model.ejecta {
+            ejecta_bins = e
+                .environment
+                .bins
+                .iter()
+                .map(|b| {
+                    (
+                        b.speed_low_m_per_s,
+                        b.speed_high_m_per_s,
+                        3.0 * b.mass_exponent,
+                    )
+                })
+                .collect();
+            for (j, bay) in model.profile.bays.iter().enumerate() {
+                if !e.reaches_bay(j) {
+                    continue;
+                }
+                let target = RibbonTarget {
+                    width_m: bay.width_m,
+                    thickness_m: model.profile.design.thickness_m,
+                    density_kg_per_m3: model.profile.design.density_kg_per_m3,
+                };
+                let h = smallest_severing_hole_m(model, j) * floor_fraction;
+                let floor = crate::damage::PerforationLaw::min_diameter_for_hole_m(
+                    &e.perforation,
+                    h,
+                    &target,
+                );
+                let per_bin: Vec<f64> = (0..ejecta_bins.len())
+                    .map(|b| {
+                        e.bin_rate_per_m_per_s(j, b, bay.width_m, floor)
+                            * SECONDS_PER_YEAR
+                            * bay.length_m()
+                            * n as f64
+                    })
+                    .collect();
+                let total_ej: f64 = per_bin.iter().sum();
+                if !(total_ej > 0.0) {
+                    continue;
+                }
+                let mut acc = 0.0;
+                let bin_cdf = per_bin
+                    .iter()
+                    .map(|r| {
+                        acc += r / total_ej;
+                        acc
+                    })
+                    .collect();
+                let primary = rates[j];
+                rates[j] += total_ej;
+                ejecta_bays[j] = Some(EjectaBay {
+                    p_primary: primary / rates[j],
+                    bin_cdf,
+                    floor_m: floor,
+                    bottom_m: bay.bottom_altitude_m,
+                    top_m: bay.top_altitude_m,
+                });
+            }
+        }
         let total_per_year: f64 = rates.iter().sum();
         let bay_alias = if total_per_year > 0.0 {
             AliasTable::new(&rates).map_err(|e| EngineError::Model(e.to_string()))?
@@ -308,6 +394,9 @@ impl StrikeSampler {
             bands,
             bin_half_width_m_per_s,
             floor_diameter_m,
+            ejecta_bays,
+            ejecta_bins,
+            ejecta_ceiling: model.ejecta.as_ref().map(|e| e.environment.clone()),
         })
     }
 
@@ -343,8 +432,79 @@ impl StrikeSampler {
     }
 
     /// Draw the strike's details given its bay.
+    ///
+    /// On a bay the lunar-ejecta source reaches, one extra uniform comes first and chooses the
+    /// source (and, for ejecta, the speed bin); other bays draw exactly as without ejecta.
     #[inline]
     pub fn sample_in_bay<R: Rng + ?Sized>(&self, rng: &mut R, j: usize) -> Strike {
+        if let Some(e) = &self.ejecta_bays[j] {
+            let u = unit(rng);
+            if u >= e.p_primary {
+                let v = (u - e.p_primary) / (1.0 - e.p_primary);
+                let bin = e
+                    .bin_cdf
+                    .partition_point(|&c| c <= v)
+                    .min(e.bin_cdf.len() - 1);
+                return self.sample_ejecta(rng, j, e, bin);
+            }
+        }
+        self.sample_primary(rng, j)
+    }
+
+    /// An ejecta strike on bay `j` from speed bin `bin`. Draw order: size component, size,
+    /// ribbon, centre, then (altitude uniform in the bay, speed uniform in the bin) pairs until
+    /// the speed's ballistic ceiling reaches the altitude, then the arrival azimuth. The track
+    /// angle is π/2 (horizontal arrival; see `model::ejecta`), no draw.
+    fn sample_ejecta<R: Rng + ?Sized>(
+        &self,
+        rng: &mut R,
+        j: usize,
+        e: &EjectaBay,
+        bin: usize,
+    ) -> Strike {
+        let (v_lo, v_hi, q) = self.ejecta_bins[bin];
+        let w = self.bays[j].width_m;
+        let d_f = e.floor_m;
+        // Components w n(d) (mass w F_f) and d n(d) (mass d_f F_f (-q)/(-q-1)).
+        let p_width = w / (w + d_f * (-q) / (-q - 1.0));
+        let u_comp = unit(rng);
+        let u = open01(rng);
+        let d = if u_comp < p_width {
+            d_f * u.powf(1.0 / q)
+        } else {
+            d_f * u.powf(1.0 / (q + 1.0))
+        };
+        let ribbon = ((unit(rng) * self.ribbon_count as f64) as u32).min(self.ribbon_count - 1);
+        let centre = -0.5 * d + unit(rng) * (w + d);
+        let ceiling = self
+            .ejecta_ceiling
+            .as_ref()
+            .expect("ejecta bays exist only with the ejecta model");
+        let (mut alt, mut speed);
+        loop {
+            alt = e.bottom_m + unit(rng) * (e.top_m - e.bottom_m);
+            speed = v_lo + unit(rng) * (v_hi - v_lo);
+            if ceiling.ceiling_altitude_m(speed) >= alt {
+                break;
+            }
+        }
+        // Horizontal arrival, azimuth from the face normal weighted by cos: sin(psi) = u.
+        let s_psi = unit(rng);
+        let cos_incidence = (1.0 - s_psi * s_psi).sqrt();
+        Strike {
+            bay: j as u32,
+            ribbon,
+            diameter_m: d,
+            centre_m: centre,
+            speed_m_per_s: speed.max(f64::MIN_POSITIVE),
+            cos_incidence,
+            track_angle_rad: std::f64::consts::FRAC_PI_2,
+            ejecta_altitude_m: Some(alt),
+        }
+    }
+
+    #[inline]
+    fn sample_primary<R: Rng + ?Sized>(&self, rng: &mut R, j: usize) -> Strike {
         let b = &self.bays[j];
         let u_comp = unit(rng);
         let u = open01(rng);
@@ -360,6 +520,8 @@ impl StrikeSampler {
         let v_inf = band.v_inf_m_per_s[k] + (2.0 * unit(rng) - 1.0) * self.bin_half_width_m_per_s;
         let speed = (v_inf.max(0.0).powi(2) + band.v_esc_sq).sqrt();
         let cos_incidence = unit(rng).sqrt();
+        // Isotropic arrival: the in-plane direction is uniform, so the angle to the long axis
+        // folded into [0, π/2] is uniform. Last detail draw of a strike.
         let track_angle_rad = std::f64::consts::FRAC_PI_2 * unit(rng);
         Strike {
             bay: j as u32,
@@ -369,6 +531,7 @@ impl StrikeSampler {
             speed_m_per_s: speed,
             cos_incidence,
             track_angle_rad,
+            ejecta_altitude_m: None,
         }
     }
 }

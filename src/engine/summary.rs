@@ -118,6 +118,12 @@ pub struct RunSummary {
     /// the floor and below the intact critical width (rates of the intact tether x observed
     /// time).
     pub subcritical_holes_per_history: f64,
+    /// Share of the holes that cut their segment whose size was extrapolated outside the hole
+    /// law's calibration range (0 when nothing was cut): counted under every-strike, expected
+    /// from the rates under on-demand (the share of the holes at least each cut segment's
+    /// critical width, averaged over the cuts).
+    #[serde(default)]
+    pub extrapolated_share_of_cutting_holes: f64,
     /// Histories by the largest number of cuts seen at once in one bay (index = cuts).
     pub max_cuts_in_one_bay: Vec<u64>,
     /// Fraction of mission time with at least one cut bay (mean over histories).
@@ -291,6 +297,19 @@ impl RunSummary {
             subcritical_holes_per_history: match engine.subcritical_hole_rate_per_s() {
                 Some(r) => r * tally.time_observed_s as f64 / h,
                 None => tally.subcritical_holes as f64 / h,
+            },
+            extrapolated_share_of_cutting_holes: if tally.cutting_holes > 0 {
+                match engine.sampler_kind() {
+                    super::Sampler::EveryStrike => {
+                        tally.cutting_holes_extrapolated as f64 / tally.cutting_holes as f64
+                    }
+                    super::Sampler::OnDemand => {
+                        tally.cutting_holes_extrapolated_expected_e9 as f64 * 1e-9
+                            / tally.cutting_holes as f64
+                    }
+                }
+            } else {
+                0.0
             },
             max_cuts_in_one_bay: tally.max_cuts_in_bay.clone(),
             fraction_of_time_with_cut_bay: if engine.mission_s() > 0.0 {

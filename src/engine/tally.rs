@@ -57,6 +57,18 @@ pub struct Tally {
     pub strikes: u64,
     /// Strikes that made a hole but cut nothing (sub-critical damage).
     pub subcritical_holes: u64,
+    /// Strikes whose own hole cut the struck segment.
+    #[serde(default)]
+    pub cutting_holes: u64,
+    /// Of those, holes outside the hole law's calibration range
+    /// (`PerforationLaw::is_extrapolated`).
+    #[serde(default)]
+    pub cutting_holes_extrapolated: u64,
+    /// On-demand (which draws no particle): the expected number of extrapolated cutting holes,
+    /// the sum over cuts of the extrapolated share of the holes at least the segment's critical
+    /// width, in units of 1e-9 hole (fixed point, so that sums are exact in any merge order).
+    #[serde(default)]
+    pub cutting_holes_extrapolated_expected_e9: u64,
     /// Histogram of the largest number of cuts seen at once in one bay (index = cuts).
     pub max_cuts_in_bay: Vec<u64>,
     /// Sum over histories of mission time with at least one cut bay, s (rounded to whole s).
@@ -133,6 +145,9 @@ impl Tally {
         self.cascade_cuts += o.cascade_cuts;
         self.strikes += o.strikes;
         self.subcritical_holes += o.subcritical_holes;
+        self.cutting_holes += o.cutting_holes;
+        self.cutting_holes_extrapolated += o.cutting_holes_extrapolated;
+        self.cutting_holes_extrapolated_expected_e9 += o.cutting_holes_extrapolated_expected_e9;
         add(&mut self.max_cuts_in_bay, &o.max_cuts_in_bay);
         self.time_with_cut_bay_s += o.time_with_cut_bay_s;
         self.time_observed_s += o.time_observed_s;

@@ -65,6 +65,35 @@ pub fn shielding_factor(
     Ok((1.0 + (1.0 - sin_eta * sin_eta).sqrt()) / 2.0)
 }
 
+/// Shielding factor of a spherical body without atmosphere for a **flat face whose normal is
+/// horizontal** (perpendicular to the local vertical), such as either face of a ribbon hanging
+/// along the vertical: the fraction of an isotropic flux onto the face that the body does not
+/// block.
+///
+/// [DERIVED] The body hides the cone of half-angle `eta` around the nadir, `sin eta = R/(R+h)`.
+/// The face's plane contains the nadir, so it cuts the cone in half. With `alpha` measured
+/// from the nadir and `beta` the azimuth from the face normal, the blocked part of the face's
+/// cosine-weighted flux is `Int_0^eta Int_{-pi/2}^{pi/2} sin(alpha) cos(beta) sin(alpha) dbeta
+/// dalpha = eta - sin(eta) cos(eta)`, out of `pi` for the open half-space, so
+///
+/// `s_face = 1 - (eta - sin(eta) cos(eta)) / pi`.
+///
+/// Limits: 1/2 at the surface (`eta = pi/2`), 1 far away. This replaces the ECSS
+/// sphere-averaged factor [`shielding_factor`] (a randomly oriented plate) for ribbon faces;
+/// it is larger because a sideways-looking face sees the Moon only at grazing cosines
+/// (0.758 against 0.709 at 175 km).
+pub fn horizontal_face_shielding_factor(
+    body_radius_m: f64,
+    altitude_m: f64,
+) -> Result<f64, EnvironmentError> {
+    let r = positive("body_radius_m", body_radius_m)?;
+    let h = non_negative("altitude_m", altitude_m)?;
+    let sin_eta = (r / (r + h)).min(1.0);
+    let eta = sin_eta.asin();
+    let cos_eta = (1.0 - sin_eta * sin_eta).sqrt();
+    Ok(1.0 - (eta - sin_eta * cos_eta) / std::f64::consts::PI)
+}
+
 /// Mass of a sphere of diameter `d_m` and density `density_kg_per_m3`: `m = (pi/6) rho d^3`
 /// (ECSS-E-ST-10-04C Rev.1 §10.2.2.2d prescribes spheres of 2500 kg/m^3 with the Grün model).
 /// `d_m >= 0`, density `> 0`.
@@ -99,6 +128,52 @@ mod tests {
         assert_eq!(shielding_factor(1.0, 0.0, 0.0).unwrap(), 0.5);
         assert_eq!(shielding_factor(6.378e6, 1e5, 5e4).unwrap(), 0.5);
         assert!(shielding_factor(1.0, 0.0, 1e12).unwrap() > 0.999_999);
+    }
+
+    /// Independent check of the face integral: midpoint quadrature over the face's front
+    /// hemisphere in the face's own polar coordinates, testing each direction against the
+    /// Moon's cone (no use of the closed form).
+    fn face_factor_by_quadrature(r: f64, h: f64) -> f64 {
+        let sin_eta = r / (r + h);
+        let cos_eta = (1.0 - sin_eta * sin_eta).sqrt();
+        let (nt, np) = (1200, 1200);
+        let mut blocked = 0.0;
+        let mut open = 0.0;
+        for i in 0..nt {
+            let t = (i as f64 + 0.5) / nt as f64 * std::f64::consts::FRAC_PI_2;
+            for k in 0..np {
+                let p = (k as f64 + 0.5) / np as f64 * std::f64::consts::TAU;
+                // Face normal = z; the nadir lies in the face plane, along -x.
+                let dir = (t.sin() * p.cos(), t.sin() * p.sin(), t.cos());
+                let w = t.cos() * t.sin(); // cosine weight x solid-angle Jacobian
+                open += w;
+                if -dir.0 >= cos_eta {
+                    blocked += w;
+                }
+            }
+        }
+        1.0 - blocked / open
+    }
+
+    #[test]
+    fn horizontal_face_shielding_against_quadrature_and_limits() {
+        let r = 1_737.4e3;
+        for h in [0.0, 25e3, 175e3, 500e3, 2_000e3, 20_000e3] {
+            let exact = horizontal_face_shielding_factor(r, h).unwrap();
+            let q = face_factor_by_quadrature(r, h);
+            assert!((exact - q).abs() < 2e-3, "h {h}: {exact} vs quadrature {q}");
+        }
+        // Surface limit 1/2, far limit 1 [DERIVED].
+        assert!((horizontal_face_shielding_factor(r, 0.0).unwrap() - 0.5).abs() < 1e-12);
+        assert!(horizontal_face_shielding_factor(r, 1e13).unwrap() > 1.0 - 1e-9);
+        // Issue 10 quotes 0.758 at 175 km and 0.873 at 500 km (REFERENCES-damage-consistent
+        // [COMPUTED] values), against the ECSS sphere average 0.709 and 0.815.
+        let f175 = horizontal_face_shielding_factor(r, 175e3).unwrap();
+        let f500 = horizontal_face_shielding_factor(r, 500e3).unwrap();
+        assert!((f175 - 0.758).abs() < 5e-4, "{f175}");
+        assert!((f500 - 0.873).abs() < 5e-4, "{f500}");
+        assert!((shielding_factor(r, 0.0, 175e3).unwrap() - 0.709).abs() < 5e-4);
+        assert!((shielding_factor(r, 0.0, 500e3).unwrap() - 0.815).abs() < 5e-4);
     }
 
     #[test]

@@ -19,6 +19,7 @@
 //! agrees with the product `G_bar_E · G_bar_M` to three decimals (the cross term is
 //! second-order small).
 
+mod ejecta;
 mod factors;
 mod flux;
 mod grun;
@@ -29,9 +30,10 @@ use thiserror::Error;
 
 use crate::orbit::{EarthMoon, OrbitError, Side};
 
+pub use ejecta::{EjectaBin, LunarEjecta, SP8013_EJECTA_JSON};
 pub use factors::{
-    diameter_from_mass_m, escape_speed_m_per_s, focusing_factor, mass_from_diameter_kg,
-    shielding_factor,
+    diameter_from_mass_m, escape_speed_m_per_s, focusing_factor, horizontal_face_shielding_factor,
+    mass_from_diameter_kg, shielding_factor,
 };
 pub use flux::FluxModel;
 pub use grun::Grun1985;
@@ -184,7 +186,19 @@ impl LocalFactors {
     }
 }
 
-/// Shielding and focusing at `altitude_m` above the lunar surface on the given side.
+/// Which flat surface the lunar shielding factor is for.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum ShieldingGeometry {
+    /// A randomly oriented plate: the ECSS sphere-averaged factor `(1 + cos eta)/2`
+    /// (what the `env` command tabulates).
+    RandomPlate,
+    /// A face of a ribbon hanging along the vertical (normal horizontal):
+    /// [`horizontal_face_shielding_factor`] (what the tether model uses).
+    HangingRibbonFace,
+}
+
+/// Shielding and focusing at `altitude_m` above the lunar surface on the given side, for a
+/// randomly oriented plate ([`ShieldingGeometry::RandomPlate`]; see [`local_factors_for`]).
 ///
 /// - Lunar shielding: eqs C-26/C-27 with `R = orbit.moon_radius_m`, `R_A = 0` (no atmosphere).
 /// - Earth shielding: the same with `R = orbit.earth_radius_m`, `R_A` =
@@ -203,6 +217,31 @@ pub fn local_factors(
     include_earth_focusing: bool,
     include_moon_shielding: bool,
 ) -> Result<LocalFactors, EnvironmentError> {
+    local_factors_for(
+        orbit,
+        side,
+        altitude_m,
+        velocity,
+        include_moon_focusing,
+        include_earth_focusing,
+        include_moon_shielding,
+        ShieldingGeometry::RandomPlate,
+    )
+}
+
+/// [`local_factors`] with the lunar shielding for the given surface geometry (the Earth's
+/// shielding, about 0.99993 at lunar distance, stays the sphere average).
+#[allow(clippy::too_many_arguments)]
+pub fn local_factors_for(
+    orbit: &EarthMoon,
+    side: Side,
+    altitude_m: f64,
+    velocity: &VelocityDistribution,
+    include_moon_focusing: bool,
+    include_earth_focusing: bool,
+    include_moon_shielding: bool,
+    geometry: ShieldingGeometry,
+) -> Result<LocalFactors, EnvironmentError> {
     if !(altitude_m.is_finite() && altitude_m >= 0.0) {
         return Err(EnvironmentError::InvalidArgument {
             name: "altitude_m",
@@ -215,7 +254,14 @@ pub fn local_factors(
     let r_earth_m = orbit.earth_distance_m(side, r_moon_m);
 
     let moon_shielding = if include_moon_shielding {
-        shielding_factor(orbit.moon_radius_m, 0.0, altitude_m)?
+        match geometry {
+            ShieldingGeometry::RandomPlate => {
+                shielding_factor(orbit.moon_radius_m, 0.0, altitude_m)?
+            }
+            ShieldingGeometry::HangingRibbonFace => {
+                horizontal_face_shielding_factor(orbit.moon_radius_m, altitude_m)?
+            }
+        }
     } else {
         1.0
     };

@@ -84,6 +84,11 @@ pub trait StrikeSource: Send + Sync + std::fmt::Debug {
     fn impact_nodes(&self, bay: usize) -> Vec<ImpactNode>;
     /// Particle bulk density, kg/m³.
     fn particle_density_kg_per_m3(&self) -> f64;
+    /// The perforation law for this source's particles; `None`: the scenario's law
+    /// (`model.perforation`). Lunar ejecta use the low-speed rule.
+    fn perforation_law(&self) -> Option<&dyn crate::damage::PerforationLaw> {
+        None
+    }
 }
 
 /// Altitude bands of the speed distribution, shared with the strike sampler: 32 bands uniform
@@ -295,7 +300,7 @@ pub fn smallest_severing_hole_m(model: &Model, j: usize) -> f64 {
     loads
         .into_iter()
         .filter(|&l| l < capacity * (1.0 - CAPACITY_TOLERANCE))
-        .map(|l| w - l / per_width)
+        .map(|l| p.critical_removed_width_for_load_m(j, l))
         .fold(w, f64::min)
 }
 
@@ -317,9 +322,35 @@ pub struct BayHoleRate {
     step: f64,
     h: Vec<f64>,
     ln_h: Vec<f64>,
+    /// Rate of holes at least x whose size the law extrapolated (outside its calibration
+    /// range), on the same grid.
+    h_ext: Vec<f64>,
 }
 
 impl BayHoleRate {
+    /// Share of the holes removing at least `x_m` whose size was extrapolated outside the
+    /// hole law's calibration range (`PerforationLaw::is_extrapolated`), in [0, 1]; 0 when no
+    /// hole is that large. Linear between grid points.
+    pub fn extrapolated_share_at_least(&self, x_m: f64) -> f64 {
+        let share = |i: usize| {
+            if self.h[i] > 0.0 {
+                (self.h_ext[i] / self.h[i]).clamp(0.0, 1.0)
+            } else {
+                0.0
+            }
+        };
+        if !(x_m > self.floor_m) {
+            return share(0);
+        }
+        if x_m >= self.width_m {
+            return share(X_POINTS - 1);
+        }
+        let t = ((x_m.ln() - self.ln_x0) / self.step).max(0.0);
+        let i = (t as usize).min(X_POINTS - 2);
+        let f = (t - i as f64).min(1.0);
+        share(i) + f * (share(i + 1) - share(i))
+    }
+
     /// Ribbon width, m (the largest removed width).
     pub fn width_m(&self) -> f64 {
         self.width_m
@@ -421,7 +452,13 @@ impl HoleRateTable {
     /// each bay's smallest severing hole to set the floor (as for the strike sampler).
     pub fn build(model: &Model, floor_fraction: f64) -> Result<Self, String> {
         let primary = PrimaryMeteoroids::new(model)?;
-        Self::build_with_sources(model, floor_fraction, &[&primary])
+        match &model.ejecta {
+            Some(e) => {
+                let ejecta = super::ejecta::EjectaStrikes::new(model, e)?;
+                Self::build_with_sources(model, floor_fraction, &[&primary, &ejecta])
+            }
+            None => Self::build_with_sources(model, floor_fraction, &[&primary]),
+        }
     }
 
     /// Build for a model with the given strike sources (their rates add).
@@ -469,9 +506,20 @@ impl HoleRateTable {
                 })
                 .collect();
             let mut h = vec![0.0; X_POINTS];
+            let mut h_ext = vec![0.0; X_POINTS];
             let length = bay.length_m();
+            let mut d_floor_all = d_floor;
             for src in sources {
                 let rho = src.particle_density_kg_per_m3();
+                let law = src.perforation_law().unwrap_or(law);
+                let d_floor = law.min_diameter_for_hole_m(floor, &target);
+                if !(d_floor.is_finite() && d_floor > 0.0) {
+                    return Err(format!(
+                        "bay {j}: no finite particle diameter of source `{}` can open a {floor:.3e} m hole",
+                        src.name()
+                    ));
+                }
+                d_floor_all = d_floor_all.min(d_floor);
                 let d_top = d_floor.max(w) * D_TOP_OVER_WIDTH;
                 let decades = (d_top / d_floor).log10().max(0.5);
                 let nd = ((decades * D_PER_DECADE).ceil() as usize).max(8);
@@ -506,6 +554,35 @@ impl HoleRateTable {
                         src.flux_above_per_m2_per_s(j, d).max(0.0)
                     });
                     accumulate_node(&pts, w, &xs, 2.0 * length * weight, &mut h);
+                    // The extrapolated part: the same integral over the particles whose hole
+                    // the law extrapolates (judged at each interval's geometric middle; F
+                    // replaced by the cumulative flux of those particles).
+                    let ext = |d: f64| {
+                        law.is_extrapolated(
+                            &Impact {
+                                diameter_m: d,
+                                speed_m_per_s: node.speed_m_per_s,
+                                cos_incidence: node.cos_incidence,
+                                density_kg_per_m3: rho,
+                                track_angle_rad: node.track_angle_rad,
+                            },
+                            &target,
+                        )
+                    };
+                    if pts.iter().any(|p| ext(p.d)) {
+                        let mut masked = pts.clone();
+                        let mut acc = 0.0;
+                        let last = masked.len() - 1;
+                        masked[last].f = if ext(pts[last].d) { pts[last].f } else { 0.0 };
+                        acc += masked[last].f;
+                        for i in (0..last).rev() {
+                            if ext((pts[i].d * pts[i + 1].d).sqrt()) {
+                                acc += pts[i].f - pts[i + 1].f;
+                            }
+                            masked[i].f = acc;
+                        }
+                        accumulate_node(&masked, w, &xs, 2.0 * length * weight, &mut h_ext);
+                    }
                 }
             }
             // Enforce monotonicity against rounding.
@@ -521,11 +598,12 @@ impl HoleRateTable {
             Ok(BayHoleRate {
                 width_m: w,
                 floor_m: floor,
-                floor_diameter_m: d_floor,
+                floor_diameter_m: d_floor_all,
                 ln_x0,
                 step,
                 h,
                 ln_h,
+                h_ext,
             })
         };
         // Bays are independent: build them in parallel (each result is the same on any thread).

@@ -57,8 +57,8 @@ use crate::analytic::AnalyticError;
 use crate::damage::{Impact, RibbonTarget, ThinFilmHoleLaw};
 use crate::environment::{mass_from_diameter_kg, FluxModel};
 use crate::scenario::{
-    DamageSpec, DetectionSpec, LoadSharingSpec, RepairSettings, RunSettings, ValidationSettings,
-    SECONDS_PER_YEAR,
+    DamageSpec, DetectionSpec, HoleSizeSpec, LoadSharingSpec, RepairSettings, RunSettings,
+    ValidationSettings, SECONDS_PER_YEAR,
 };
 
 use super::Model;
@@ -182,7 +182,7 @@ impl<'a> TailIntegral<'a> {
                 let dc = fraction * w;
                 self.flux_per_m2_per_year(dc) * (w + dc) + self.tail_per_m_per_year(dc)
             }
-            DamageSpec::ThinFilmHole { hole_factor: f } => {
+            DamageSpec::ThinFilmHole { hole_factor: f, .. } => {
                 let d_min = h / f;
                 let (g_sat, g_min) = (
                     if f > 1.0 {
@@ -204,7 +204,7 @@ impl<'a> TailIntegral<'a> {
 fn diameters_needed(damage: &DamageSpec, w: f64, h: f64) -> [f64; 2] {
     match *damage {
         DamageSpec::FractionOfWidth { fraction } => [fraction * w, fraction * w],
-        DamageSpec::ThinFilmHole { hole_factor: f } => {
+        DamageSpec::ThinFilmHole { hole_factor: f, .. } => {
             let d_min = h / f;
             let d_sat = if f > 1.0 { 2.0 * h / (f - 1.0) } else { d_min };
             [d_min, d_sat.max(d_min)]
@@ -344,6 +344,25 @@ impl MarkovModel {
 
     fn build_physical(model: &Model) -> Result<Self, EstimateError> {
         let sc = &model.scenario;
+        // Fitted hole laws, the oblique footprint and the lunar-ejecta source have no closed
+        // form: their cut rates come from the per-bay hole-rate table H_j(x) (rate per segment
+        // of holes removing at least x), cut rate in state k = (N − k) H_j(h_k).
+        let needs_table = match &sc.damage {
+            DamageSpec::ThinFilmHole {
+                hole_size,
+                oblique_footprint,
+                ..
+            } => *hole_size != HoleSizeSpec::Constant || *oblique_footprint == Some(true),
+            DamageSpec::FractionOfWidth { .. } => false,
+        } || sc.environment.lunar_ejecta.enabled;
+        let hole_rates = if needs_table {
+            Some(
+                super::hole_rate::HoleRateTable::build(model, 1.0)
+                    .map_err(EstimateError::Unsupported)?,
+            )
+        } else {
+            None
+        };
         let profile = &model.profile;
         let n = profile.design.ribbon_count;
         let sharing = sc.tether.load_sharing;
@@ -404,6 +423,11 @@ impl MarkovModel {
             let mut cut = Vec::with_capacity(hs.len());
             let mut repair = Vec::with_capacity(hs.len());
             for (k, &h) in hs.iter().enumerate() {
+                if let Some(t) = &hole_rates {
+                    cut.push((n - k) as f64 * t.bay(j).rate_at_least_per_s(h));
+                    repair.push(if k == 0 { 0.0 } else { repair_rate });
+                    continue;
+                }
                 let per_ribbon = table.as_ref().map_or(0.0, |t| {
                     t.severing_rate_per_m_per_year(damage, bay.width_m, h)
                 });
@@ -418,12 +442,19 @@ impl MarkovModel {
         }
 
         let bound = match *damage {
-            DamageSpec::ThinFilmHole { hole_factor } => {
+            _ if hole_rates.is_some() => None,
+            DamageSpec::ThinFilmHole { hole_factor, .. } => {
                 Some(unperforated_fraction_bound(model, &holes, hole_factor))
             }
             DamageSpec::FractionOfWidth { .. } => None,
         };
-        let assumptions = physical_assumptions(model, bound);
+        let mut assumptions = physical_assumptions(model, bound);
+        if let Some(t) = &hole_rates {
+            assumptions.push(format!(
+                "cut rates from the per-bay hole-rate table (quadrature over diameter, speed, incidence and track angle of: {})",
+                t.sources().join(", ")
+            ));
+        }
         Ok(MarkovModel {
             mode: MarkovMode::Physical,
             bays,
@@ -523,7 +554,7 @@ fn physical_assumptions(model: &Model, bound: Option<f64>) -> Vec<String> {
         None => a.push("no repair".into()),
     }
     match (&sc.damage, bound) {
-        (DamageSpec::ThinFilmHole { hole_factor }, Some(b)) => a.push(format!(
+        (DamageSpec::ThinFilmHole { hole_factor, .. }, Some(b)) => a.push(format!(
             "speed-independent hole: every strike perforates and opens a hole {hole_factor} x the particle diameter; the perforation threshold is ignored (it would stop at most {b:.1e} of the strikes able to cut, slowest speed and smallest cutting particle)"
         )),
         (DamageSpec::FractionOfWidth { fraction }, _) => a.push(format!(
@@ -645,11 +676,7 @@ mod tests {
             (0.1, 0.002, 2.5),
             (0.012, 0.0119, 1.7),
         ] {
-            let got = table.severing_rate_per_m_per_year(
-                &DamageSpec::ThinFilmHole { hole_factor: f },
-                w,
-                h,
-            );
+            let got = table.severing_rate_per_m_per_year(&DamageSpec::constant_hole(f), w, h);
             let want = power_law_closed_form(c, s, w, h, f);
             assert!(
                 (got / want - 1.0).abs() < 1e-8,
@@ -657,11 +684,7 @@ mod tests {
             );
         }
         // A hole wider than the ribbon cannot be removed.
-        let none = table.severing_rate_per_m_per_year(
-            &DamageSpec::ThinFilmHole { hole_factor: 1.3 },
-            0.01,
-            0.02,
-        );
+        let none = table.severing_rate_per_m_per_year(&DamageSpec::constant_hole(1.3), 0.01, 0.02);
         assert_eq!(none, 0.0);
     }
 
@@ -691,8 +714,7 @@ mod tests {
         let rho = 2500.0;
         let (w, h, f) = (0.03, 0.008, 1.3);
         let table = TailIntegral::new(&flux, rho, 1e-3, 0.1);
-        let got =
-            table.severing_rate_per_m_per_year(&DamageSpec::ThinFilmHole { hole_factor: f }, w, h);
+        let got = table.severing_rate_per_m_per_year(&DamageSpec::constant_hole(f), w, h);
         let big_f =
             |d: f64| flux.cumulative_flux_per_m2_per_year(mass_from_diameter_kg(d, rho).unwrap());
         let n = |d: f64| {
@@ -745,6 +767,7 @@ mod tests {
             payload_kg: 400.0,
             turnaround_s: 12.0 * 3600.0,
             splice_s: 8.0 * 3600.0,
+            climber_mass_kg: 300.0,
             detection,
             resupply: crate::scenario::ResupplySpec::None,
             dispatch: crate::scenario::DispatchSpec::FirstCome,

@@ -6,18 +6,27 @@
 //! added to the layout of DESIGN.md because the per-bay tables need environment, structure and
 //! damage together, and none of those may depend on the others in that direction.
 
+pub mod climber;
+pub mod ejecta;
 pub mod hole_rate;
 pub mod markov;
 mod rates;
+pub mod warnings;
 
 pub use rates::ribbon_strike_rate_per_m_per_year;
 
-use crate::damage::{FractionOfWidth, PerforationLaw, RibbonTarget, ThinFilmHoleLaw};
+use crate::damage::{
+    FractionOfWidth, HoleFactorLaw, HoleSize, PerforationLaw, RibbonTarget, ThinFilmHoleLaw,
+};
 use crate::environment::{
-    local_factors, FluxModel, Grun1985, LocalFactors, TabulatedFlux, VelocityDistribution,
+    local_factors_for, FluxModel, Grun1985, LocalFactors, ShieldingGeometry, TabulatedFlux,
+    VelocityDistribution,
 };
 use crate::orbit::EarthMoon;
-use crate::scenario::{DamageSpec, FluxModelSpec, Scenario, ScenarioError, TaperSpec};
+use crate::scenario::{
+    DamageSpec, FluxModelSpec, HoleSizeSpec, Scenario, ScenarioError, ShieldingGeometrySpec,
+    TaperSpec,
+};
 use crate::structure::load_sharing::MAX_RIBBONS;
 use crate::structure::{Taper, TetherDesign, TetherProfile};
 
@@ -33,6 +42,10 @@ pub struct BayTables {
     /// Rate of strikes (all ribbons of the bay) by particles able to sever an intact segment,
     /// per year.
     pub damaging_strike_rate_per_year: f64,
+    /// Same for lunar ejecta (0 when the source is off or does not reach the bay), per year.
+    pub ejecta_strike_rate_per_year: f64,
+    /// Weight of a loaded climber (own mass + payload) at the bay's middle, N (0 without repair).
+    pub climber_weight_n: f64,
 }
 
 /// The built model.
@@ -52,6 +65,8 @@ pub struct Model {
     pub profile: TetherProfile,
     /// Per-bay tables, same order as `profile.bays`.
     pub bays: Vec<BayTables>,
+    /// The lunar-ejecta strike source, when enabled.
+    pub ejecta: Option<ejecta::EjectaSource>,
 }
 
 /// Build the flux model a scenario names.
@@ -100,22 +115,63 @@ pub fn tether_design(scenario: &Scenario) -> TetherDesign {
         cross_link_mass_kg: t.cross_link_mass_kg,
         anchor_preload_n: t.anchor_preload_n,
         traffic_load_n: t.traffic_load_n,
+        notch: t.notch,
     }
 }
+
+/// Speed bound given to fitted hole laws, m/s: above the fastest focused speed of ECSS
+/// Table C-1 (72 km/s plus half a bin, with the Moon's surface and the Earth's escape speeds
+/// at lunar distance added in quadrature: about 72.3 km/s), with margin.
+pub const HOLE_LAW_SPEED_BOUND_M_PER_S: f64 = 75_000.0;
 
 /// The perforation law a scenario names.
 pub fn build_perforation_law(
     scenario: &Scenario,
 ) -> Result<Box<dyn PerforationLaw>, ScenarioError> {
+    let speed_bound_m_per_s = HOLE_LAW_SPEED_BOUND_M_PER_S;
     let err = |path: &str, message: String| ScenarioError::Model {
         path: path.into(),
         message,
     };
     Ok(match scenario.damage {
-        DamageSpec::ThinFilmHole { hole_factor } => Box::new(
+        DamageSpec::ThinFilmHole {
+            hole_size: HoleSizeSpec::Constant,
+            hole_factor,
+            oblique_footprint: None | Some(false),
+            ..
+        } => Box::new(
             ThinFilmHoleLaw::new(hole_factor)
                 .map_err(|e| err("damage.hole_factor", e.to_string()))?,
         ),
+        DamageSpec::ThinFilmHole {
+            hole_size,
+            hole_factor,
+            oblique_footprint,
+            min_cos_incidence,
+            target_sound_speed_m_per_s,
+            particle_sound_speed_m_per_s,
+        } => {
+            let law = match hole_size {
+                HoleSizeSpec::Constant => HoleFactorLaw::Constant {
+                    factor: hole_factor,
+                },
+                HoleSizeSpec::SawleType => HoleFactorLaw::SawleType,
+                HoleSizeSpec::HillType => HoleFactorLaw::HillType {
+                    target_sound_speed_m_per_s,
+                    particle_sound_speed_m_per_s,
+                },
+            };
+            let hole = HoleSize {
+                law,
+                oblique_footprint: oblique_footprint.unwrap_or(true),
+                min_cos_incidence,
+            };
+            Box::new(
+                ThinFilmHoleLaw::with_hole_size(hole)
+                    .and_then(|l| l.with_speed_bound(speed_bound_m_per_s))
+                    .map_err(|e| err("damage", e.to_string()))?,
+            )
+        }
         DamageSpec::FractionOfWidth { fraction } => Box::new(
             FractionOfWidth::new(fraction).map_err(|e| err("damage.fraction", e.to_string()))?,
         ),
@@ -142,9 +198,45 @@ impl Model {
 
         let env = &scenario.environment;
         let n = profile.design.ribbon_count;
+        let ejecta = if env.lunar_ejecta.enabled {
+            let e = &env.lunar_ejecta;
+            let environment = crate::environment::LunarEjecta::sp8013(
+                orbit.moon_radius_m,
+                (2.0 * orbit.gm_moon_m3_per_s2 / orbit.moon_radius_m).sqrt(),
+            )
+            .map_err(env_err)?;
+            let min_cos = match scenario.damage {
+                DamageSpec::ThinFilmHole {
+                    min_cos_incidence, ..
+                } => min_cos_incidence,
+                DamageSpec::FractionOfWidth { .. } => 0.2,
+            };
+            let law = crate::damage::LowSpeedHoleLaw::new(
+                e.hole_factor,
+                e.perforation_speed_m_per_s,
+                min_cos,
+            )
+            .map_err(|err| ScenarioError::Model {
+                path: "environment.lunar_ejecta".into(),
+                message: err.to_string(),
+            })?;
+            let spans: Vec<(f64, f64)> = profile
+                .bays
+                .iter()
+                .map(|b| (b.bottom_altitude_m, b.top_altitude_m))
+                .collect();
+            Some(ejecta::EjectaSource::new(
+                environment,
+                e.flux_scale_factor,
+                law,
+                &spans,
+            )?)
+        } else {
+            None
+        };
         let mut bays = Vec::with_capacity(profile.bays.len());
         for (j, bay) in profile.bays.iter().enumerate() {
-            let factors = local_factors(
+            let factors = local_factors_for(
                 &orbit,
                 scenario.tether.side,
                 bay.mid_altitude_m(),
@@ -152,6 +244,10 @@ impl Model {
                 env.moon_focusing,
                 env.earth_focusing,
                 env.moon_shielding,
+                match env.moon_shielding_geometry {
+                    ShieldingGeometrySpec::RibbonFace => ShieldingGeometry::HangingRibbonFace,
+                    ShieldingGeometrySpec::RandomPlate => ShieldingGeometry::RandomPlate,
+                },
             )
             .map_err(env_err)?;
             let critical: Vec<f64> = (0..n.min(MAX_RIBBONS))
@@ -170,14 +266,23 @@ impl Model {
                 d_min,
             );
             let rate = per_m * bay.length_m() * n as f64 * factors.total() * env.flux_scale_factor;
+            let ejecta_rate = match &ejecta {
+                Some(e) if e.reaches_bay(j) && critical[0] > 0.0 => {
+                    let d = e.perforation.min_diameter_for_hole_m(critical[0], &target);
+                    e.rate_per_m_per_year(j, bay.width_m, d) * bay.length_m() * n as f64
+                }
+                _ => 0.0,
+            };
             bays.push(BayTables {
                 factors,
                 critical_hole_width_m: critical,
                 min_severing_diameter_m: d_min,
                 damaging_strike_rate_per_year: rate,
+                ejecta_strike_rate_per_year: ejecta_rate,
+                climber_weight_n: 0.0,
             });
         }
-        Ok(Model {
+        let mut model = Model {
             scenario,
             orbit,
             flux,
@@ -185,7 +290,12 @@ impl Model {
             perforation,
             profile,
             bays,
-        })
+            ejecta,
+        };
+        for j in 0..model.bays.len() {
+            model.bays[j].climber_weight_n = climber::loaded_climber_weight_at_bay_n(&model, j);
+        }
+        Ok(model)
     }
 
     /// Sum of the per-bay damaging-strike rates, per year.

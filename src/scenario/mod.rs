@@ -9,10 +9,12 @@
 //! This is the only module that reads input files.
 
 mod error;
+mod materials;
 mod spec;
 mod validate;
 
 pub use error::{nearest, ScenarioError};
+pub use materials::{catalogue_material, material_catalogue, CatalogueEntry, MATERIALS_JSON};
 pub use spec::*;
 pub use validate::*;
 

@@ -90,12 +90,72 @@ pub struct EnvironmentSpec {
     /// Apply the Earth's gravitational focusing at the tether's distance from Earth.
     #[serde(default = "yes")]
     pub earth_focusing: bool,
-    /// Apply the Moon's geometric shielding (1 + cos eta)/2.
+    /// Apply the Moon's geometric shielding.
     #[serde(default = "yes")]
     pub moon_shielding: bool,
+    /// Which shielding factor the ribbon gets: `ribbon_face` (default: the exact integral for a
+    /// face whose normal is horizontal, 1 - (eta - sin eta cos eta)/pi) or `random_plate` (the
+    /// ECSS sphere average (1 + cos eta)/2, for comparison).
+    #[serde(default = "default_shielding_geometry")]
+    pub moon_shielding_geometry: ShieldingGeometrySpec,
     /// Multiplier on the model flux, dimensionless (ECSS J.2.3.2: uncertainty 0.33 to 3).
     #[serde(default = "one")]
     pub flux_scale_factor: f64,
+    /// Lunar secondary ejecta (a second strike source on the lowest bays).
+    #[serde(default)]
+    pub lunar_ejecta: LunarEjectaSpec,
+}
+
+/// Surface geometry for the lunar shielding factor.
+#[derive(Clone, Copy, Debug, Serialize, Deserialize, PartialEq, Eq)]
+#[serde(rename_all = "snake_case")]
+pub enum ShieldingGeometrySpec {
+    /// A hanging ribbon's face (normal horizontal).
+    RibbonFace,
+    /// A randomly oriented plate (ECSS sphere average).
+    RandomPlate,
+}
+
+fn default_shielding_geometry() -> ShieldingGeometrySpec {
+    ShieldingGeometrySpec::RibbonFace
+}
+
+/// Lunar secondary-ejecta source (SP-8013-type, parameters in
+/// `flux_models/sp8013_lunar_ejecta.json`; REFERENCES-damage §3).
+#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+#[serde(deny_unknown_fields)]
+pub struct LunarEjectaSpec {
+    /// Include the source.
+    #[serde(default)]
+    pub enabled: bool,
+    /// Multiplier on the SP-8013 flux, dimensionless, in [0, 1] (SP-8013 "may overestimate";
+    /// no published reduction factor: the range is an engineering assumption).
+    #[serde(default = "one")]
+    pub flux_scale_factor: f64,
+    /// Hole diameter over particle diameter at ejecta speeds (<= 1 km/s), dimensionless.
+    /// An assumption: no low-speed hole-size data for these films were found; 1.0 is the
+    /// thin-film limit.
+    #[serde(default = "one")]
+    pub hole_factor: f64,
+    /// Normal speed below which a slow particle does not perforate, m/s (tens of m/s for thin
+    /// polycarbonate films, LIPIT tests, Soft Matter 16(16) 2020 [READ abstract]).
+    #[serde(default = "default_ejecta_perforation_speed")]
+    pub perforation_speed_m_per_s: f64,
+}
+
+impl Default for LunarEjectaSpec {
+    fn default() -> Self {
+        LunarEjectaSpec {
+            enabled: false,
+            flux_scale_factor: 1.0,
+            hole_factor: 1.0,
+            perforation_speed_m_per_s: default_ejecta_perforation_speed(),
+        }
+    }
+}
+
+fn default_ejecta_perforation_speed() -> f64 {
+    50.0
 }
 
 /// Width schedule of the ribbons along the tether.
@@ -132,9 +192,52 @@ pub struct MaterialSpec {
     /// Material density, g/cm^3.
     pub density_g_per_cm3: f64,
     /// Named strength knock-down factors (long gauge, ageing, joints...), each in (0, 1];
-    /// the allowable stress is the ultimate strength times their product.
+    /// the allowable stress is the ultimate strength times their product. They are
+    /// unnotched-strength factors: stress concentration at holes is the notch model's job.
     #[serde(default)]
     pub strength_knockdowns: BTreeMap<String, f64>,
+    /// Residual strength of a holed ribbon (default: net section, the notch-insensitive bound).
+    #[serde(default)]
+    pub notch_model: NotchModelSpec,
+}
+
+/// Residual-strength (notch) model of the ribbon material (REFERENCES-damage §2).
+#[derive(Clone, Debug, Serialize, Deserialize, PartialEq, Default)]
+#[serde(tag = "model", rename_all = "snake_case", deny_unknown_fields)]
+pub enum NotchModelSpec {
+    /// Net section, strength x (1 - D/W): notch-insensitive (ductile films, split UD tapes).
+    #[default]
+    NetSection,
+    /// Whitney–Nuismer point-stress criterion.
+    PointStress {
+        /// Characteristic distance d_0 from the hole edge, mm.
+        characteristic_length_mm: f64,
+        /// Infinite-plate stress concentration K_T∞, dimensionless (3 isotropic; <= 7.7086).
+        #[serde(default = "default_kt")]
+        kt_infinite: f64,
+        /// Apply the isotropic (Heywood-form) finite-width correction.
+        #[serde(default = "yes")]
+        finite_width_correction: bool,
+        /// Where the parameters come from, or "engineering assumption".
+        basis: String,
+    },
+    /// Whitney–Nuismer average-stress criterion.
+    AverageStress {
+        /// Averaging length a_0 from the hole edge, mm.
+        characteristic_length_mm: f64,
+        /// Infinite-plate stress concentration K_T∞, dimensionless (>= 3).
+        #[serde(default = "default_kt")]
+        kt_infinite: f64,
+        /// Apply the isotropic (Heywood-form) finite-width correction.
+        #[serde(default = "yes")]
+        finite_width_correction: bool,
+        /// Where the parameters come from, or "engineering assumption".
+        basis: String,
+    },
+}
+
+fn default_kt() -> f64 {
+    3.0
 }
 
 /// The tether section.
@@ -185,11 +288,31 @@ pub struct TetherSpec {
 #[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
 #[serde(tag = "law", rename_all = "snake_case", deny_unknown_fields)]
 pub enum DamageSpec {
-    /// Default: perforation above the ballistic limit, hole width = hole_factor x particle diameter.
+    /// Default: perforation above the ballistic limit; hole size from a hole-size law.
     ThinFilmHole {
-        /// Hole width over particle diameter, dimensionless (engineering assumption, 1.0 to 1.7).
+        /// Hole-size relation: `constant` (hole_factor x particle diameter), `sawle_type` or
+        /// `hill_type` (REFERENCES-damage §1.2), floored at the particle diameter.
+        #[serde(default = "default_hole_size")]
+        hole_size: HoleSizeSpec,
+        /// Hole width over particle diameter for `constant`, dimensionless (engineering
+        /// assumption, 1.0 to 1.7).
         #[serde(default = "default_hole_factor")]
         hole_factor: f64,
+        /// Oblique strikes make an ellipse d k x d k / cos(theta) along their track; the
+        /// removed width is its projection across the ribbon. Default: on for the fitted laws,
+        /// off for `constant` (the former round hole).
+        #[serde(default)]
+        oblique_footprint: Option<bool>,
+        /// Cap on cos(theta) in the elongation 1/cos(theta), dimensionless (0.2: elongation
+        /// at most 5; grazing particles fragment).
+        #[serde(default = "default_min_cos")]
+        min_cos_incidence: f64,
+        /// Film bulk sound speed for `hill_type`, m/s (2500: polymer film, assumption).
+        #[serde(default = "default_ct")]
+        target_sound_speed_m_per_s: f64,
+        /// Particle bulk sound speed for `hill_type`, m/s (5000: assumption).
+        #[serde(default = "default_cp")]
+        particle_sound_speed_m_per_s: f64,
     },
     /// Classical criterion: a particle of at least `fraction` of the ribbon width severs it.
     FractionOfWidth {
@@ -199,16 +322,59 @@ pub enum DamageSpec {
     },
 }
 
+/// Hole-size relation of the thin-film law.
+#[derive(Clone, Copy, Debug, Serialize, Deserialize, PartialEq, Eq)]
+#[serde(rename_all = "snake_case")]
+pub enum HoleSizeSpec {
+    /// `hole_factor` x particle diameter (engineering assumption).
+    Constant,
+    /// Sawle-type law with the normal speed component (REFERENCES-damage §1.2, [MEMORY]).
+    SawleType,
+    /// Hill-type law (REFERENCES-damage §1.2, coefficients [READ-sec]).
+    HillType,
+}
+
 impl Default for DamageSpec {
     fn default() -> Self {
         DamageSpec::ThinFilmHole {
+            hole_size: default_hole_size(),
             hole_factor: default_hole_factor(),
+            oblique_footprint: None,
+            min_cos_incidence: default_min_cos(),
+            target_sound_speed_m_per_s: default_ct(),
+            particle_sound_speed_m_per_s: default_cp(),
         }
     }
 }
 
+impl DamageSpec {
+    /// The thin-film law with a constant round hole `hole_factor × d_p` (the former default).
+    pub fn constant_hole(hole_factor: f64) -> Self {
+        DamageSpec::ThinFilmHole {
+            hole_size: HoleSizeSpec::Constant,
+            hole_factor,
+            oblique_footprint: None,
+            min_cos_incidence: default_min_cos(),
+            target_sound_speed_m_per_s: default_ct(),
+            particle_sound_speed_m_per_s: default_cp(),
+        }
+    }
+}
+
+fn default_hole_size() -> HoleSizeSpec {
+    HoleSizeSpec::Constant
+}
 fn default_hole_factor() -> f64 {
     1.3
+}
+fn default_min_cos() -> f64 {
+    0.2
+}
+fn default_ct() -> f64 {
+    2500.0
+}
+fn default_cp() -> f64 {
+    5000.0
 }
 fn default_fraction() -> f64 {
     1.0 / 3.0
@@ -243,6 +409,15 @@ pub struct ClimberSpec {
     pub turnaround_hours: f64,
     /// Time to splice one segment on site, hours.
     pub splice_hours: f64,
+    /// Own (empty) mass of one climber, kg. Default 300 kg: an engineering assumption (no
+    /// source), of the order of the payload; the loaded climber's weight is
+    /// (mass_kg + payload_kg) x local effective gravity.
+    #[serde(default = "default_climber_mass")]
+    pub mass_kg: f64,
+}
+
+fn default_climber_mass() -> f64 {
+    300.0
 }
 
 /// How a cut is noticed.

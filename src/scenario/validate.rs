@@ -30,8 +30,12 @@ pub struct EnvironmentSettings {
     pub earth_focusing: bool,
     /// Moon shielding on.
     pub moon_shielding: bool,
+    /// Surface geometry of the Moon shielding factor.
+    pub moon_shielding_geometry: ShieldingGeometrySpec,
     /// Flux multiplier.
     pub flux_scale_factor: f64,
+    /// Lunar ejecta source, validated (`enabled` false: absent).
+    pub lunar_ejecta: LunarEjectaSpec,
 }
 
 /// The tether section in SI units.
@@ -73,6 +77,8 @@ pub struct TetherSettings {
     pub anchor_preload_n: f64,
     /// Traffic load envelope, N.
     pub traffic_load_n: f64,
+    /// Residual-strength model of a holed ribbon.
+    pub notch: crate::structure::notch::NotchModel,
 }
 
 /// A station in SI units.
@@ -103,6 +109,8 @@ pub struct RepairSettings {
     pub turnaround_s: f64,
     /// Splice duration, s.
     pub splice_s: f64,
+    /// Own mass of one climber, kg.
+    pub climber_mass_kg: f64,
     /// Detection model (hours as written; converted where used).
     pub detection: DetectionSpec,
     /// Resupply model.
@@ -337,8 +345,35 @@ fn validate_environment(
         moon_focusing: e.moon_focusing,
         earth_focusing: e.earth_focusing,
         moon_shielding: e.moon_shielding,
+        moon_shielding_geometry: e.moon_shielding_geometry,
         flux_scale_factor: scale,
+        lunar_ejecta: validate_ejecta(&e.lunar_ejecta)?,
     })
+}
+
+fn validate_ejecta(e: &LunarEjectaSpec) -> Result<LunarEjectaSpec, ScenarioError> {
+    check(
+        "environment.lunar_ejecta.flux_scale_factor",
+        e.flux_scale_factor,
+        Range::closed(0.0, 1.0),
+        "(dimensionless)",
+        "SP-8013 \"may overestimate\"; no published factor exists, 0.3 is the suggested base and 1 the published model",
+    )?;
+    check(
+        "environment.lunar_ejecta.hole_factor",
+        e.hole_factor,
+        Range::closed(1.0, 3.0),
+        "(dimensionless)",
+        "low-speed hole size is an assumption; 1.0 is the thin-film limit",
+    )?;
+    check(
+        "environment.lunar_ejecta.perforation_speed_m_per_s",
+        e.perforation_speed_m_per_s,
+        Range::closed(0.0, 1000.0),
+        "m/s",
+        "thin polymer films are perforated at tens of m/s",
+    )?;
+    Ok(e.clone())
 }
 
 fn validate_tether(t: &TetherSpec) -> Result<TetherSettings, ScenarioError> {
@@ -433,6 +468,7 @@ fn validate_tether(t: &TetherSpec) -> Result<TetherSettings, ScenarioError> {
         "g/cm^3",
         "",
     )?;
+    let notch = validate_notch(&t.material.notch_model)?;
     let mut knockdown = 1.0;
     for (name, &f) in &t.material.strength_knockdowns {
         knockdown *= check(
@@ -518,18 +554,96 @@ fn validate_tether(t: &TetherSpec) -> Result<TetherSettings, ScenarioError> {
         cross_link_mass_kg: cl_mass,
         anchor_preload_n: preload,
         traffic_load_n: traffic,
+        notch,
     })
+}
+
+fn validate_notch(
+    n: &NotchModelSpec,
+) -> Result<crate::structure::notch::NotchModel, ScenarioError> {
+    use crate::structure::notch::{NetSection, NotchModel, WhitneyNuismer, WnCriterion};
+    let base = "tether.material.notch_model";
+    let (criterion, length_mm, kt, fwc, basis) = match n {
+        NotchModelSpec::NetSection => return Ok(NotchModel::NetSection(NetSection)),
+        NotchModelSpec::PointStress {
+            characteristic_length_mm,
+            kt_infinite,
+            finite_width_correction,
+            basis,
+        } => (
+            WnCriterion::PointStress,
+            *characteristic_length_mm,
+            *kt_infinite,
+            *finite_width_correction,
+            basis,
+        ),
+        NotchModelSpec::AverageStress {
+            characteristic_length_mm,
+            kt_infinite,
+            finite_width_correction,
+            basis,
+        } => (
+            WnCriterion::AverageStress,
+            *characteristic_length_mm,
+            *kt_infinite,
+            *finite_width_correction,
+            basis,
+        ),
+    };
+    if basis.trim().is_empty() {
+        return Err(ScenarioError::Model {
+            path: format!("{base}.basis"),
+            message: "name the source of the notch parameters, or write \"engineering assumption\""
+                .into(),
+        });
+    }
+    WhitneyNuismer::new(criterion, length_mm * 1e-3, kt, fwc)
+        .map(NotchModel::WhitneyNuismer)
+        .map_err(|e| ScenarioError::OutOfRange {
+            path: format!("{base}.{}", e.field),
+            value: fmt_num(e.value),
+            allowed: e.range.clone(),
+            unit: e.unit.to_string(),
+            note: e.reason.to_string(),
+        })
 }
 
 fn validate_damage(d: &DamageSpec) -> Result<DamageSpec, ScenarioError> {
     match d {
-        DamageSpec::ThinFilmHole { hole_factor } => {
+        DamageSpec::ThinFilmHole {
+            hole_factor,
+            min_cos_incidence,
+            target_sound_speed_m_per_s,
+            particle_sound_speed_m_per_s,
+            ..
+        } => {
             check(
                 "damage.hole_factor",
                 *hole_factor,
                 Range::closed(1.0, 3.0),
                 "(dimensionless)",
                 "hole width over particle diameter; thin-film experiments suggest 1.0 to 1.7",
+            )?;
+            check(
+                "damage.min_cos_incidence",
+                *min_cos_incidence,
+                Range::open_closed(0.0, 1.0),
+                "(dimensionless)",
+                "cap on cos(theta) in the oblique elongation; 0.2 caps it at 5",
+            )?;
+            check(
+                "damage.target_sound_speed_m_per_s",
+                *target_sound_speed_m_per_s,
+                Range::open_closed(0.0, 20_000.0),
+                "m/s",
+                "",
+            )?;
+            check(
+                "damage.particle_sound_speed_m_per_s",
+                *particle_sound_speed_m_per_s,
+                Range::open_closed(0.0, 20_000.0),
+                "m/s",
+                "",
             )?;
         }
         DamageSpec::FractionOfWidth { fraction } => {
@@ -636,6 +750,13 @@ fn validate_repair(r: &RepairSpec, top_altitude_m: f64) -> Result<RepairSettings
         "h",
         "",
     )?;
+    let climber_mass = check(
+        "repair.climber.mass_kg",
+        c.mass_kg,
+        Range::closed(0.0, 1e7),
+        "kg",
+        "own mass of an empty climber",
+    )?;
     match &r.detection {
         DetectionSpec::Fixed { delay_hours } => {
             check(
@@ -721,6 +842,7 @@ fn validate_repair(r: &RepairSpec, top_altitude_m: f64) -> Result<RepairSettings
         payload_kg: payload,
         turnaround_s: turnaround * 3600.0,
         splice_s: splice * 3600.0,
+        climber_mass_kg: climber_mass,
         detection: r.detection.clone(),
         resupply: r.resupply.clone(),
         dispatch: r.dispatch,

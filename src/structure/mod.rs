@@ -9,8 +9,11 @@
 //! error in tension is far below the traffic envelope.
 
 pub mod load_sharing;
+pub mod notch;
 
 use thiserror::Error;
+
+use notch::{NotchModel, ResidualStrength};
 
 use crate::orbit::{EarthMoon, Side};
 
@@ -53,6 +56,8 @@ pub struct TetherDesign {
     pub anchor_preload_n: f64,
     /// Traffic envelope added to every bay's tension, N.
     pub traffic_load_n: f64,
+    /// Residual strength of a holed ribbon (net section, Whitney–Nuismer).
+    pub notch: NotchModel,
 }
 
 /// One bay: the stretch between two adjacent cross-links.
@@ -271,9 +276,34 @@ impl TetherProfile {
         self.bays[j].max_tension_n / (d.ribbon_count as f64 * self.bays[j].width_m * d.thickness_m)
     }
 
+    /// Load a ribbon of bay `j` with removed width `removed_m` carries at failure, N, under the
+    /// design's notch model (net section: `(w − D) t σ`).
+    #[inline]
+    pub fn ribbon_capacity_n(&self, j: usize, removed_m: f64) -> f64 {
+        let d = &self.design;
+        d.notch.capacity_n(
+            removed_m,
+            self.bays[j].width_m,
+            d.thickness_m * d.allowable_stress_pa,
+        )
+    }
+
+    /// Smallest removed width at which a ribbon of bay `j` carrying `load_n` fails, m, under
+    /// the design's notch model (net section: `w − load/(t σ)`, possibly negative when the
+    /// intact ribbon is already overloaded).
+    pub fn critical_removed_width_for_load_m(&self, j: usize, load_n: f64) -> f64 {
+        let d = &self.design;
+        d.notch.critical_removed_width_m(
+            load_n,
+            self.bays[j].width_m,
+            d.thickness_m * d.allowable_stress_pa,
+        )
+    }
+
     /// Critical hole width in bay `j` with `cuts` ribbons already cut, equal load sharing: the
-    /// removed width at which a surviving ribbon carrying T/(N-cuts) reaches the allowable
-    /// stress, w - T / ((N - cuts) t sigma). Zero means the survivors fail without any hole.
+    /// removed width at which a surviving ribbon carrying T/(N-cuts) fails under the design's
+    /// notch model (net section: w - T / ((N - cuts) t sigma)). Zero means the survivors fail
+    /// without any hole.
     pub fn critical_hole_width_m(&self, j: usize, cuts: usize) -> f64 {
         let d = &self.design;
         if cuts >= d.ribbon_count {
@@ -281,7 +311,7 @@ impl TetherProfile {
         }
         let per_ribbon = self.bays[j].max_tension_n / (d.ribbon_count - cuts) as f64;
         let w = self.bays[j].width_m;
-        let h = w - per_ribbon / (d.thickness_m * d.allowable_stress_pa);
+        let h = self.critical_removed_width_for_load_m(j, per_ribbon);
         // Same tolerance as the overload test: a survivor at its capacity fails without a hole.
         if h > w * load_sharing::CAPACITY_TOLERANCE {
             h

@@ -9,6 +9,7 @@ mod engine_validation;
 mod estimate;
 mod hole_rate;
 mod ondemand;
+mod physics;
 mod rare_event;
 mod repair;
 mod report;
