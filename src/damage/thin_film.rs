@@ -221,7 +221,7 @@ impl PerforationLaw for ThinFilmHoleLaw {
     /// speed bound ([`HoleSize::max_lateral_width_m`], non-decreasing in `d`) reaches
     /// `hole_width_m`, found by bisection in `ln d` and returned from below.
     fn min_diameter_for_hole_m(&self, hole_width_m: f64, target: &RibbonTarget) -> f64 {
-        if !(hole_width_m > 0.0) {
+        if hole_width_m.is_nan() || hole_width_m <= 0.0 {
             return 0.0;
         }
         if let (super::HoleFactorLaw::Constant { .. }, false) =

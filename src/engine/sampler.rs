@@ -354,7 +354,7 @@ impl StrikeSampler {
                     })
                     .collect();
                 let total_ej: f64 = per_bin.iter().sum();
-                if !(total_ej > 0.0) {
+                if total_ej.is_nan() || total_ej <= 0.0 {
                     continue;
                 }
                 let mut acc = 0.0;

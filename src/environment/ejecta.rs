@@ -149,7 +149,7 @@ impl LunarEjecta {
     /// Cumulative flux of bin `b` of particles of mass `>= mass_kg`, per m² per s (0 for a
     /// non-positive mass).
     pub fn bin_flux_per_m2_per_s(&self, b: usize, mass_kg: f64) -> f64 {
-        if !(mass_kg > 0.0) {
+        if mass_kg.is_nan() || mass_kg <= 0.0 {
             return 0.0;
         }
         let bin = &self.bins[b];

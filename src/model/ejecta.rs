@@ -50,7 +50,7 @@ impl EjectaSource {
         bays: &[(f64, f64)],
     ) -> Result<Self, ScenarioError> {
         let (lo, hi) = environment.scale_factor_range;
-        if !(scale_factor >= lo && scale_factor <= hi) {
+        if !(lo..=hi).contains(&scale_factor) {
             return Err(ScenarioError::OutOfRange {
                 path: "environment.lunar_ejecta.flux_scale_factor".into(),
                 value: scale_factor.to_string(),
@@ -60,7 +60,7 @@ impl EjectaSource {
             });
         }
         for (i, b) in environment.bins.iter().enumerate() {
-            if !(b.mass_exponent * 3.0 < -1.0) {
+            if (b.mass_exponent * 3.0).is_nan() || b.mass_exponent * 3.0 >= -1.0 {
                 return Err(ScenarioError::Model {
                     path: format!("flux_models/sp8013_lunar_ejecta.json bins[{i}].mass_exponent"),
                     message: format!(
@@ -102,7 +102,7 @@ impl EjectaSource {
     /// with diameter `>= floor_m`, per second (both faces, edge overlap; module docs).
     pub fn bin_rate_per_m_per_s(&self, j: usize, b: usize, width_m: f64, floor_m: f64) -> f64 {
         let f = self.reach[j][b] * self.scale_factor;
-        if f <= 0.0 || !(floor_m > 0.0) {
+        if f <= 0.0 || floor_m.is_nan() || floor_m <= 0.0 {
             return 0.0;
         }
         let e = &self.environment;
@@ -167,7 +167,7 @@ impl<'m> EjectaStrikes<'m> {
             for (b, bin) in e.bins.iter().enumerate() {
                 let share =
                     source.reach[j][b] * source.scale_factor * 10f64.powf(bin.log10_coefficient);
-                if !(share > 0.0) {
+                if share.is_nan() || share <= 0.0 {
                     continue;
                 }
                 total += share;
@@ -183,7 +183,7 @@ impl<'m> EjectaStrikes<'m> {
                     sub.push((v, len));
                     sub_total += len;
                 }
-                if !(sub_total > 0.0) {
+                if sub_total.is_nan() || sub_total <= 0.0 {
                     continue;
                 }
                 for (v, len) in sub {
@@ -220,12 +220,12 @@ impl crate::model::hole_rate::StrikeSource for EjectaStrikes<'_> {
     }
     fn flux_above_per_m2_per_s(&self, bay: usize, diameter_m: f64) -> f64 {
         let c = self.coefficient[bay];
-        if !(c > 0.0) {
+        if c.is_nan() || c <= 0.0 {
             return 0.0;
         }
         let rho = self.source.environment.particle_density_kg_per_m3;
         let m_g = mass_from_diameter_kg(diameter_m, rho).unwrap_or(0.0) * 1e3;
-        if !(m_g > 0.0) {
+        if m_g.is_nan() || m_g <= 0.0 {
             return 0.0;
         }
         c * m_g.powf(self.mass_exponent)
