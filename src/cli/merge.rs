@@ -332,7 +332,8 @@ pub fn run(a: Args) -> anyhow::Result<()> {
         names.push("flux_table.json".into());
     }
     names.extend(write_run(&a.out, &summary).map_err(io)?);
-    names.extend(write_design_and_estimate(&model, &a.out)?);
+    // Optional inputs of the report (checked by their own scenario hash), not listed.
+    write_design_and_estimate(&model, &a.out)?;
     super::report::render_run(&a.out)?;
     write_manifest(&a.out, &manifest, &names).map_err(io)?;
     match a.format {

@@ -464,7 +464,8 @@ pub fn execute(
     }
     names.extend(write_run(out_dir, &summary).map_err(io)?);
     if s.shard.is_none() {
-        names.extend(write_design_and_estimate(model, out_dir)?);
+        // Optional inputs of the report (checked by their own scenario hash), not listed.
+        write_design_and_estimate(model, out_dir)?;
         // A finished (or interrupted) whole run is a report by itself.
         super::report::render_run(out_dir)?;
     }

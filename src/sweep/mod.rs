@@ -512,6 +512,18 @@ pub fn run_sweep_resumable(
                 p.index, p.label
             )));
         }
+        let prob = |x: f64| x.is_finite() && (0.0..=1.0).contains(&x);
+        let sane = p.loss_probability.is_none_or(|l| {
+            prob(l.estimate) && prob(l.ci_low) && prob(l.ci_high) && l.ci_low <= l.ci_high
+        }) && p.losses.is_none_or(|l| l <= histories)
+            && p.masses
+                .is_none_or(|m| m.total_kg.is_finite() && m.total_kg >= 0.0);
+        if !sane {
+            return Err(SweepError::Spec(format!(
+                "saved point {} ({}) holds impossible values (a probability outside [0, 1], more losses than histories or a negative mass); delete its file to run it again",
+                p.index, p.label
+            )));
+        }
         let i = p.index;
         if slots[i].replace(p).is_some() {
             return Err(SweepError::Spec(format!("saved point {i} is given twice")));

@@ -7,6 +7,7 @@ mod commands;
 mod determinism;
 mod engine_validation;
 mod estimate;
+mod issue13;
 mod rare_event;
 mod repair;
 mod report;
