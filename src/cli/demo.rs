@@ -30,26 +30,18 @@ pub fn run(a: Args) -> anyhow::Result<()> {
     // The demo replaces its own earlier results (only the files it writes), under the lock.
     let _lock = super::output::lock_folder(dir)?;
     let clear = |e: std::io::Error| anyhow::anyhow!("cannot clear {}: {e}", dir.display());
-    tether_risk::report::folder::clear_run_outputs(dir).map_err(clear)?;
     tether_risk::report::folder::clear_sweep_outputs(&dir.join("sweep")).map_err(clear)?;
     let write = |name: &str, text: &str| -> anyhow::Result<()> {
         write_atomic(&dir.join(name), text.as_bytes())
             .map_err(|e| anyhow::anyhow!("cannot write {name}: {e}"))
     };
-    write("scenario.json", scenario::DEMO_SCENARIO_JSON)?;
     let model = Model::build(scenario::demo())?;
 
     print("1/3 design check\n")?;
     let design = DesignSummary::from_model(&model);
-    write("design.txt", &design.to_text())?;
 
     print("2/3 tether profile\n")?;
     let profile = ProfileSummary::from_model(&model);
-    write("profile.csv", &profile.table().to_csv())?;
-    write(
-        "profile.json",
-        &(serde_json::to_string_pretty(&profile)? + "\n"),
-    )?;
 
     print("3/3 Monte Carlo with repair\n")?;
     let settings = RunSettingsFile {
@@ -61,7 +53,15 @@ pub fn run(a: Args) -> anyhow::Result<()> {
         target_rel_error: None,
         stockout_target: 0.05,
     };
+    // The run replaces the folder's earlier results when its own are ready; the demo's extra
+    // files follow it.
     let summary = execute(&model, &settings, a.threads, dir, None, None)?;
+    write("design.txt", &design.to_text())?;
+    write("profile.csv", &profile.table().to_csv())?;
+    write(
+        "profile.json",
+        &(serde_json::to_string_pretty(&profile)? + "\n"),
+    )?;
     let text = run_text(&summary);
     write("simulate.txt", &text)?;
     print(&format!(

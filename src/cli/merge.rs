@@ -164,7 +164,8 @@ pub fn run(a: Args) -> anyhow::Result<()> {
             .into())
         }
     };
-    let mut seen = vec![false; count as usize];
+    // A set, not a vector of `count` flags: a shard count can be as large as the batch count.
+    let mut seen = std::collections::BTreeSet::new();
     for (d, s, st) in &parts {
         let same = s.scenario_hash == first.scenario_hash
             && s.version == first.version
@@ -207,12 +208,20 @@ pub fn run(a: Args) -> anyhow::Result<()> {
             ))
             .into());
         }
-        if std::mem::replace(&mut seen[i as usize], true) {
+        if !seen.insert(i) {
             return Err(InputError(format!("shard {i}/{n} is given twice")).into());
         }
     }
-    if let Some(missing) = seen.iter().position(|s| !s) {
-        return Err(InputError(format!("shard {missing}/{count} is missing")).into());
+    if (seen.len() as u64) < count {
+        let missing = (0..count)
+            .zip(seen.iter().copied().chain(std::iter::repeat(u64::MAX)))
+            .find(|(want, have)| want != have)
+            .map_or(0, |(want, _)| want);
+        return Err(InputError(format!(
+            "shard {missing}/{count} is missing ({} of {count} given)",
+            seen.len()
+        ))
+        .into());
     }
     let model = model_from_dir(first_dir)?;
     if model.scenario.hash_hex() != first.scenario_hash {
@@ -316,6 +325,7 @@ pub fn run(a: Args) -> anyhow::Result<()> {
     let io =
         |e: std::io::Error| anyhow::anyhow!("cannot write results to {}: {e}", a.out.display());
     retract_manifest(&a.out).map_err(io)?;
+    tether_risk::report::folder::clear_run_outputs(&a.out).map_err(io)?;
     let mut names = vec!["scenario.json".to_string(), "settings.json".to_string()];
     write_atomic(
         &a.out.join("scenario.json"),

@@ -98,7 +98,7 @@ pub struct RunSettingsFile {
 }
 
 /// Largest shard count accepted.
-pub const MAX_SHARDS: u64 = 1_000_000;
+pub const MAX_SHARDS: u64 = 1_000_000_000;
 
 impl RunSettingsFile {
     /// Check settings read back from disk (settings.json, a checkpoint) as strictly as the
@@ -430,7 +430,10 @@ pub fn execute(
     let io =
         |e: std::io::Error| anyhow::anyhow!("cannot write results to {}: {e}", out_dir.display());
     // The manifest goes first and comes back last: in between the folder says it is incomplete.
+    // The earlier results (of a --force run or of the interrupted part) are removed only now,
+    // when the new ones are ready: a run killed before this point leaves them standing.
     retract_manifest(out_dir).map_err(io)?;
+    tether_risk::report::folder::clear_run_outputs(out_dir).map_err(io)?;
     let mut names = vec!["scenario.json".to_string(), "settings.json".to_string()];
     write_atomic(
         &out_dir.join("scenario.json"),
@@ -502,9 +505,9 @@ pub fn write_design_and_estimate(model: &Model, dir: &Path) -> anyhow::Result<Ve
     Ok(names)
 }
 
-/// Lock an output folder and refuse to overwrite results in it unless forced; with `force`,
-/// the files an earlier run wrote (and only those) are removed. The lock is held until the
-/// returned guard is dropped.
+/// Lock an output folder and refuse to overwrite results in it unless forced. With `force`,
+/// the files an earlier run wrote (and only those) are removed by [`execute`] when the new
+/// results are ready to be written. The lock is held until the returned guard is dropped.
 pub fn prepare_out_dir(dir: &Path, force: bool) -> anyhow::Result<RunLock> {
     let lock = lock_folder(dir)?;
     let held = ["summary.json", "manifest.json", "checkpoint.json"]
@@ -518,12 +521,6 @@ pub fn prepare_out_dir(dir: &Path, force: bool) -> anyhow::Result<RunLock> {
             ))
             .into());
         }
-        tether_risk::report::folder::clear_run_outputs(dir).map_err(|e| {
-            anyhow::anyhow!(
-                "cannot remove the earlier results in {}: {e}",
-                dir.display()
-            )
-        })?;
     }
     Ok(lock)
 }

@@ -282,12 +282,10 @@ pub fn run(a: Args) -> anyhow::Result<()> {
     };
     let io = |e: std::io::Error| anyhow::anyhow!("cannot write to {}: {e}", out_dir.display());
     retract_manifest(&out_dir).map_err(io)?;
-    write_atomic(
-        &out_dir.join("sweep_plan.json"),
-        (serde_json::to_string_pretty(&plan)? + "\n").as_bytes(),
-    )
-    .map_err(io)?;
-    std::fs::create_dir_all(out_dir.join("points")).map_err(io)?;
+    let plan_json = serde_json::to_string_pretty(&plan)? + "\n";
+    // The plan is written with the first finished point: a grid refused before any point ran
+    // leaves nothing behind.
+    let mut plan_written = false;
     if !done.is_empty() {
         eprintln!("resuming: {} points already done", done.len());
     }
@@ -300,6 +298,17 @@ pub fn run(a: Args) -> anyhow::Result<()> {
         eprintln!("point {}/{n} {}: {what}", p.index + 1, p.label);
         // Each finished point is kept at once, atomically: an interrupted sweep loses at most
         // the point in progress.
+        let fail = |what: &Path, e: std::io::Error| SweepError::Run {
+            label: p.label.clone(),
+            message: format!("cannot write {}: {e}", what.display()),
+        };
+        if !plan_written {
+            let pp = out_dir.join("sweep_plan.json");
+            write_atomic(&pp, plan_json.as_bytes()).map_err(|e| fail(&pp, e))?;
+            let pd = out_dir.join("points");
+            std::fs::create_dir_all(&pd).map_err(|e| fail(&pd, e))?;
+            plan_written = true;
+        }
         let json = serde_json::to_string_pretty(p).map_err(|e| SweepError::Spec(e.to_string()))?;
         let path = point_path(&out_dir, p.index);
         write_atomic(&path, (json + "\n").as_bytes()).map_err(|e| SweepError::Run {

@@ -439,6 +439,26 @@ pub fn write_report_with(
         })?;
         written.push(path);
     }
+    // Outputs of an earlier rendering that this one does not produce (a comparison without
+    // estimate.json now, a chart of a station that no longer exists) must not stay behind
+    // looking current.
+    let mut stale: Vec<PathBuf> = vec![dir.join("markov_vs_monte_carlo.csv")];
+    if let Ok(entries) = std::fs::read_dir(&plots) {
+        stale.extend(
+            entries
+                .flatten()
+                .map(|e| e.path())
+                .filter(|p| p.extension().is_some_and(|x| x == "png" || x == "svg")),
+        );
+    }
+    for p in stale {
+        if !written.contains(&p) && p.is_file() {
+            std::fs::remove_file(&p).map_err(|source| ReportError::Write {
+                path: p.clone(),
+                source,
+            })?;
+        }
+    }
     Ok(ReportWritten {
         html: dir.join("report.html"),
         files: written,
