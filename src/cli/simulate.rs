@@ -21,7 +21,7 @@ use super::Format;
 #[derive(clap::Args, Debug, Clone)]
 #[command(allow_negative_numbers = true)]
 #[command(
-    after_help = "Examples:\n  tether-risk simulate demo --histories 20000\n  tether-risk simulate my-tether.json --seed 7 --threads 2 --out out/run7 --format json\n  tether-risk simulate my-tether.json --rare-event 30 --histories 100000\n  tether-risk simulate my-tether.json --shard 0/3 --out out/part0   # then: tether-risk merge out/part* --out out/all\n  tether-risk simulate my-tether.json --target-rel-error 0.1 --histories 10000000\n\nWrites summary.json, manifest.json, scenario.json and tables (CSV, Markdown) into the output\nfolder. Ctrl-C finishes the current chunk of batches, writes partial results and a checkpoint,\nand exits with code 130; --resume DIR continues it."
+    after_help = "Examples:\n  tether-risk simulate demo --histories 20000\n  tether-risk simulate my-tether.json --seed 7 --threads 2 --out out/run7 --format json\n  tether-risk simulate my-tether.json --rare-event 30 --histories 100000\n  tether-risk simulate my-tether.json --shard 0/3 --out out/part0   # then: tether-risk merge out/part* --out out/all\n  tether-risk simulate my-tether.json --target-rel-error 0.1 --histories 10000000\n\nWrites summary.json, scenario.json, settings.json, tables (CSV, Markdown), design.json,\nestimate.json, the failure tables, plots and report.html into the output folder, and\nmanifest.json last (the list of a complete run's files). The folder is locked while a run\nwrites it. Ctrl-C finishes the current chunk of batches, writes partial results and a checkpoint,\nand exits with code 130; --resume DIR continues it."
 )]
 pub struct Args {
     /// Scenario file (JSON); `-` reads standard input; `demo` is the built-in scenario.

@@ -530,8 +530,8 @@ pub fn run_sweep_resumable(
         }
     }
     let stopped = || stop.is_some_and(|f| f.load(std::sync::atomic::Ordering::SeqCst));
-    for index in 0..count {
-        if slots[index].is_some() {
+    for (index, slot) in slots.iter_mut().enumerate() {
+        if slot.is_some() {
             continue;
         }
         if stopped() {
@@ -552,7 +552,7 @@ pub fn run_sweep_resumable(
             break;
         };
         on_point(&p, count)?;
-        slots[index] = Some(p);
+        *slot = Some(p);
     }
     let finished = slots.iter().filter(|p| p.is_some()).count();
     if finished < count {
@@ -705,6 +705,9 @@ fn infeasible(p: &mut PointResult, reason: String) -> PointResult {
     p.clone()
 }
 
+// The run settings travel as separate values on purpose: the point's index and coordinates
+// vary, the rest is shared by every point.
+#[allow(clippy::too_many_arguments)]
 fn evaluate_point(
     canonical: &Value,
     axes: &[AxisResult],
