@@ -2,10 +2,8 @@
 
 use std::path::PathBuf;
 
-use tether_risk::model::markov::{mission_times_s, MarkovModel};
 use tether_risk::model::Model;
 use tether_risk::report::design::{DesignSummary, ProfileSummary};
-use tether_risk::report::estimate::EstimateSummary;
 use tether_risk::report::run::run_text;
 use tether_risk::report::write_atomic;
 use tether_risk::scenario;
@@ -29,30 +27,21 @@ pub struct Args {
 
 pub fn run(a: Args) -> anyhow::Result<()> {
     let dir = &a.out;
-    std::fs::create_dir_all(dir)
-        .map_err(|e| anyhow::anyhow!("cannot create {}: {e}", dir.display()))?;
+    // The demo replaces its own earlier results (only the files it writes), under the lock.
+    let _lock = super::output::lock_folder(dir)?;
+    let clear = |e: std::io::Error| anyhow::anyhow!("cannot clear {}: {e}", dir.display());
+    tether_risk::report::folder::clear_sweep_outputs(&dir.join("sweep")).map_err(clear)?;
     let write = |name: &str, text: &str| -> anyhow::Result<()> {
         write_atomic(&dir.join(name), text.as_bytes())
             .map_err(|e| anyhow::anyhow!("cannot write {name}: {e}"))
     };
-    write("scenario.json", scenario::DEMO_SCENARIO_JSON)?;
     let model = Model::build(scenario::demo())?;
 
     print("1/3 design check\n")?;
     let design = DesignSummary::from_model(&model);
-    write("design.txt", &design.to_text())?;
-    write(
-        "design.json",
-        &(serde_json::to_string_pretty(&design)? + "\n"),
-    )?;
 
     print("2/3 tether profile\n")?;
     let profile = ProfileSummary::from_model(&model);
-    write("profile.csv", &profile.table().to_csv())?;
-    write(
-        "profile.json",
-        &(serde_json::to_string_pretty(&profile)? + "\n"),
-    )?;
 
     print("3/3 Monte Carlo with repair\n")?;
     let settings = RunSettingsFile {
@@ -65,7 +54,15 @@ pub fn run(a: Args) -> anyhow::Result<()> {
         stockout_target: 0.05,
         sampler: tether_risk::engine::Sampler::OnDemand,
     };
+    // The run replaces the folder's earlier results when its own are ready; the demo's extra
+    // files follow it.
     let summary = execute(&model, &settings, a.threads, dir, None, None, false)?;
+    write("design.txt", &design.to_text())?;
+    write("profile.csv", &profile.table().to_csv())?;
+    write(
+        "profile.json",
+        &(serde_json::to_string_pretty(&profile)? + "\n"),
+    )?;
     let text = run_text(&summary);
     write("simulate.txt", &text)?;
     print(&format!(
@@ -76,12 +73,13 @@ pub fn run(a: Args) -> anyhow::Result<()> {
 
     sweep_spacing(a.threads, dir)?;
 
-    // Keep this last: the report reads every file the steps above wrote.
-    estimate_and_report(&model, dir)
+    // Keep this last: the report reads every file the steps above wrote (the simulation
+    // wrote design.json, estimate.json and the manifest).
+    print("Report\n")?;
+    let written = super::report::render(dir)?;
+    print(&format!("Report: {}\n", written.html.display()))
 }
 
-/// Write the Markov estimate (`estimate.json`) beside the Monte Carlo, then render the failure
-/// tables, charts and report.html from the folder.
 /// A small trade study of cross-link spacing and ribbon count, into `sweep/` (the report picks it
 /// up). Fewer histories than the main run: it shows the method and the mass trade.
 fn sweep_spacing(threads: usize, dir: &std::path::Path) -> anyhow::Result<()> {
@@ -109,19 +107,4 @@ fn sweep_spacing(threads: usize, dir: &std::path::Path) -> anyhow::Result<()> {
         .map_err(|e| anyhow::anyhow!("cannot create {}: {e}", sdir.display()))?;
     tether_risk::report::sweep::write_sweep(&sdir, &result)?;
     Ok(())
-}
-
-fn estimate_and_report(model: &Model, dir: &std::path::Path) -> anyhow::Result<()> {
-    print("Markov estimate\n")?;
-    let markov = MarkovModel::build(model)?;
-    let estimate = markov.solve(&mission_times_s(&model.scenario.run))?;
-    let summary = EstimateSummary::new(model, &markov, &estimate);
-    write_atomic(
-        &dir.join("estimate.json"),
-        (serde_json::to_string_pretty(&summary)? + "\n").as_bytes(),
-    )
-    .map_err(|e| anyhow::anyhow!("cannot write estimate.json: {e}"))?;
-    print("Report\n")?;
-    let written = super::report::render(dir)?;
-    print(&format!("Report: {}\n", written.html.display()))
 }

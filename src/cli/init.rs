@@ -21,6 +21,25 @@ pub struct Args {
 }
 
 pub fn run(a: Args) -> anyhow::Result<()> {
+    // Only a regular file may be replaced (it keeps its permissions): a device, FIFO, folder
+    // or symbolic link is refused even with --force.
+    match std::fs::symlink_metadata(&a.file) {
+        Ok(m) if !m.is_file() => {
+            let what = if m.file_type().is_symlink() {
+                "a symbolic link"
+            } else if m.is_dir() {
+                "a folder"
+            } else {
+                "not a regular file (a device, FIFO or socket)"
+            };
+            return Err(InputError(format!(
+                "{} is {what}; init writes only a new file or replaces a regular one, even with --force",
+                a.file.display()
+            ))
+            .into());
+        }
+        _ => {}
+    }
     if a.file.exists() && !a.force {
         return Err(InputError(format!(
             "{} already exists; choose another name or pass --force to overwrite it",

@@ -34,3 +34,15 @@ pub struct Interrupted(pub String);
 #[derive(Debug, thiserror::Error)]
 #[error("interrupted: {0}")]
 pub struct Stopped(pub String);
+
+/// A sweep stopped by a signal (exit code 130); its finished points are kept.
+#[derive(Debug, thiserror::Error)]
+#[error("interrupted: {done} of {total} sweep points are finished and kept in {dir}/points; continue with `tether-risk sweep --resume {dir}`")]
+pub struct SweepInterrupted {
+    /// The sweep folder.
+    pub dir: String,
+    /// Points finished.
+    pub done: usize,
+    /// Points in the grid.
+    pub total: usize,
+}

@@ -3,14 +3,20 @@
 //! Tallies are integer counts (and per-batch weighted sums folded in batch order), so the merged
 //! summary is bit-identical to a single run with the same scenario, seed and histories.
 
-use std::path::PathBuf;
+use std::path::{Path, PathBuf};
 
-use tether_risk::engine::{RunStatus, RunSummary, Tally};
-use tether_risk::report::run::{crate_versions, run_text, write_run, Manifest};
+use tether_risk::engine::{Engine, RunOptions, RunStatus, RunSummary, Tally};
+use tether_risk::report::folder::{check_listed_files, validate_summary, FileEntry};
+use tether_risk::report::run::{
+    crate_versions, retract_manifest, run_text, write_manifest, write_run, Manifest,
+};
 use tether_risk::report::write_atomic;
 
-use super::output::{print, InputError};
-use super::simulate::{engine_for, model_from_dir, prepare_out_dir, RunSettingsFile};
+use super::output::{command_line, print, InputError};
+use super::simulate::{
+    check_tally_shape, engine_for, model_from_dir, prepare_out_dir, read_run_file,
+    write_design_and_estimate, RunSettingsFile,
+};
 use super::Format;
 
 /// Arguments of `merge`.
@@ -34,8 +40,7 @@ pub struct Args {
 }
 
 fn read_json<T: serde::de::DeserializeOwned>(path: &std::path::Path) -> anyhow::Result<T> {
-    let text = std::fs::read_to_string(path)
-        .map_err(|e| InputError(format!("cannot read {}: {e}", path.display())))?;
+    let text = read_run_file(path)?;
     Ok(serde_json::from_str(&text).map_err(|e| {
         InputError(format!(
             "{} is not a result file of this version: {e}",
@@ -44,8 +49,92 @@ fn read_json<T: serde::de::DeserializeOwned>(path: &std::path::Path) -> anyhow::
     })?)
 }
 
+/// A shard folder must be complete: a manifest (written last) whose files are all there.
+fn check_complete(d: &Path) -> anyhow::Result<()> {
+    let m: serde_json::Value = read_json(&d.join("manifest.json")).map_err(|_| {
+        InputError(format!(
+            "{} has no readable manifest.json: the shard run did not finish writing; rerun or resume it",
+            d.display()
+        ))
+    })?;
+    let files: Vec<FileEntry> = m
+        .get("files")
+        .cloned()
+        .map(serde_json::from_value)
+        .transpose()
+        .map_err(|e| InputError(format!("{}/manifest.json: files: {e}", d.display())))?
+        .unwrap_or_default();
+    let problems = check_listed_files(d, &files);
+    if !problems.is_empty() {
+        return Err(InputError(format!(
+            "{} is not a complete shard folder: {}",
+            d.display(),
+            problems.join("; ")
+        ))
+        .into());
+    }
+    Ok(())
+}
+
+/// The merge with every addition checked, so that tampered counts cannot wrap around.
+fn sums_fit(parts: &[&Tally]) -> bool {
+    fn vec_fit(vs: &[&Vec<u64>]) -> bool {
+        let n = vs.iter().map(|v| v.len()).max().unwrap_or(0);
+        (0..n).all(|i| {
+            vs.iter()
+                .try_fold(0u64, |a, v| a.checked_add(v.get(i).copied().unwrap_or(0)))
+                .is_some()
+        })
+    }
+    fn scalar_fit(mut xs: impl Iterator<Item = u64>) -> bool {
+        xs.try_fold(0u64, |a, b| a.checked_add(b)).is_some()
+    }
+    let all = |f: &dyn Fn(&Tally) -> u64| scalar_fit(parts.iter().map(|t| f(t)));
+    let vecs =
+        |f: &dyn Fn(&Tally) -> &Vec<u64>| vec_fit(&parts.iter().map(|t| f(t)).collect::<Vec<_>>());
+    let stations = parts.first().map_or(0, |t| t.repair.demand_mission.len());
+    all(&|t| t.histories)
+        && all(&|t| t.losses)
+        && all(&|t| t.cuts)
+        && parts
+            .iter()
+            .try_fold(0u128, |a, t| a.checked_add(t.cuts_sq))
+            .is_some()
+        && all(&|t| t.cascade_cuts)
+        && all(&|t| t.strikes)
+        && all(&|t| t.subcritical_holes)
+        && all(&|t| t.time_with_cut_bay_s)
+        && all(&|t| t.time_observed_s)
+        && all(&|t| t.anomalies)
+        && (0..3).all(|k| all(&|t| t.losses_by_cause[k]))
+        && vecs(&|t| &t.losses_by_year)
+        && vecs(&|t| &t.losses_by_band)
+        && vecs(&|t| &t.cuts_by_band)
+        && vecs(&|t| &t.cuts_by_year)
+        && vecs(&|t| &t.max_cuts_in_bay)
+        && all(&|t| t.repair.splices)
+        && all(&|t| t.repair.time_to_splice_sum_s)
+        && all(&|t| t.repair.queue_arrivals)
+        && all(&|t| t.repair.queue_wait_sum_s)
+        && all(&|t| t.repair.queue_area_s)
+        && all(&|t| t.repair.busy_s)
+        && vecs(&|t| &t.repair.splices_by_year)
+        && vecs(&|t| &t.repair.time_to_splice_hist)
+        && vecs(&|t| &t.repair.stockout_histories)
+        && vecs(&|t| &t.repair.stockout_events)
+        && (0..stations).all(|k| {
+            vecs(&|t| &t.repair.demand_mission[k])
+                && vecs(&|t| &t.repair.demand_interval[k])
+                && vecs(&|t| &t.repair.demand_max_interval[k])
+        })
+}
+
 pub fn run(a: Args) -> anyhow::Result<()> {
-    let mut parts: Vec<(RunSummary, RunSettingsFile)> = Vec::new();
+    let bad = |d: &Path, what: &str, e: String| -> anyhow::Error {
+        InputError(format!("{}/{what} is damaged: {e}", d.display())).into()
+    };
+    // Everything read back from disk is checked before it is used, like scenario input.
+    let mut parts: Vec<(PathBuf, RunSummary, RunSettingsFile)> = Vec::new();
     let stop = super::interrupt::flag();
     let bar = indicatif::ProgressBar::new(a.dirs.len() as u64);
     bar.set_style(
@@ -61,37 +150,51 @@ pub fn run(a: Args) -> anyhow::Result<()> {
             );
         }
         bar.inc(1);
-        parts.push((
-            read_json(&d.join("summary.json"))?,
-            read_json(&d.join("settings.json"))?,
-        ));
+        check_complete(d)?;
+        let s: RunSummary = read_json(&d.join("summary.json"))?;
+        validate_summary(&s).map_err(|e| bad(d, "summary.json", e))?;
+        let st: RunSettingsFile = read_json(&d.join("settings.json"))?;
+        st.validate().map_err(|e| bad(d, "settings.json", e))?;
+        parts.push((d.clone(), s, st));
     }
     bar.finish_and_clear();
-    let (first, first_settings) = &parts[0];
+    let out_abs = std::fs::canonicalize(&a.out).ok();
+    for d in &a.dirs {
+        if out_abs.is_some() && std::fs::canonicalize(d).ok() == out_abs {
+            return Err(InputError(format!(
+                "--out {} is one of the shard folders; merge into a new folder",
+                a.out.display()
+            ))
+            .into());
+        }
+    }
+    let (first_dir, first, first_settings) = (&parts[0].0, &parts[0].1, &parts[0].2);
     let count = match first_settings.shard {
         Some((_, n)) => n,
         None => {
             return Err(InputError(format!(
                 "{} is not a shard result (it was run without --shard)",
-                a.dirs[0].display()
+                first_dir.display()
             ))
             .into())
         }
     };
-    let mut seen = vec![false; count as usize];
-    for ((s, st), d) in parts.iter().zip(&a.dirs) {
+    // A set, not a vector of `count` flags: a shard count can be as large as the batch count.
+    let mut seen = std::collections::BTreeSet::new();
+    for (d, s, st) in &parts {
         let same = s.scenario_hash == first.scenario_hash
             && s.version == first.version
             && st.seed == first_settings.seed
             && st.histories == first_settings.histories
             && st.floor_fraction == first_settings.floor_fraction
             && st.rare_event == first_settings.rare_event
-            && st.stockout_target == first_settings.stockout_target;
+            && st.stockout_target == first_settings.stockout_target
+            && st.target_rel_error == first_settings.target_rel_error;
         if !same {
             return Err(InputError(format!(
-                "{} belongs to a different run (scenario, version, seed, histories or settings differ from {})",
+                "{} belongs to a different run (scenario hash, version, seed, histories or settings differ from {})",
                 d.display(),
-                a.dirs[0].display()
+                first_dir.display()
             ))
             .into());
         }
@@ -105,6 +208,13 @@ pub fn run(a: Args) -> anyhow::Result<()> {
             ))
             .into());
         }
+        if s.shard != Some([i, n]) || s.seed != st.seed {
+            return Err(bad(
+                d,
+                "summary.json",
+                format!("it says shard {:?}, settings.json says [{i}, {n}]", s.shard),
+            ));
+        }
         if s.status != RunStatus::Complete {
             return Err(InputError(format!(
                 "{} did not complete ({:?}); resume it before merging",
@@ -113,27 +223,92 @@ pub fn run(a: Args) -> anyhow::Result<()> {
             ))
             .into());
         }
-        if std::mem::replace(&mut seen[i as usize], true) {
+        if !seen.insert(i) {
             return Err(InputError(format!("shard {i}/{n} is given twice")).into());
         }
     }
-    if let Some(missing) = seen.iter().position(|s| !s) {
-        return Err(InputError(format!("shard {missing}/{count} is missing")).into());
+    if (seen.len() as u64) < count {
+        let missing = (0..count)
+            .zip(seen.iter().copied().chain(std::iter::repeat(u64::MAX)))
+            .find(|(want, have)| want != have)
+            .map_or(0, |(want, _)| want);
+        return Err(InputError(format!(
+            "shard {missing}/{count} is missing ({} of {count} given)",
+            seen.len()
+        ))
+        .into());
     }
-    let model = model_from_dir(&a.dirs[0])?;
+    let model = model_from_dir(first_dir)?;
     if model.scenario.hash_hex() != first.scenario_hash {
         return Err(InputError(format!(
             "{}/scenario.json does not match its summary",
-            a.dirs[0].display()
+            first_dir.display()
         ))
         .into());
     }
     let mut settings = first_settings.clone();
     settings.shard = None;
     let engine = engine_for(&model, &settings)?;
+    for (d, s, st) in &parts {
+        check_tally_shape(&engine, &s.tally).map_err(|e| bad(d, "summary.json", e))?;
+        let batches = Engine::batches_of(&RunOptions {
+            histories: st.histories,
+            seed: st.seed,
+            threads: 1,
+            floor_fraction: st.floor_fraction,
+            shard: st.shard,
+            target_rel_error: None,
+        });
+        if s.tally.histories != batches.histories() || s.histories != batches.histories() {
+            return Err(bad(
+                d,
+                "summary.json",
+                format!(
+                    "it holds {} histories; shard {:?} of {} histories has {}",
+                    s.tally.histories,
+                    st.shard,
+                    st.histories,
+                    batches.histories()
+                ),
+            ));
+        }
+        let (start, step) = st.shard.unwrap_or((0, 1));
+        let total = st.histories.div_ceil(tether_risk::engine::BATCH_SIZE);
+        if let Some(w) = s
+            .tally
+            .weighted
+            .iter()
+            .find(|w| w.batch < start || (w.batch - start) % step != 0 || w.batch >= total)
+        {
+            return Err(bad(
+                d,
+                "summary.json",
+                format!(
+                    "tally.weighted names batch {}, which is not in this shard",
+                    w.batch
+                ),
+            ));
+        }
+    }
+    // Order-independent: shards in index order, rare-event records in batch order.
+    parts.sort_by_key(|(_, _, st)| st.shard.map_or(0, |(i, _)| i));
+    let tallies: Vec<&Tally> = parts.iter().map(|(_, s, _)| &s.tally).collect();
+    if !sums_fit(&tallies) {
+        return Err(InputError(
+            "the shards' counts add up beyond 2^64: at least one summary.json is damaged".into(),
+        )
+        .into());
+    }
     let mut tally: Tally = engine.empty_tally();
-    for (s, _) in &parts {
-        tally.merge(&s.tally);
+    for t in &tallies {
+        tally.merge(t);
+    }
+    tally.weighted.sort_by_key(|w| w.batch);
+    if tally.weighted.windows(2).any(|w| w[0].batch == w[1].batch) {
+        return Err(InputError(
+            "two shards hold the same rare-event batch: the shard folders overlap".into(),
+        )
+        .into());
     }
     let summary = RunSummary::from_outcome(
         &engine,
@@ -145,7 +320,7 @@ pub fn run(a: Args) -> anyhow::Result<()> {
         RunStatus::Complete,
         settings.target_rel_error,
     );
-    prepare_out_dir(&a.out, a.force)?;
+    let _lock = prepare_out_dir(&a.out, a.force)?;
     let manifest = Manifest {
         tool: "tether-risk".into(),
         version: tether_risk::VERSION.into(),
@@ -159,10 +334,14 @@ pub fn run(a: Args) -> anyhow::Result<()> {
         crate_versions: crate_versions(),
         random_streams: "Pcg64Mcg per (seed, purpose, history), seeded through SplitMix64".into(),
         wall_time_s: 0.0,
-        command: std::env::args().collect(),
+        command: command_line(),
+        files: Vec::new(),
     };
     let io =
         |e: std::io::Error| anyhow::anyhow!("cannot write results to {}: {e}", a.out.display());
+    retract_manifest(&a.out).map_err(io)?;
+    tether_risk::report::folder::clear_run_outputs(&a.out).map_err(io)?;
+    let mut names = vec!["scenario.json".to_string(), "settings.json".to_string()];
     write_atomic(
         &a.out.join("scenario.json"),
         (serde_json::to_string_pretty(&model.scenario.spec)? + "\n").as_bytes(),
@@ -173,7 +352,15 @@ pub fn run(a: Args) -> anyhow::Result<()> {
         (serde_json::to_string_pretty(&settings)? + "\n").as_bytes(),
     )
     .map_err(io)?;
-    write_run(&a.out, &summary, &manifest).map_err(io)?;
+    if let Some(t) = &model.scenario.environment.flux_table_json {
+        write_atomic(&a.out.join("flux_table.json"), t.as_bytes()).map_err(io)?;
+        names.push("flux_table.json".into());
+    }
+    names.extend(write_run(&a.out, &summary).map_err(io)?);
+    // Optional inputs of the report (checked by their own scenario hash), not listed.
+    write_design_and_estimate(&model, &a.out)?;
+    super::report::render_run(&a.out)?;
+    write_manifest(&a.out, &manifest, &names).map_err(io)?;
     match a.format {
         Format::Json => print(&(serde_json::to_string_pretty(&summary)? + "\n")),
         _ => print(&format!(

@@ -39,6 +39,8 @@ pub fn report_error(e: &anyhow::Error) -> i32 {
     if e.chain().any(|c| {
         c.downcast_ref::<super::interrupt::Interrupted>().is_some()
             || c.downcast_ref::<super::interrupt::Stopped>().is_some()
+            || c.downcast_ref::<super::interrupt::SweepInterrupted>()
+                .is_some()
     }) {
         return 130;
     }
@@ -53,3 +55,22 @@ pub fn report_error(e: &anyhow::Error) -> i32 {
 #[derive(Debug, thiserror::Error)]
 #[error("{0}")]
 pub struct InputError(pub String);
+
+/// Take the exclusive lock of an output folder (creating the folder); a folder in use by
+/// another live run is a clear error with exit code 2.
+pub fn lock_folder(dir: &std::path::Path) -> anyhow::Result<tether_risk::report::folder::RunLock> {
+    std::fs::create_dir_all(dir)
+        .map_err(|e| anyhow::anyhow!("cannot create output folder {}: {e}", dir.display()))?;
+    tether_risk::report::folder::RunLock::acquire(dir).map_err(|e| match e {
+        tether_risk::report::folder::LockError::Held { .. } => InputError(e.to_string()).into(),
+        other => anyhow::Error::new(other),
+    })
+}
+
+/// The command line as recorded in manifests: every argument kept, a non-UTF-8 one converted
+/// lossily for display (the paths themselves are used as given).
+pub fn command_line() -> Vec<String> {
+    std::env::args_os()
+        .map(|a| a.to_string_lossy().into_owned())
+        .collect()
+}

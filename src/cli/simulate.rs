@@ -9,18 +9,21 @@ use tether_risk::engine::{
     Checkpoint, Engine, LogEvent, RunOptions, RunStatus, RunSummary, Sampler,
 };
 use tether_risk::model::Model;
-use tether_risk::report::run::{crate_versions, run_text, write_run, Manifest};
+use tether_risk::report::folder::RunLock;
+use tether_risk::report::run::{
+    crate_versions, retract_manifest, run_text, write_manifest, write_run, Manifest,
+};
 use tether_risk::report::write_atomic;
 use tether_risk::scenario::{self, Scenario};
 
-use super::output::{load_model, print, InputError};
+use super::output::{command_line, load_model, lock_folder, print, InputError};
 use super::Format;
 
 /// Arguments of `simulate`.
 #[derive(clap::Args, Debug, Clone)]
 #[command(allow_negative_numbers = true)]
 #[command(
-    after_help = "Examples:\n  tether-risk simulate demo --histories 20000\n  tether-risk simulate my-tether.json --seed 7 --threads 2 --out out/run7 --format json\n  tether-risk simulate my-tether.json --rare-event 30 --histories 100000\n  tether-risk simulate my-tether.json --shard 0/3 --out out/part0   # then: tether-risk merge out/part* --out out/all\n  tether-risk simulate my-tether.json --target-rel-error 0.1 --histories 10000000\n\nWrites summary.json, manifest.json, scenario.json and tables (CSV, Markdown) into the output\nfolder. Ctrl-C finishes the current chunk of batches, writes partial results and a checkpoint,\nand exits with code 130; --resume DIR continues it."
+    after_help = "Examples:\n  tether-risk simulate demo --histories 20000\n  tether-risk simulate my-tether.json --seed 7 --threads 2 --out out/run7 --format json\n  tether-risk simulate my-tether.json --rare-event 30 --histories 100000\n  tether-risk simulate my-tether.json --shard 0/3 --out out/part0   # then: tether-risk merge out/part* --out out/all\n  tether-risk simulate my-tether.json --target-rel-error 0.1 --histories 10000000\n\nWrites summary.json, scenario.json, settings.json, tables (CSV, Markdown), design.json,\nestimate.json, the failure tables, plots and report.html into the output folder, and\nmanifest.json last (the list of a complete run's files). The folder is locked while a run\nwrites it. Ctrl-C finishes the current chunk of batches, writes partial results and a checkpoint,\nand exits with code 130; --resume DIR continues it."
 )]
 pub struct Args {
     /// Scenario file (JSON); `-` reads standard input; `demo` is the built-in scenario.
@@ -129,6 +132,178 @@ fn every_strike() -> Sampler {
     Sampler::EveryStrike
 }
 
+/// Largest shard count accepted.
+pub const MAX_SHARDS: u64 = 1_000_000_000;
+
+impl RunSettingsFile {
+    /// Check settings read back from disk (settings.json, a checkpoint) as strictly as the
+    /// command line: every field in its range.
+    ///
+    /// # Errors
+    /// A message naming the field, its value and the allowed range.
+    pub fn validate(&self) -> Result<(), String> {
+        if !(1..=MAX_HISTORIES).contains(&self.histories) {
+            return Err(format!(
+                "histories = {} is out of range: allowed [1, 1e12]",
+                self.histories
+            ));
+        }
+        if let Some((i, n)) = self.shard {
+            if n == 0 || i >= n || n > MAX_SHARDS {
+                return Err(format!(
+                    "shard = [{i}, {n}] is not valid: allowed I/N with 0 <= I < N <= {MAX_SHARDS}"
+                ));
+            }
+        }
+        if !(self.floor_fraction > 0.0 && self.floor_fraction <= 1.0) {
+            return Err(format!(
+                "floor_fraction = {} is out of range: allowed (0, 1]",
+                self.floor_fraction
+            ));
+        }
+        if !(1.0..=1e6).contains(&self.rare_event) {
+            return Err(format!(
+                "rare_event = {} is out of range: allowed [1, 1e6]",
+                self.rare_event
+            ));
+        }
+        if !(self.stockout_target > 0.0 && self.stockout_target < 1.0) {
+            return Err(format!(
+                "stockout_target = {} is out of range: allowed (0, 1)",
+                self.stockout_target
+            ));
+        }
+        if let Some(t) = self.target_rel_error {
+            if !(t > 0.0 && t < 1.0) {
+                return Err(format!(
+                    "target_rel_error = {t} is out of range: allowed (0, 1)"
+                ));
+            }
+        }
+        Ok(())
+    }
+}
+
+/// Check that a tally read back from disk has the shape the model's tallies have (so merging
+/// it cannot index out of bounds) and holds counts that can be true.
+pub fn check_tally_shape(
+    engine: &Engine<'_>,
+    t: &tether_risk::engine::Tally,
+) -> Result<(), String> {
+    let e = engine.empty_tally();
+    let shape = |name: &str, got: usize, want: usize| {
+        if got == want {
+            Ok(())
+        } else {
+            Err(format!(
+                "{name} has {got} entries; this scenario has {want}"
+            ))
+        }
+    };
+    shape(
+        "tally.losses_by_year",
+        t.losses_by_year.len(),
+        e.losses_by_year.len(),
+    )?;
+    shape(
+        "tally.losses_by_band",
+        t.losses_by_band.len(),
+        e.losses_by_band.len(),
+    )?;
+    shape(
+        "tally.cuts_by_band",
+        t.cuts_by_band.len(),
+        e.cuts_by_band.len(),
+    )?;
+    shape(
+        "tally.cuts_by_year",
+        t.cuts_by_year.len(),
+        e.cuts_by_year.len(),
+    )?;
+    shape(
+        "tally.max_cuts_in_bay",
+        t.max_cuts_in_bay.len(),
+        e.max_cuts_in_bay.len(),
+    )?;
+    let (r, er) = (&t.repair, &e.repair);
+    shape(
+        "tally.repair.splices_by_year",
+        r.splices_by_year.len(),
+        er.splices_by_year.len(),
+    )?;
+    shape(
+        "tally.repair.time_to_splice_hist",
+        r.time_to_splice_hist.len(),
+        er.time_to_splice_hist.len(),
+    )?;
+    shape(
+        "tally.repair.stockout_histories",
+        r.stockout_histories.len(),
+        er.stockout_histories.len(),
+    )?;
+    shape(
+        "tally.repair.stockout_events",
+        r.stockout_events.len(),
+        er.stockout_events.len(),
+    )?;
+    for (name, a, b) in [
+        (
+            "tally.repair.demand_mission",
+            &r.demand_mission,
+            &er.demand_mission,
+        ),
+        (
+            "tally.repair.demand_interval",
+            &r.demand_interval,
+            &er.demand_interval,
+        ),
+        (
+            "tally.repair.demand_max_interval",
+            &r.demand_max_interval,
+            &er.demand_max_interval,
+        ),
+    ] {
+        shape(name, a.len(), b.len())?;
+        for (x, y) in a.iter().zip(b) {
+            shape(name, x.len(), y.len())?;
+        }
+    }
+    if t.losses > t.histories {
+        return Err(format!(
+            "tally: {} losses in {} histories",
+            t.losses, t.histories
+        ));
+    }
+    if t.losses_by_cause
+        .iter()
+        .try_fold(0u64, |a, &b| a.checked_add(b))
+        != Some(t.losses)
+    {
+        return Err("tally.losses_by_cause does not add up to tally.losses".into());
+    }
+    for w in &t.weighted {
+        shape(
+            "tally.weighted[].sum_w_by_year",
+            w.sum_w_by_year.len(),
+            e.losses_by_year.len(),
+        )?;
+        let finite = [w.sum_w, w.sum_w2, w.max_w]
+            .iter()
+            .chain(&w.sum_w_by_year)
+            .all(|x| x.is_finite() && *x >= 0.0);
+        if !finite {
+            return Err(format!(
+                "tally.weighted: batch {} holds a negative or non-finite weight",
+                w.batch
+            ));
+        }
+    }
+    if t.anomaly_examples.len() > tether_risk::engine::ANOMALY_EXAMPLES {
+        return Err("tally.anomaly_examples lists more histories than a run keeps".into());
+    }
+    Ok(())
+}
+
 #[derive(Serialize, Deserialize)]
 struct CheckpointFile {
     version: String,
@@ -148,6 +323,12 @@ fn parse_shard(s: &str) -> anyhow::Result<(u64, u64)> {
     let n: u64 = n.trim().parse().map_err(|_| bad())?;
     if n == 0 || i >= n {
         return Err(bad().into());
+    }
+    if n > MAX_SHARDS {
+        return Err(InputError(format!(
+            "--shard = {s}: at most {MAX_SHARDS} shards are allowed"
+        ))
+        .into());
     }
     Ok((i, n))
 }
@@ -296,10 +477,17 @@ pub fn execute(
         crate_versions: crate_versions(),
         random_streams: "Pcg64Mcg per (seed, purpose, history), seeded through SplitMix64".into(),
         wall_time_s: started.elapsed().as_secs_f64(),
-        command: std::env::args().collect(),
+        command: command_line(),
+        files: Vec::new(),
     };
     let io =
         |e: std::io::Error| anyhow::anyhow!("cannot write results to {}: {e}", out_dir.display());
+    // The manifest goes first and comes back last: in between the folder says it is incomplete.
+    // The earlier results (of a --force run or of the interrupted part) are removed only now,
+    // when the new ones are ready: a run killed before this point leaves them standing.
+    retract_manifest(out_dir).map_err(io)?;
+    tether_risk::report::folder::clear_run_outputs(out_dir).map_err(io)?;
+    let mut names = vec!["scenario.json".to_string(), "settings.json".to_string()];
     write_atomic(
         &out_dir.join("scenario.json"),
         (serde_json::to_string_pretty(&model.scenario.spec)? + "\n").as_bytes(),
@@ -312,6 +500,7 @@ pub fn execute(
     .map_err(io)?;
     if let Some(t) = &model.scenario.environment.flux_table_json {
         write_atomic(&out_dir.join("flux_table.json"), t.as_bytes()).map_err(io)?;
+        names.push("flux_table.json".into());
     }
     let checkpoint_path = out_dir.join("checkpoint.json");
     if outcome.status == RunStatus::Interrupted {
@@ -326,37 +515,84 @@ pub fn execute(
             },
         };
         write_atomic(&checkpoint_path, serde_json::to_string(&c)?.as_bytes()).map_err(io)?;
+        names.push("checkpoint.json".into());
     } else if checkpoint_path.exists() {
         std::fs::remove_file(&checkpoint_path).map_err(io)?;
     }
-    write_run(out_dir, &summary, &manifest).map_err(io)?;
+    names.extend(write_run(out_dir, &summary).map_err(io)?);
+    if s.shard.is_none() {
+        // Optional inputs of the report (checked by their own scenario hash), not listed.
+        write_design_and_estimate(model, out_dir)?;
+        // A finished (or interrupted) whole run is a report by itself.
+        super::report::render_run(out_dir)?;
+    }
+    write_manifest(out_dir, &manifest, &names).map_err(io)?;
     Ok(summary)
 }
 
-/// Refuse to overwrite a folder holding results unless forced.
-pub fn prepare_out_dir(dir: &Path, force: bool) -> anyhow::Result<()> {
-    if dir.join("summary.json").exists() && !force {
-        return Err(InputError(format!(
-            "{} already holds results (summary.json); choose another --out or pass --force to replace them",
-            dir.display()
-        ))
-        .into());
+/// Write `design.json` and, where the fast Markov estimate applies, `estimate.json` into a run
+/// folder (the report reads both); returns the names written.
+pub fn write_design_and_estimate(model: &Model, dir: &Path) -> anyhow::Result<Vec<String>> {
+    use tether_risk::model::markov::{mission_times_s, MarkovModel};
+    use tether_risk::report::design::DesignSummary;
+    use tether_risk::report::estimate::EstimateSummary;
+    let io = |e: std::io::Error| anyhow::anyhow!("cannot write results to {}: {e}", dir.display());
+    let design = DesignSummary::from_model(model);
+    write_atomic(
+        &dir.join("design.json"),
+        (serde_json::to_string_pretty(&design)? + "\n").as_bytes(),
+    )
+    .map_err(io)?;
+    let mut names = vec!["design.json".to_string()];
+    // The estimate is a cross-check: a scenario it cannot treat leaves it out (the report says so).
+    if let Ok(markov) = MarkovModel::build(model) {
+        if let Ok(estimate) = markov.solve(&mission_times_s(&model.scenario.run)) {
+            let e = EstimateSummary::new(model, &markov, &estimate);
+            write_atomic(
+                &dir.join("estimate.json"),
+                (serde_json::to_string_pretty(&e)? + "\n").as_bytes(),
+            )
+            .map_err(io)?;
+            names.push("estimate.json".into());
+        }
     }
-    std::fs::create_dir_all(dir)
-        .map_err(|e| anyhow::anyhow!("cannot create output folder {}: {e}", dir.display()))?;
-    Ok(())
+    Ok(names)
+}
+
+/// Lock an output folder and refuse to overwrite results in it unless forced. With `force`,
+/// the files an earlier run wrote (and only those) are removed by [`execute`] when the new
+/// results are ready to be written. The lock is held until the returned guard is dropped.
+pub fn prepare_out_dir(dir: &Path, force: bool) -> anyhow::Result<RunLock> {
+    let lock = lock_folder(dir)?;
+    let held = ["summary.json", "manifest.json", "checkpoint.json"]
+        .iter()
+        .find(|f| dir.join(f).exists());
+    if let Some(f) = held {
+        if !force {
+            return Err(InputError(format!(
+                "{} already holds results ({f}); choose another --out or pass --force to replace them",
+                dir.display()
+            ))
+            .into());
+        }
+    }
+    Ok(lock)
+}
+
+/// Read a run-folder file (with the run-file size cap) as an input error on failure.
+pub fn read_run_file(path: &Path) -> anyhow::Result<String> {
+    scenario::read_text_capped(path, scenario::MAX_RUN_FILE_BYTES, "a run-folder file")
+        .map_err(|e| InputError(format!("cannot read {}: {e}", path.display())).into())
 }
 
 /// Rebuild the model saved in a result folder (scenario.json and any flux table).
 pub fn model_from_dir(dir: &Path) -> anyhow::Result<Model> {
-    let text = std::fs::read_to_string(dir.join("scenario.json")).map_err(|e| {
-        InputError(format!(
-            "cannot read {}: {e}",
-            dir.join("scenario.json").display()
-        ))
-    })?;
+    let text = read_run_file(&dir.join("scenario.json"))?;
     let spec = scenario::parse_spec(&text)?;
-    let table = std::fs::read_to_string(dir.join("flux_table.json")).ok();
+    let table = match dir.join("flux_table.json") {
+        p if p.exists() => Some(read_run_file(&p)?),
+        _ => None,
+    };
     Ok(Model::build(Scenario::from_spec(spec, table)?)?)
 }
 
@@ -424,16 +660,79 @@ fn replay(model: &Model, s: &RunSettingsFile, index: u64) -> anyhow::Result<Stri
     Ok(o)
 }
 
+/// Check a checkpoint read back from disk against the run it continues.
+fn check_checkpoint(
+    engine: &Engine<'_>,
+    s: &RunSettingsFile,
+    c: &Checkpoint,
+) -> Result<(), String> {
+    let batches = Engine::batches_of(&RunOptions {
+        histories: s.histories,
+        seed: s.seed,
+        threads: 1,
+        floor_fraction: s.floor_fraction,
+        shard: s.shard,
+        target_rel_error: s.target_rel_error,
+    });
+    if c.batches_done > batches.len() {
+        return Err(format!(
+            "batches_done = {} but the run has {} batches",
+            c.batches_done,
+            batches.len()
+        ));
+    }
+    let n = batches.len();
+    if c.completed_beyond
+        .iter()
+        .any(|&k| k < c.batches_done || k >= n)
+        || c.completed_beyond.windows(2).any(|w| w[0] >= w[1])
+    {
+        return Err(format!(
+            "completed_beyond lists batch positions outside {}..{n} or out of order",
+            c.batches_done
+        ));
+    }
+    // Histories of the batch at position k: full batches, the last one may be partial.
+    let last_size = batches.histories() - n.saturating_sub(1) * tether_risk::engine::BATCH_SIZE;
+    let size_at = |k: u64| {
+        if k + 1 == n {
+            last_size
+        } else {
+            tether_risk::engine::BATCH_SIZE
+        }
+    };
+    let done = c.batches_done + c.completed_beyond.len() as u64;
+    let prefix = if c.batches_done == n {
+        batches.histories()
+    } else {
+        c.batches_done * tether_risk::engine::BATCH_SIZE
+    };
+    let expected: u64 = prefix + c.completed_beyond.iter().map(|&k| size_at(k)).sum::<u64>();
+    if c.tally.histories != expected {
+        return Err(format!(
+            "tally.histories = {} but the {done} finished batches hold {expected} histories",
+            c.tally.histories
+        ));
+    }
+    check_tally_shape(engine, &c.tally)
+}
+
 pub fn run(a: Args) -> anyhow::Result<()> {
-    let (model, settings, out_dir, start) = if let Some(dir) = &a.resume {
-        let text = std::fs::read_to_string(dir.join("checkpoint.json")).map_err(|e| {
-            InputError(format!(
-                "{} holds no checkpoint to resume ({e}); only an interrupted run leaves one",
+    let (model, settings, out_dir, start, _lock) = if let Some(dir) = &a.resume {
+        if !dir.join("checkpoint.json").exists() {
+            return Err(InputError(format!(
+                "{} holds no checkpoint to resume; only an interrupted run leaves one",
                 dir.display()
             ))
-        })?;
+            .into());
+        }
+        let lock = lock_folder(dir)?;
+        let text = read_run_file(&dir.join("checkpoint.json"))?;
         let c: CheckpointFile = serde_json::from_str(&text)
             .map_err(|e| InputError(format!("checkpoint.json is damaged: {e}")))?;
+        c.settings
+            .validate()
+            .map_err(|e| InputError(format!("checkpoint.json is damaged: settings.{e}")))?;
         let model = model_from_dir(dir)?;
         if c.scenario_hash != model.scenario.hash_hex() || c.version != tether_risk::VERSION {
             return Err(InputError(format!(
@@ -446,7 +745,10 @@ pub fn run(a: Args) -> anyhow::Result<()> {
             ))
             .into());
         }
-        (model, c.settings, dir.clone(), Some(c.checkpoint))
+        let engine = engine_for(&model, &c.settings)?;
+        check_checkpoint(&engine, &c.settings, &c.checkpoint)
+            .map_err(|e| InputError(format!("checkpoint.json is damaged: {e}")))?;
+        (model, c.settings, dir.clone(), Some(c.checkpoint), lock)
     } else {
         let file = a.file.as_deref().unwrap_or("demo");
         let model = load_model(file)?;
@@ -467,8 +769,8 @@ pub fn run(a: Args) -> anyhow::Result<()> {
                 "run",
             ))
         });
-        prepare_out_dir(&out_dir, a.force)?;
-        (model, settings, out_dir, None)
+        let lock = prepare_out_dir(&out_dir, a.force)?;
+        (model, settings, out_dir, None, lock)
     };
     let stop = super::interrupt::flag();
     let summary = execute(

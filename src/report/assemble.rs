@@ -45,6 +45,17 @@ pub enum ReportError {
         /// What was wrong.
         reason: String,
     },
+    /// The folder's files contradict each other or its manifest (an input error).
+    #[error("{dir} is not a consistent run folder: {}; rerun the command that wrote it (with --force) or restore the files", problems.join("; "))]
+    Inconsistent {
+        /// The folder.
+        dir: PathBuf,
+        /// What disagrees.
+        problems: Vec<String>,
+    },
+    /// Another process is writing the folder (an input error).
+    #[error(transparent)]
+    Locked(#[from] super::folder::LockError),
     /// A chart could not be drawn.
     #[error(transparent)]
     Figure(#[from] FigureError),
@@ -64,7 +75,10 @@ impl ReportError {
     pub fn is_input_error(&self) -> bool {
         matches!(
             self,
-            ReportError::NotARunFolder { .. } | ReportError::BadSummary { .. }
+            ReportError::NotARunFolder { .. }
+                | ReportError::BadSummary { .. }
+                | ReportError::Inconsistent { .. }
+                | ReportError::Locked(_)
         )
     }
 }
@@ -125,6 +139,28 @@ pub struct RunFolder {
     pub sweep: Option<SweepInput>,
     /// What was missing or left out, in words.
     pub notes: Vec<String>,
+    /// Why the folder may be incomplete (no manifest listing its files), shown as a warning at
+    /// the top of the report; `None` when the manifest vouches for every file.
+    pub incomplete: Option<String>,
+}
+
+/// Read a run-folder file with the run-file size cap.
+fn read_capped(path: &Path) -> std::io::Result<String> {
+    crate::scenario::read_text_capped(
+        path,
+        crate::scenario::MAX_RUN_FILE_BYTES,
+        "a run-folder file",
+    )
+}
+
+/// How [`RunFolder::load_with`] treats the manifest.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Completeness {
+    /// The folder is finished: check the files its manifest lists (a missing manifest makes
+    /// the folder incomplete; listed files that are missing or changed are an error).
+    Check,
+    /// The caller is writing the run now and writes the manifest after the report.
+    Writing,
 }
 
 fn read_json(path: &Path, notes: &mut Vec<String>, what: &str) -> Option<Value> {
@@ -132,7 +168,7 @@ fn read_json(path: &Path, notes: &mut Vec<String>, what: &str) -> Option<Value> 
         .file_name()
         .map(|n| n.to_string_lossy().into_owned())
         .unwrap_or_default();
-    match std::fs::read_to_string(path) {
+    match read_capped(path) {
         Err(e) if e.kind() == std::io::ErrorKind::NotFound => {
             notes.push(format!("{name} not found: {what} left out."));
             None
@@ -158,8 +194,17 @@ impl RunFolder {
     /// [`ReportError::NotARunFolder`] without `summary.json`; [`ReportError::BadSummary`] if it
     /// cannot be read as a run summary.
     pub fn load(dir: &Path) -> Result<Self, ReportError> {
+        Self::load_with(dir, Completeness::Check)
+    }
+
+    /// [`RunFolder::load`], saying whether the manifest is to be checked.
+    ///
+    /// # Errors
+    /// As [`RunFolder::load`], and [`ReportError::Inconsistent`] when the manifest's files or
+    /// the scenario hashes of the folder's files disagree.
+    pub fn load_with(dir: &Path, completeness: Completeness) -> Result<Self, ReportError> {
         let path = dir.join("summary.json");
-        let text = match std::fs::read_to_string(&path) {
+        let text = match read_capped(&path) {
             Ok(t) => t,
             Err(e) if e.kind() == std::io::ErrorKind::NotFound => {
                 return Err(ReportError::NotARunFolder {
@@ -184,8 +229,62 @@ impl RunFolder {
                 reason: "it records 0 histories; there is nothing to report".into(),
             });
         }
+        super::folder::validate_summary(&summary).map_err(|reason| ReportError::BadSummary {
+            path: path.clone(),
+            reason: format!("it is not consistent: {reason}"),
+        })?;
         let mut notes = Vec::new();
         let manifest = read_json(&dir.join("manifest.json"), &mut notes, "the manifest");
+        let mut problems = Vec::new();
+        let incomplete = match (completeness, &manifest) {
+            (Completeness::Writing, _) => None,
+            (Completeness::Check, None) => Some(
+                "this folder has no readable manifest.json, which a run writes last: the run that wrote it may have been killed before it finished, so its files may not belong together".to_string(),
+            ),
+            (Completeness::Check, Some(m)) => match m.get("files") {
+                None => Some(
+                    "manifest.json does not list the run's files (written by an older version), so the folder's completeness cannot be checked".to_string(),
+                ),
+                Some(f) => match serde_json::from_value::<Vec<super::folder::FileEntry>>(f.clone())
+                {
+                    Ok(files) => {
+                        problems.extend(super::folder::check_listed_files(dir, &files));
+                        None
+                    }
+                    Err(e) => {
+                        problems.push(format!("manifest.json: files is not a file list ({e})"));
+                        None
+                    }
+                },
+            },
+        };
+        if let Some(h) = manifest
+            .as_ref()
+            .and_then(|m| m.get("scenario_hash"))
+            .and_then(Value::as_str)
+        {
+            if h != summary.scenario_hash {
+                problems.push(format!(
+                    "manifest.json is for scenario hash {h}, summary.json for {}",
+                    summary.scenario_hash
+                ));
+            }
+        }
+        if let Ok(text) = read_capped(&dir.join("scenario.json")) {
+            if let Ok(spec) = crate::scenario::parse_spec(&text) {
+                let table = read_capped(&dir.join("flux_table.json")).ok();
+                let h = format!(
+                    "{:016x}",
+                    crate::scenario::scenario_hash(&spec, table.as_deref())
+                );
+                if h != summary.scenario_hash {
+                    problems.push(format!(
+                        "scenario.json has hash {h}, but summary.json was run for {}",
+                        summary.scenario_hash
+                    ));
+                }
+            }
+        }
         let scenario = read_json(
             &dir.join("scenario.json"),
             &mut notes,
@@ -231,14 +330,32 @@ impl RunFolder {
             read_json(&sweep_dir.join("sweep.json"), &mut notes, "the trade study").map(|value| {
                 SweepInput {
                     value,
-                    heatmap_svg: std::fs::read_to_string(sweep_dir.join("heatmap.svg")).ok(),
-                    pareto_svg: std::fs::read_to_string(sweep_dir.join("pareto.svg")).ok(),
+                    heatmap_svg: read_capped(&sweep_dir.join("heatmap.svg")).ok(),
+                    pareto_svg: read_capped(&sweep_dir.join("pareto.svg")).ok(),
                 }
             })
         } else {
             notes.push("No trade study (sweep/sweep.json) in this folder: the cross-link spacing comparison is left out.".into());
             None
         };
+        if let Some(h) = sweep
+            .as_ref()
+            .and_then(|s| s.value.get("scenario_hash"))
+            .and_then(Value::as_str)
+        {
+            if h != summary.scenario_hash {
+                problems.push(format!(
+                    "sweep/sweep.json is a trade study of scenario hash {h}, not of this run's scenario {}; move it out of the folder or rerun the sweep from this scenario",
+                    summary.scenario_hash
+                ));
+            }
+        }
+        if !problems.is_empty() {
+            return Err(ReportError::Inconsistent {
+                dir: dir.to_path_buf(),
+                problems,
+            });
+        }
         Ok(RunFolder {
             dir: dir.to_path_buf(),
             summary,
@@ -248,6 +365,7 @@ impl RunFolder {
             estimate,
             sweep,
             notes,
+            incomplete,
         })
     }
 
@@ -290,7 +408,22 @@ pub struct ReportWritten {
 /// # Errors
 /// See [`ReportError`].
 pub fn write_report(dir: &Path) -> Result<ReportWritten, ReportError> {
-    let folder = RunFolder::load(dir)?;
+    write_report_with(dir, Completeness::Check)
+}
+
+/// [`write_report`] for a folder that is being written now (the manifest comes after the
+/// report), or a finished one.
+///
+/// # Errors
+/// See [`ReportError`].
+pub fn write_report_with(
+    dir: &Path,
+    completeness: Completeness,
+) -> Result<ReportWritten, ReportError> {
+    let mut folder = RunFolder::load_with(dir, completeness)?;
+    if let Some(w) = &folder.incomplete {
+        folder.notes.insert(0, format!("Warning: {w}."));
+    }
     let files = render(&folder)?;
     let plots = dir.join("plots");
     std::fs::create_dir_all(&plots).map_err(|source| ReportError::Write {
@@ -306,10 +439,134 @@ pub fn write_report(dir: &Path) -> Result<ReportWritten, ReportError> {
         })?;
         written.push(path);
     }
+    // Outputs of an earlier rendering that this one does not produce (a comparison without
+    // estimate.json now, a chart of a station that no longer exists) must not stay behind
+    // looking current.
+    let mut stale: Vec<PathBuf> = vec![dir.join("markov_vs_monte_carlo.csv")];
+    if let Ok(entries) = std::fs::read_dir(&plots) {
+        stale.extend(
+            entries
+                .flatten()
+                .map(|e| e.path())
+                .filter(|p| p.extension().is_some_and(|x| x == "png" || x == "svg")),
+        );
+    }
+    for p in stale {
+        if !written.contains(&p) && p.is_file() {
+            std::fs::remove_file(&p).map_err(|source| ReportError::Write {
+                path: p.clone(),
+                source,
+            })?;
+        }
+    }
     Ok(ReportWritten {
         html: dir.join("report.html"),
         files: written,
         notes: folder.notes,
+    })
+}
+
+/// Render `report.html` of a sweep folder (one written by `tether-risk sweep`) from its
+/// `sweep.json`, `heatmap.svg` and `pareto.svg`.
+///
+/// # Errors
+/// [`ReportError::NotARunFolder`] without `sweep.json`, [`ReportError::BadSummary`] when it is
+/// not a trade study of this version or is inconsistent.
+pub fn write_sweep_report(dir: &Path) -> Result<ReportWritten, ReportError> {
+    let path = dir.join("sweep.json");
+    let text = match read_capped(&path) {
+        Ok(t) => t,
+        Err(e) if e.kind() == std::io::ErrorKind::NotFound => {
+            return Err(ReportError::NotARunFolder {
+                dir: dir.to_path_buf(),
+            })
+        }
+        Err(e) => {
+            return Err(ReportError::BadSummary {
+                path,
+                reason: e.to_string(),
+            })
+        }
+    };
+    let r: crate::sweep::SweepResult =
+        serde_json::from_str(&text).map_err(|e| ReportError::BadSummary {
+            path: path.clone(),
+            reason: format!("it is not a trade study of this version: {e}"),
+        })?;
+    super::folder::validate_sweep(&r).map_err(|reason| ReportError::BadSummary {
+        path: path.clone(),
+        reason: format!("it is not consistent: {reason}"),
+    })?;
+    let value: Value = serde_json::from_str(&text).unwrap_or(Value::Null);
+    let sw = SweepInput {
+        value,
+        heatmap_svg: read_capped(&dir.join("heatmap.svg")).ok(),
+        pareto_svg: read_capped(&dir.join("pareto.svg")).ok(),
+    };
+    let mut notes = Vec::new();
+    if sw.heatmap_svg.is_none() || sw.pareto_svg.is_none() {
+        notes.push("heatmap.svg or pareto.svg is missing: its chart is left out.".to_string());
+    }
+    let mut brief = Section {
+        heading: "Trade study".into(),
+        paragraphs: vec![format!(
+            "Scenario \"{}\" (hash {}) varied over {}; {} designs, {} of them feasible.",
+            r.scenario,
+            r.scenario_hash,
+            r.axes
+                .iter()
+                .map(|a| format!("{} = {}", a.path, a.labels.join(", ")))
+                .collect::<Vec<_>>()
+                .join("; "),
+            r.points.len(),
+            r.points.iter().filter(|p| p.feasible).count()
+        )],
+        ..Default::default()
+    };
+    for p in r.points.iter().filter(|p| !p.feasible) {
+        brief.paragraphs.push(format!(
+            "Infeasible (not simulated): {}: {}",
+            p.label,
+            p.reason.as_deref().unwrap_or("")
+        ));
+    }
+    let mut sections = vec![brief, sweep_section(&sw)];
+    sections.push(Section {
+        heading: "Provenance".into(),
+        paragraphs: vec![format!(
+            "Trade study by tether-risk {}, {} histories per design, seed {}; report rendered by tether-risk {} from the files in this folder (`tether-risk report DIR` renders it again).",
+            r.version,
+            r.histories,
+            r.seed,
+            crate::VERSION
+        )],
+        ..Default::default()
+    });
+    if !notes.is_empty() {
+        sections.push(Section {
+            heading: "Sections left out".into(),
+            paragraphs: notes.clone(),
+            ..Default::default()
+        });
+    }
+    let doc = ReportDoc {
+        title: format!("Trade study of tether \"{}\"", r.scenario),
+        subtitle: format!(
+            "Scenario hash {}, seed {}, {} histories per design, tether-risk {}",
+            r.scenario_hash, r.seed, r.histories, r.version
+        ),
+        caution: crate::CAUTION.to_string(),
+        sections,
+    };
+    let html = dir.join("report.html");
+    write_atomic(&html, render_report(&doc).as_bytes()).map_err(|source| ReportError::Write {
+        path: html.clone(),
+        source,
+    })?;
+    Ok(ReportWritten {
+        html: html.clone(),
+        files: vec![html],
+        notes,
     })
 }
 
@@ -546,7 +803,13 @@ fn key_section(folder: &RunFolder) -> Section {
             note: format!("{ratio}; ignores sub-critical damage memory and fleet contention"),
         });
     }
-    let mut paragraphs = vec![answer_sentence(folder)];
+    let mut paragraphs = Vec::new();
+    if let Some(w) = &folder.incomplete {
+        paragraphs.push(format!(
+            "WARNING: incomplete run folder: {w}. Check the numbers against the run's own output before relying on them."
+        ));
+    }
+    paragraphs.push(answer_sentence(folder));
     if s.status != crate::engine::RunStatus::Complete {
         paragraphs.push(format!(
             "Run status: {:?}. {} of {} requested histories were run; the numbers rest on those.",
@@ -923,7 +1186,10 @@ const SWEEP_ROWS_SHOWN: usize = 200;
 fn sweep_section(sw: &SweepInput) -> Section {
     // A sweep written by this version renders with the sweep's own table and front; anything
     // else falls back to a generic reading of its rows.
-    if let Ok(r) = serde_json::from_value::<crate::sweep::SweepResult>(sw.value.clone()) {
+    if let Some(r) = serde_json::from_value::<crate::sweep::SweepResult>(sw.value.clone())
+        .ok()
+        .filter(|r| super::folder::validate_sweep(r).is_ok())
+    {
         let front: Vec<String> = r
             .pareto_front
             .iter()

@@ -505,7 +505,7 @@ pub fn failure_markdown(
 ) -> String {
     let mut o = format!(
         "# Failure probabilities: scenario \"{}\"\n\n{}\n\nScenario hash {}, seed {}, {} histories, {} mission years, tether-risk {}.\n\n",
-        s.scenario,
+        super::escape::markdown_escape(&s.scenario),
         s.caution,
         s.scenario_hash,
         s.seed,
@@ -514,7 +514,10 @@ pub fn failure_markdown(
         s.version
     );
     let mut part = |title: &str, t: &DualTable| {
-        o.push_str(&format!("## {title}\n\n{}\n\n", t.note));
+        o.push_str(&format!(
+            "## {title}\n\n{}\n\n",
+            super::escape::markdown_escape(&t.note)
+        ));
         o.push_str(&t.markdown.to_markdown());
         o.push('\n');
     };

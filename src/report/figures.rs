@@ -254,7 +254,13 @@ pub fn spare_figures(s: &RunSummary) -> Result<Vec<NamedFigure>, FigureError> {
         return Ok(Vec::new());
     };
     let mut out = Vec::new();
-    for d in &sp.demand_quantiles {
+    let names: Vec<&str> = sp
+        .demand_quantiles
+        .iter()
+        .map(|d| d.station.as_str())
+        .collect();
+    let stems = crate::report::unique_file_stems(&names, "station");
+    for (d, stem) in sp.demand_quantiles.iter().zip(&stems) {
         let rec = r
             .recommended_initial_stock
             .iter()
@@ -294,10 +300,7 @@ pub fn spare_figures(s: &RunSummary) -> Result<Vec<NamedFigure>, FigureError> {
             100.0 * r.stockout_target
         );
         out.push(named(
-            &format!(
-                "spare_demand_{}",
-                crate::report::file_stem(&d.station, "station")
-            ),
+            &format!("spare_demand_{stem}"),
             caption,
             histogram_chart(&points, &markers, &spec),
         )?);

@@ -7,9 +7,11 @@ pub mod assemble;
 mod atomic;
 pub mod design;
 pub mod env;
+pub mod escape;
 pub mod estimate;
 pub mod failure;
 pub mod figures;
+pub mod folder;
 pub mod html;
 pub mod plot;
 pub mod run;
@@ -17,6 +19,7 @@ pub mod sweep;
 pub mod table;
 
 pub use atomic::write_atomic;
+pub use escape::{csv_cell, markdown_escape, unique_file_stems};
 
 pub use crate::CAUTION;
 

@@ -38,6 +38,9 @@ pub struct Manifest {
     pub wall_time_s: f64,
     /// The command line.
     pub command: Vec<String>,
+    /// The result files of the run and their sizes. The manifest is written last, so a folder
+    /// whose manifest lists files that are all present with these sizes is complete.
+    pub files: Vec<super::folder::FileEntry>,
 }
 
 /// Versions of the crates that matter for reproducibility, read from the Cargo.lock that was
@@ -225,39 +228,59 @@ pub fn band_table(s: &RunSummary) -> Table {
     t
 }
 
-/// Write `summary.json`, `manifest.json` and the tables into `dir`, each atomically.
-pub fn write_run(dir: &Path, summary: &RunSummary, manifest: &Manifest) -> std::io::Result<()> {
+/// Write `summary.json` and the tables into `dir`, each atomically; returns the names of the
+/// files written (relative to `dir`) for the manifest. The manifest itself is written last by
+/// [`write_manifest`].
+pub fn write_run(dir: &Path, summary: &RunSummary) -> std::io::Result<Vec<String>> {
     std::fs::create_dir_all(dir)?;
     let json = |v: &dyn erased::Json| v.to_json();
-    write_atomic(&dir.join("summary.json"), json(summary).as_bytes())?;
-    write_atomic(&dir.join("manifest.json"), json(manifest).as_bytes())?;
-    write_atomic(
-        &dir.join("survival_by_year.csv"),
+    let mut names = Vec::new();
+    let mut put = |name: &str, bytes: &[u8]| -> std::io::Result<()> {
+        write_atomic(&dir.join(name), bytes)?;
+        names.push(name.to_string());
+        Ok(())
+    };
+    put("summary.json", json(summary).as_bytes())?;
+    put(
+        "survival_by_year.csv",
         survival_table(summary).to_csv().as_bytes(),
     )?;
-    write_atomic(
-        &dir.join("survival_by_year.md"),
+    put(
+        "survival_by_year.md",
         survival_table(summary).to_markdown().as_bytes(),
     )?;
-    write_atomic(
-        &dir.join("altitude_bands.csv"),
+    put(
+        "altitude_bands.csv",
         band_table(summary).to_csv().as_bytes(),
     )?;
-    write_atomic(
-        &dir.join("altitude_bands.md"),
+    put(
+        "altitude_bands.md",
         band_table(summary).to_markdown().as_bytes(),
     )?;
     if let (Some(r), Some(sp)) = (&summary.repair, &summary.spares) {
-        write_atomic(
-            &dir.join("spares.csv"),
-            stock_table(r, sp).to_csv().as_bytes(),
-        )?;
-        write_atomic(
-            &dir.join("spares.md"),
-            stock_table(r, sp).to_markdown().as_bytes(),
-        )?;
+        put("spares.csv", stock_table(r, sp).to_csv().as_bytes())?;
+        put("spares.md", stock_table(r, sp).to_markdown().as_bytes())?;
     }
-    Ok(())
+    Ok(names)
+}
+
+/// Write `manifest.json` last, listing `files` (relative to `dir`) with their sizes.
+pub fn write_manifest(dir: &Path, manifest: &Manifest, files: &[String]) -> std::io::Result<()> {
+    let mut m = manifest.clone();
+    m.files = super::folder::list_files(dir, files);
+    write_atomic(
+        &dir.join("manifest.json"),
+        erased::Json::to_json(&m).as_bytes(),
+    )
+}
+
+/// Remove `manifest.json` before a folder's files are rewritten, so that a writer killed half
+/// way leaves a folder that says it is incomplete.
+pub fn retract_manifest(dir: &Path) -> std::io::Result<()> {
+    match std::fs::remove_file(dir.join("manifest.json")) {
+        Err(e) if e.kind() != std::io::ErrorKind::NotFound => Err(e),
+        _ => Ok(()),
+    }
 }
 
 mod erased {

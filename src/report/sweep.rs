@@ -347,11 +347,15 @@ pub fn sweep_text(r: &SweepResult) -> String {
 
 /// Markdown that pastes into a review document.
 pub fn sweep_markdown(r: &SweepResult) -> String {
+    // Names, labels and reasons come from the scenario and the command line: escape every
+    // line of free text, not only the table (the bullets' `- ` is left as it is).
+    let esc = super::escape::markdown_escape;
+    let notes: Vec<String> = notes(r, "- ").lines().map(esc).collect();
     format!(
-        "## {}\n\n{}{}",
-        heading(r),
+        "## {}\n\n{}{}\n",
+        esc(&heading(r)),
         sweep_table(r, true).to_markdown(),
-        notes(r, "- ")
+        notes.join("\n")
     )
 }
 

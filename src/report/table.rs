@@ -55,7 +55,19 @@ impl Table {
     fn line(&self, cells: &[String], widths: &[usize], sep: &str) -> String {
         let mut out = String::new();
         for (i, w) in widths.iter().enumerate() {
-            let c = cells.get(i).map(String::as_str).unwrap_or("");
+            let cell = cells.get(i).map(String::as_str).unwrap_or("");
+            // A name with control characters (terminal escape sequences, line breaks) must not
+            // reach a terminal or break the alignment.
+            let clean: String;
+            let c = if cell.chars().any(char::is_control) {
+                clean = cell
+                    .chars()
+                    .map(|c| if c.is_control() { ' ' } else { c })
+                    .collect();
+                clean.as_str()
+            } else {
+                cell
+            };
             let pad = w.saturating_sub(c.chars().count());
             if i > 0 {
                 out.push_str(sep);
@@ -93,10 +105,11 @@ impl Table {
         out
     }
 
-    /// Markdown (GitHub pipe table) that pastes into a review document.
+    /// Markdown (GitHub pipe table) that pastes into a review document; every cell passes
+    /// through [`super::escape::markdown_escape`].
     pub fn to_markdown(&self) -> String {
         let w = self.widths();
-        let esc = |s: &str| s.replace('|', "\\|");
+        let esc = |s: &str| super::escape::markdown_escape(s);
         let mut out = String::from("| ");
         out.push_str(
             &self
@@ -122,13 +135,20 @@ impl Table {
         out
     }
 
-    /// CSV with a header line.
+    /// CSV with a header line; every cell passes through [`super::escape::csv_cell`], so a
+    /// name cannot become a live spreadsheet formula.
     pub fn to_csv(&self) -> String {
         let mut w = csv::Writer::from_writer(Vec::new());
         // Writing to a Vec cannot fail.
-        let _ = w.write_record(&self.headers);
+        let safe = |cells: &[String]| -> Vec<String> {
+            cells
+                .iter()
+                .map(|c| super::escape::csv_cell(c).into_owned())
+                .collect()
+        };
+        let _ = w.write_record(safe(&self.headers));
         for r in &self.rows {
-            let _ = w.write_record(r);
+            let _ = w.write_record(safe(r));
         }
         String::from_utf8(w.into_inner().unwrap_or_default()).unwrap_or_default()
     }

@@ -10,11 +10,13 @@
 
 mod error;
 mod materials;
+mod read;
 mod spec;
 mod validate;
 
 pub use error::{nearest, ScenarioError};
 pub use materials::{catalogue_material, material_catalogue, CatalogueEntry, MATERIALS_JSON};
+pub use read::{read_text_capped, read_text_limited, MAX_INPUT_BYTES, MAX_RUN_FILE_BYTES};
 pub use spec::*;
 pub use validate::*;
 
@@ -113,16 +115,20 @@ fn parent_path(path: &str, field: &str) -> String {
 /// `table_file` is resolved relative to the scenario file's folder and read here.
 pub fn load(path: &str) -> Result<Scenario, ScenarioError> {
     let (text, base) = if path == "-" {
-        let mut s = String::new();
-        std::io::Read::read_to_string(&mut std::io::stdin(), &mut s).map_err(|source| {
-            ScenarioError::Io {
+        let s = read_text_limited(std::io::stdin(), MAX_INPUT_BYTES, "a scenario").map_err(
+            |source| ScenarioError::Io {
                 path: "<stdin>".into(),
                 source,
-            }
-        })?;
+            },
+        )?;
         (s, std::path::PathBuf::from("."))
     } else {
-        let s = std::fs::read_to_string(path).map_err(|source| ScenarioError::Io {
+        let s = read_text_capped(
+            std::path::Path::new(path),
+            MAX_INPUT_BYTES,
+            "a scenario file",
+        )
+        .map_err(|source| ScenarioError::Io {
             path: path.to_string(),
             source,
         })?;
@@ -137,9 +143,11 @@ pub fn load(path: &str) -> Result<Scenario, ScenarioError> {
         FluxModelSpec::Table { table_file } => {
             let p = base.join(table_file);
             Some(
-                std::fs::read_to_string(&p).map_err(|source| ScenarioError::Io {
-                    path: p.display().to_string(),
-                    source,
+                read_text_capped(&p, MAX_INPUT_BYTES, "a flux table").map_err(|source| {
+                    ScenarioError::Io {
+                        path: p.display().to_string(),
+                        source,
+                    }
                 })?,
             )
         }

@@ -659,6 +659,9 @@ fn validate_damage(d: &DamageSpec) -> Result<DamageSpec, ScenarioError> {
     Ok(d.clone())
 }
 
+/// Longest station or scenario name accepted, characters.
+pub const MAX_NAME_CHARS: usize = 200;
+
 fn validate_repair(r: &RepairSpec, top_altitude_m: f64) -> Result<RepairSettings, ScenarioError> {
     if r.stations.is_empty() {
         return Err(ScenarioError::Model {
@@ -670,6 +673,30 @@ fn validate_repair(r: &RepairSpec, top_altitude_m: f64) -> Result<RepairSettings
     let mut total_climbers = 0u64;
     for (i, s) in r.stations.iter().enumerate() {
         let p = format!("repair.stations[{i}]");
+        // Names key the per-station tables and plot files: two stations with one name would
+        // share (and overwrite) them.
+        if s.name.chars().count() > MAX_NAME_CHARS {
+            return Err(ScenarioError::Model {
+                path: format!("{p}.name"),
+                message: format!(
+                    "the name has {} characters; allowed at most {MAX_NAME_CHARS}",
+                    s.name.chars().count()
+                ),
+            });
+        }
+        let key = s.name.trim().to_lowercase();
+        if let Some(j) = r.stations[..i]
+            .iter()
+            .position(|o| o.name.trim().to_lowercase() == key)
+        {
+            return Err(ScenarioError::Model {
+                path: format!("{p}.name"),
+                message: format!(
+                    "station name {:?} is already used by repair.stations[{j}] ({:?}); give every station its own name (compared without case and surrounding spaces)",
+                    s.name, r.stations[j].name
+                ),
+            });
+        }
         let top_km = top_altitude_m / 1e3;
         let alt = check(
             &format!("{p}.altitude_km"),

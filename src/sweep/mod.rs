@@ -31,6 +31,8 @@ mod path;
 
 pub use path::{get as value_at_path, leaf_paths};
 
+use std::sync::atomic::AtomicBool;
+
 use serde::{Deserialize, Serialize};
 use serde_json::Value;
 use thiserror::Error;
@@ -438,6 +440,50 @@ pub fn run_sweep_with_progress(
     settings: &SweepSettings,
     progress: &dyn Fn(&PointResult, usize),
 ) -> Result<SweepResult, SweepError> {
+    let mut on_point = |p: &PointResult, n: usize| {
+        progress(p, n);
+        Ok(())
+    };
+    match run_sweep_resumable(base_json, spec, settings, Vec::new(), &mut on_point, None)? {
+        SweepOutcome::Complete(r) => Ok(*r),
+        SweepOutcome::Interrupted { .. } => Err(SweepError::Settings(
+            "the sweep stopped without a stop request".into(),
+        )),
+    }
+}
+
+/// How a resumable sweep ended.
+#[derive(Clone, Debug, PartialEq)]
+pub enum SweepOutcome {
+    /// Every point is done.
+    Complete(Box<SweepResult>),
+    /// A stop was requested; `done` of `total` points are finished (each was handed to the
+    /// caller's `on_point` as it finished).
+    Interrupted {
+        /// Points finished, including those given as already done.
+        done: usize,
+        /// Points in the grid.
+        total: usize,
+    },
+}
+
+/// A sweep that can stop and continue: `done` holds points finished earlier (for example read
+/// back from disk; each must belong to this grid), `on_point(point, point_count)` is called
+/// after each newly finished point (to save it), and `stop` is checked before each point and
+/// inside each point's run; a point whose run was stopped is not kept. Because every point is
+/// deterministic given the seed, continuing gives exactly the uninterrupted result.
+///
+/// # Errors
+/// As [`run_sweep`]; [`SweepError::Spec`] when a point in `done` does not belong to the grid,
+/// and any error `on_point` returns.
+pub fn run_sweep_resumable(
+    base_json: &Value,
+    spec: &SweepSpec,
+    settings: &SweepSettings,
+    done: Vec<PointResult>,
+    on_point: &mut dyn FnMut(&PointResult, usize) -> Result<(), SweepError>,
+    stop: Option<&AtomicBool>,
+) -> Result<SweepOutcome, SweepError> {
     spec.check_size()?;
     check_settings(settings)?;
     let table = settings.flux_table_json.clone();
@@ -461,10 +507,44 @@ pub fn run_sweep_with_progress(
     let axes = resolve_axes(&canonical, spec, table.as_deref())?;
 
     let count = spec.point_count();
-    let mut points = Vec::with_capacity(count);
-    for index in 0..count {
+    let mut slots: Vec<Option<PointResult>> = vec![None; count];
+    for p in done {
+        let expected = (p.index < count).then(|| coordinates_of(p.index, &axes));
+        if expected.as_ref() != Some(&p.coordinates)
+            || p.label != point_label(&axes, &p.coordinates)
+        {
+            return Err(SweepError::Spec(format!(
+                "saved point {} ({}) does not belong to this sweep's grid",
+                p.index, p.label
+            )));
+        }
+        let prob = |x: f64| x.is_finite() && (0.0..=1.0).contains(&x);
+        let sane = p.loss_probability.is_none_or(|l| {
+            prob(l.estimate) && prob(l.ci_low) && prob(l.ci_high) && l.ci_low <= l.ci_high
+        }) && p.losses.is_none_or(|l| l <= histories)
+            && p.masses
+                .is_none_or(|m| m.total_kg.is_finite() && m.total_kg >= 0.0);
+        if !sane {
+            return Err(SweepError::Spec(format!(
+                "saved point {} ({}) holds impossible values (a probability outside [0, 1], more losses than histories or a negative mass); delete its file to run it again",
+                p.index, p.label
+            )));
+        }
+        let i = p.index;
+        if slots[i].replace(p).is_some() {
+            return Err(SweepError::Spec(format!("saved point {i} is given twice")));
+        }
+    }
+    let stopped = || stop.is_some_and(|f| f.load(std::sync::atomic::Ordering::SeqCst));
+    for (index, slot) in slots.iter_mut().enumerate() {
+        if slot.is_some() {
+            continue;
+        }
+        if stopped() {
+            break;
+        }
         let coordinates = coordinates_of(index, &axes);
-        let p = evaluate_point(
+        let Some(p) = evaluate_point(
             &canonical,
             &axes,
             index,
@@ -472,10 +552,22 @@ pub fn run_sweep_with_progress(
             histories,
             seed,
             settings,
-        )?;
-        progress(&p, count);
-        points.push(p);
+            stop,
+        )?
+        else {
+            break;
+        };
+        on_point(&p, count)?;
+        *slot = Some(p);
     }
+    let finished = slots.iter().filter(|p| p.is_some()).count();
+    if finished < count {
+        return Ok(SweepOutcome::Interrupted {
+            done: finished,
+            total: count,
+        });
+    }
+    let points: Vec<PointResult> = slots.into_iter().flatten().collect();
     let mut result = SweepResult {
         tool: "tether-risk".into(),
         version: crate::VERSION.into(),
@@ -499,7 +591,16 @@ pub fn run_sweep_with_progress(
         caution: format!("{} {PARETO_NOTE}", crate::CAUTION),
     };
     result.mark_pareto_front();
-    Ok(result)
+    Ok(SweepOutcome::Complete(Box::new(result)))
+}
+
+/// The label of the point at `coordinates`, e.g. `cross_link_spacing_km=25, ribbon_count=4`.
+fn point_label(axes: &[AxisResult], coordinates: &[usize]) -> String {
+    axes.iter()
+        .zip(coordinates)
+        .map(|(a, &c)| format!("{}={}", a.name, a.labels.get(c).map_or("?", String::as_str)))
+        .collect::<Vec<_>>()
+        .join(", ")
 }
 
 fn check_settings(s: &SweepSettings) -> Result<(), SweepError> {
@@ -610,6 +711,9 @@ fn infeasible(p: &mut PointResult, reason: String) -> PointResult {
     p.clone()
 }
 
+// The run settings travel as separate values on purpose: the point's index and coordinates
+// vary, the rest is shared by every point.
+#[allow(clippy::too_many_arguments)]
 fn evaluate_point(
     canonical: &Value,
     axes: &[AxisResult],
@@ -618,7 +722,8 @@ fn evaluate_point(
     histories: u64,
     seed: u64,
     settings: &SweepSettings,
-) -> Result<PointResult, SweepError> {
+    stop: Option<&AtomicBool>,
+) -> Result<Option<PointResult>, SweepError> {
     let mut doc = canonical.clone();
     let mut values = Vec::with_capacity(axes.len());
     let mut label = Vec::with_capacity(axes.len());
@@ -669,7 +774,7 @@ fn evaluate_point(
     };
     let scenario = match Scenario::from_spec(spec, table) {
         Ok(s) => s,
-        Err(ScenarioError::Infeasible { reason }) => return Ok(infeasible(&mut p, reason)),
+        Err(ScenarioError::Infeasible { reason }) => return Ok(Some(infeasible(&mut p, reason))),
         Err(e) => return Err(point_err(e)),
     };
 
@@ -677,7 +782,7 @@ fn evaluate_point(
     // its tether's masses and payload ratio.
     let profile = match TetherProfile::build(&EarthMoon::standard(), &tether_design(&scenario)) {
         Ok(pr) => pr,
-        Err(e) => return Ok(infeasible(&mut p, e.to_string())),
+        Err(e) => return Ok(Some(infeasible(&mut p, e.to_string()))),
     };
     let heaviest = profile.heaviest_segment().1;
     let stock: u64 = p
@@ -709,7 +814,7 @@ fn evaluate_point(
 
     let model = match Model::build(scenario) {
         Ok(m) => m,
-        Err(ScenarioError::Infeasible { reason }) => return Ok(infeasible(&mut p, reason)),
+        Err(ScenarioError::Infeasible { reason }) => return Ok(Some(infeasible(&mut p, reason))),
         Err(e) => return Err(point_err(e)),
     };
     let engine = match Engine::with_sampler(&model, 1.0, settings.sampler)
@@ -722,10 +827,10 @@ fn evaluate_point(
         }) {
         Ok(e) => e,
         Err(EngineError::Model(m)) => {
-            return Ok(infeasible(
+            return Ok(Some(infeasible(
                 &mut p,
                 format!("the strikes cannot be sampled: {m}"),
-            ))
+            )))
         }
         Err(e) => {
             return Err(SweepError::Run {
@@ -742,10 +847,17 @@ fn evaluate_point(
         shard: None,
         target_rel_error: None,
     };
-    let tally = engine.run(&opts, &|_| {}).map_err(|e| SweepError::Run {
-        label: label.clone(),
-        message: e.to_string(),
-    })?;
+    let outcome = engine
+        .run_resumable(&opts, None, &|_| {}, stop)
+        .map_err(|e| SweepError::Run {
+            label: label.clone(),
+            message: e.to_string(),
+        })?;
+    if outcome.status == crate::engine::RunStatus::Interrupted {
+        // A point whose run was stopped is not a result: it is run again on resume.
+        return Ok(None);
+    }
+    let tally = outcome.tally;
     let s = RunSummary::from_tally(
         &engine,
         tally,
@@ -776,7 +888,7 @@ fn evaluate_point(
             m.recommended_spare_stock_kg = Some(recommended_total as f64 * heaviest);
         }
     }
-    Ok(p)
+    Ok(Some(p))
 }
 
 #[cfg(test)]

@@ -8,6 +8,7 @@ mod determinism;
 mod engine_validation;
 mod estimate;
 mod hole_rate;
+mod issue13;
 mod ondemand;
 mod physics;
 mod rare_event;

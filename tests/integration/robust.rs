@@ -180,7 +180,7 @@ fn sigterm_then_resume_equals_uninterrupted_run() {
 }
 
 /// Result files a run writes; anything else in the folder must be hidden and not look like one.
-const RESULT_EXTENSIONS: [&str; 3] = ["json", "csv", "md"];
+const RESULT_EXTENSIONS: [&str; 6] = ["json", "csv", "md", "html", "png", "svg"];
 
 /// SIGKILL during a rerun over earlier results: every result file still parses completely
 /// (they are replaced atomically), and a leftover temporary file is hidden and has no result
@@ -215,6 +215,11 @@ fn sigkill_leaves_only_whole_result_files() {
     for entry in std::fs::read_dir(&out).unwrap() {
         let p = entry.unwrap().path();
         let name = p.file_name().unwrap().to_string_lossy().into_owned();
+        if p.is_dir() {
+            // plots/: the report's charts, written atomically like every result file.
+            assert_eq!(name, "plots", "unexpected folder {name}");
+            continue;
+        }
         let ext = p.extension().map(|e| e.to_string_lossy().into_owned());
         if ext
             .as_deref()
@@ -224,8 +229,9 @@ fn sigkill_leaves_only_whole_result_files() {
                 !name.starts_with('.'),
                 "hidden file with a result name: {name}"
             );
-            let text = std::fs::read_to_string(&p).unwrap();
-            assert!(!text.is_empty(), "{name} is empty");
+            let bytes = std::fs::read(&p).unwrap();
+            assert!(!bytes.is_empty(), "{name} is empty");
+            let text = String::from_utf8_lossy(&bytes);
             if ext.as_deref() == Some("json") {
                 serde_json::from_str::<Value>(&text)
                     .unwrap_or_else(|e| panic!("{name} is not whole JSON: {e}"));
