@@ -466,8 +466,12 @@ fn key_section(folder: &RunFolder) -> Section {
     let mut cards = Vec::new();
     let basis = match &s.rare_event {
         Some(r) => format!(
-            "weighted rare-event estimate, {} histories, {} losses under the biased measure",
-            s.histories, r.losses_observed
+            "weighted rare-event estimate, {} histories, {} losses under the biased measure, SE {}, effective sample size {}, largest weight {:.1} %",
+            s.histories,
+            r.losses_observed,
+            sig(lp.standard_error, 2),
+            sig(lp.effective_sample_size, 3),
+            100.0 * lp.largest_weight_share
         ),
         None => format!(
             "{} losses in {} histories, Clopper–Pearson",
@@ -476,12 +480,18 @@ fn key_section(folder: &RunFolder) -> Section {
     };
     cards.push(KeyNumber {
         label: format!("Probability of losing the tether within {years} years"),
-        value: sig(lp.estimate, 2),
-        note: format!(
-            "{conf} interval {} – {}; {basis}",
-            sig(lp.ci_low, 2),
-            sig(lp.ci_high, 2)
-        ),
+        value: if lp.resolved {
+            sig(lp.estimate, 2)
+        } else {
+            format!("{} (not resolved)", sig(lp.estimate, 2))
+        },
+        note: match lp.interval() {
+            Some((lo, hi)) => format!("{conf} interval {} – {}; {basis}", sig(lo, 2), sig(hi, 2)),
+            None => format!(
+                "no interval: {}; {basis}",
+                lp.unresolved_reason.as_deref().unwrap_or("not resolved")
+            ),
+        },
     });
     let (band, note) = worst_band(s);
     cards.push(KeyNumber {
@@ -571,14 +581,28 @@ fn answer_sentence(folder: &RunFolder) -> String {
     let s = &folder.summary;
     let lp = &s.loss_probability;
     let c = &s.losses_by_cause;
-    let mut o = format!(
-        "Over the {}-year mission the tether is severed with probability {} ({:.0} % interval {} to {}). ",
-        year_label(s.mission_years),
-        sig(lp.estimate, 2),
-        100.0 * lp.confidence,
-        sig(lp.ci_low, 2),
-        sig(lp.ci_high, 2)
-    );
+    let mut o = match lp.interval() {
+        Some((lo, hi)) => format!(
+            "Over the {}-year mission the tether is severed with probability {} ({:.0} % interval {} to {}{}). ",
+            year_label(s.mission_years),
+            sig(lp.estimate, 2),
+            100.0 * lp.confidence,
+            sig(lo, 2),
+            sig(hi, 2),
+            if lp.is_weighted() {
+                ", weighted estimate"
+            } else {
+                ""
+            }
+        ),
+        None => format!(
+            "Over the {}-year mission the weighted estimate of the probability that the tether is severed is {} (standard error {}), but it is NOT RESOLVED: {}. No interval can be given; run more histories or a better-suited estimator before quoting it. ",
+            year_label(s.mission_years),
+            sig(lp.estimate, 2),
+            sig(lp.standard_error, 2),
+            lp.unresolved_reason.as_deref().unwrap_or("too few effective losses")
+        ),
+    };
     let total = c.direct_cut + c.cascade + c.stockout_delay;
     if total > 0 {
         o.push_str(&format!(

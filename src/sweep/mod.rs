@@ -35,7 +35,7 @@ use serde::{Deserialize, Serialize};
 use serde_json::Value;
 use thiserror::Error;
 
-use crate::engine::{Engine, EngineError, Interval, RunOptions, RunSummary};
+use crate::engine::{Engine, EngineError, Interval, LossProbability, RunOptions, RunSummary};
 use crate::model::{tether_design, Model};
 use crate::orbit::EarthMoon;
 use crate::report::plot::pareto_front;
@@ -307,9 +307,9 @@ pub struct PointResult {
     pub feasible: bool,
     /// Why the design is infeasible.
     pub reason: Option<String>,
-    /// Probability of system loss by mission end with its interval (Clopper–Pearson, or the
-    /// weighted estimate with a normal interval under the rare-event estimator).
-    pub loss_probability: Option<Interval>,
+    /// Probability of system loss by mission end: plain (Clopper–Pearson) or weighted (an
+    /// interval only when resolved), with its method and diagnostics.
+    pub loss_probability: Option<LossProbability>,
     /// Histories that ended in system loss (under the sampling measure).
     pub losses: Option<u64>,
     /// Cut segments per year, whole tether, with a normal interval.
