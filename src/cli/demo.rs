@@ -113,7 +113,9 @@ fn estimate_and_report(model: &Model, dir: &std::path::Path) -> anyhow::Result<(
     print("Markov estimate\n")?;
     let markov = MarkovModel::build(model)?;
     let estimate = markov.solve(&mission_times_s(&model.scenario.run))?;
-    let summary = EstimateSummary::new(model, &markov, &estimate);
+    let dm = tether_risk::model::damage_memory::solve(model, &mission_times_s(&model.scenario.run));
+    let summary =
+        EstimateSummary::new(model, &markov, &estimate).with_damage_memory(model, dm.as_ref());
     write_atomic(
         &dir.join("estimate.json"),
         (serde_json::to_string_pretty(&summary)? + "\n").as_bytes(),

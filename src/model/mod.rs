@@ -6,6 +6,7 @@
 //! added to the layout of DESIGN.md because the per-bay tables need environment, structure and
 //! damage together, and none of those may depend on the others in that direction.
 
+pub mod damage_memory;
 pub mod markov;
 mod rates;
 
