@@ -214,10 +214,10 @@ pub struct MemoryBayResult {
 const GL8: [(f64, f64); 8] = [
     (-0.960_289_856_497_536_3, 0.101_228_536_290_376_3),
     (-0.796_666_477_413_626_7, 0.222_381_034_453_374_5),
-    (-0.525_532_409_916_329_0, 0.313_706_645_877_887_3),
-    (-0.183_434_642_495_649_8, 0.362_683_783_378_362_0),
-    (0.183_434_642_495_649_8, 0.362_683_783_378_362_0),
-    (0.525_532_409_916_329_0, 0.313_706_645_877_887_3),
+    (-0.525_532_409_916_329, 0.313_706_645_877_887_3),
+    (-0.183_434_642_495_649_8, 0.362_683_783_378_362),
+    (0.183_434_642_495_649_8, 0.362_683_783_378_362),
+    (0.525_532_409_916_329, 0.313_706_645_877_887_3),
     (0.796_666_477_413_626_7, 0.222_381_034_453_374_5),
     (0.960_289_856_497_536_3, 0.101_228_536_290_376_3),
 ];
@@ -247,10 +247,11 @@ impl<R: HoleRate> MemoryBay<R> {
             .filter(|r| r.iter().skip(1).take(m.saturating_sub(1)).all(|&x| x > 0.0));
         let Some(mu) = repair else {
             // Exact (no repair).
-            let mut lam = Vec::with_capacity(m);
-            for k in 0..m {
-                lam.push((n - k) as f64 * rates[k]);
-            }
+            let lam: Vec<f64> = rates
+                .iter()
+                .enumerate()
+                .map(|(k, r)| (n - k) as f64 * r)
+                .collect();
             let loss = times_s
                 .iter()
                 .map(|&t| {
@@ -265,11 +266,13 @@ impl<R: HoleRate> MemoryBay<R> {
             };
         };
         // With repair (module notes).
-        let lam: Vec<f64> = (0..m).map(|k| (n - k) as f64 * rates[k]).collect();
+        let lam: Vec<f64> = rates
+            .iter()
+            .enumerate()
+            .map(|(k, r)| (n - k) as f64 * r)
+            .collect();
         let mut mu_full = vec![0.0; m];
-        for k in 1..m {
-            mu_full[k] = mu[k];
-        }
+        mu_full[1..m].copy_from_slice(&mu[1..m]);
         let r = if m > 1 {
             reach_top_before_zero(&lam, &mu_full)
         } else {
@@ -334,8 +337,8 @@ mod tests {
         // 1 − exp(−N H t) (closed form).
         let lam = 0.3;
         let c = cascade_outcome(5, 0, &[lam]);
-        assert!((c.loss - (1.0 - (-5.0 * lam as f64).exp())).abs() < 1e-14);
-        assert!((c.stop[0] - (-5.0 * lam as f64).exp()).abs() < 1e-14);
+        assert!((c.loss - (1.0 - (-5.0 * lam).exp())).abs() < 1e-14);
+        assert!((c.stop[0] - (-5.0 * lam).exp()).abs() < 1e-14);
     }
 
     #[test]

@@ -27,7 +27,7 @@ pub struct TailHoleRate<'t, 'f> {
 
 impl HoleRate for TailHoleRate<'_, '_> {
     fn hole_rate_at_least_per_s(&self, x_m: f64) -> f64 {
-        if !(x_m > 0.0) {
+        if x_m.is_nan() || x_m <= 0.0 {
             return f64::INFINITY;
         }
         self.table

@@ -123,6 +123,8 @@ pub struct RunFolder {
     pub estimate: Option<EstimateView>,
     /// The trade study, if any.
     pub sweep: Option<SweepInput>,
+    /// `sensitivity/sensitivity.json` with `sensitivity/sensitivity.svg`, if present.
+    pub sensitivity: Option<(crate::sweep::sensitivity::SensitivityResult, Option<String>)>,
     /// What was missing or left out, in words.
     pub notes: Vec<String>,
 }
@@ -239,7 +241,27 @@ impl RunFolder {
             notes.push("No trade study (sweep/sweep.json) in this folder: the cross-link spacing comparison is left out.".into());
             None
         };
+        let sens_dir = dir.join("sensitivity");
+        let sensitivity = if sens_dir.join("sensitivity.json").exists() {
+            match std::fs::read_to_string(sens_dir.join("sensitivity.json"))
+                .map_err(|e| e.to_string())
+                .and_then(|t| serde_json::from_str(&t).map_err(|e| e.to_string()))
+            {
+                Ok(r) => Some((
+                    r,
+                    std::fs::read_to_string(sens_dir.join("sensitivity.svg")).ok(),
+                )),
+                Err(e) => {
+                    notes.push(format!("sensitivity/sensitivity.json is not readable ({e}): the sensitivity section is left out."));
+                    None
+                }
+            }
+        } else {
+            notes.push("No sensitivity study (sensitivity/sensitivity.json) in this folder: the section \"Which assumption decides the answer?\" is left out; make it with `tether-risk sensitivity FILE --out DIR/sensitivity`.".into());
+            None
+        };
         Ok(RunFolder {
+            sensitivity,
             dir: dir.to_path_buf(),
             summary,
             manifest,
@@ -941,6 +963,68 @@ fn sweep_rows(v: &Value) -> Option<&Vec<Value>> {
     o.values().filter_map(Value::as_array).find(|a| is_rows(a))
 }
 
+fn sensitivity_section(
+    r: &crate::sweep::sensitivity::SensitivityResult,
+    svg: Option<&str>,
+) -> Section {
+    let measured: Vec<&crate::sweep::sensitivity::SensitivityRow> = r
+        .rows
+        .iter()
+        .filter(|x| x.swing_status == "measured")
+        .collect();
+    let mut paragraphs = vec![format!(
+        "Each uncertain input was set to the low and the high end of its documented range, one at a time, all others at the base, with {} histories and the same seed for every run (common random numbers). Rows are sorted by swing |P(high) - P(low)|; each range names its source or is marked as an engineering assumption.",
+        r.histories
+    )];
+    match measured.first() {
+        Some(top) => paragraphs.push(format!(
+            "The answer hangs most on the {}: over {} the loss probability moves by {}{}.",
+            top.input,
+            crate::report::sensitivity::range_label(top),
+            sig(top.swing, 2),
+            if top.distinguishable {
+                ""
+            } else {
+                ", although the two ends' intervals overlap in this run"
+            }
+        )),
+        None => {
+            let fast = r
+                .rows
+                .iter()
+                .filter_map(|x| x.damage_memory_swing.map(|s| (s, x)))
+                .max_by(|a, b| a.0.total_cmp(&b.0));
+            paragraphs.push(format!(
+                "No swing is measured: at least one end of every input saw no loss or is not resolved, so the Monte Carlo ranking is unknown; run more histories.{}",
+                fast.map_or(String::new(), |(s, x)| format!(
+                    " The fast damage-memory estimate (no sampling noise, its own assumptions) swings most with the {} ({}).",
+                    x.input,
+                    sig(s, 2)
+                ))
+            ));
+        }
+    }
+    Section {
+        heading: "Which assumption decides the answer?".into(),
+        paragraphs,
+        cards: Vec::new(),
+        figures: svg
+            .map(|s| ReportFigure {
+                caption: format!(
+                    "{} (sensitivity/sensitivity.svg)",
+                    crate::report::sensitivity::FIGURE_CAPTION
+                ),
+                svg: s.to_string(),
+            })
+            .into_iter()
+            .collect(),
+        tables: vec![ReportTable::from_table(
+            "One-at-a-time sensitivity, sorted by swing (sensitivity/sensitivity.md holds the same table)",
+            &crate::report::sensitivity::sensitivity_table(r, true),
+        )],
+    }
+}
+
 /// Largest number of trade-study rows shown in the report.
 const SWEEP_ROWS_SHOWN: usize = 200;
 
@@ -1152,6 +1236,9 @@ fn report_doc(folder: &RunFolder, figures: &[NamedFigure], t: &DocTables<'_>) ->
     ];
     if let Some(sw) = &folder.sweep {
         sections.push(sweep_section(sw));
+    }
+    if let Some((r, svg)) = &folder.sensitivity {
+        sections.push(sensitivity_section(r, svg.as_deref()));
     }
     sections.push(provenance_section(folder));
     if !folder.notes.is_empty() {

@@ -13,6 +13,7 @@ pub mod figures;
 pub mod html;
 pub mod plot;
 pub mod run;
+pub mod sensitivity;
 pub mod sweep;
 pub mod table;
 

@@ -103,7 +103,7 @@ impl WeightedProportion {
             0.0
         };
         let largest_weight_share = if sum_w > 0.0 { max_w / sum_w } else { 0.0 };
-        let unresolved = if !(sum_w > 0.0) {
+        let unresolved = if sum_w.is_nan() || sum_w <= 0.0 {
             Some(Unresolved::NoEvent)
         } else if largest_weight_share > MAX_WEIGHT_SHARE {
             Some(Unresolved::DominantWeight(largest_weight_share))
@@ -180,7 +180,7 @@ pub fn wilson_effective(p: f64, se: f64, confidence: f64) -> Result<(f64, f64), 
     if !(0.0..=1.0).contains(&p) {
         return Err(StatsError::BadProbability(p));
     }
-    if !(se > 0.0) || p == 0.0 || p == 1.0 {
+    if se.is_nan() || se <= 0.0 || p == 0.0 || p == 1.0 {
         return Ok((p, p));
     }
     let n_eff = p * (1.0 - p) / (se * se);

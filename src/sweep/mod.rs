@@ -28,6 +28,7 @@
 //! any thread count.
 
 mod path;
+pub mod sensitivity;
 
 pub use path::{get as value_at_path, leaf_paths};
 

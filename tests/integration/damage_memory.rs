@@ -31,8 +31,8 @@ fn brute_force_bay(n: usize, exposure: &[f64]) -> f64 {
                                                // m: M < h_{m-1}.
     let mut p = vec![0.0; m + 1];
     p[0] = 1.0 - cdf(0);
-    for i in 1..m {
-        p[i] = cdf(i - 1) - cdf(i);
+    for (i, pi) in p.iter_mut().enumerate().take(m).skip(1) {
+        *pi = cdf(i - 1) - cdf(i);
     }
     p[m] = cdf(m - 1);
     let cases = (m + 1).pow(n as u32);

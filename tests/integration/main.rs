@@ -12,4 +12,5 @@ mod rare_event;
 mod repair;
 mod report;
 mod robust;
+mod sensitivity;
 mod sweep;
