@@ -519,7 +519,8 @@ fn pipeline(text: &str) -> Result<Stage, String> {
     }
     let s = RunSummary::from_tally(&engine, tally, 2, seed, None, 0.05);
     let p = s.loss_probability;
-    for x in [p.estimate, p.ci_low, p.ci_high] {
+    let (lo, hi) = p.interval().unwrap_or((p.estimate, p.estimate));
+    for x in [p.estimate, lo, hi] {
         if !(0.0..=1.0).contains(&x) {
             return Err(format!("loss probability outside [0, 1]: {p:?}"));
         }

@@ -10,6 +10,7 @@ mod merge;
 mod output;
 mod profile;
 mod report;
+mod sensitivity;
 mod simulate;
 mod sweep;
 
@@ -41,12 +42,14 @@ enum Command {
     Simulate(simulate::Args),
     /// Join shard results (simulate --shard I/N) into the result of the whole run.
     Merge(merge::Args),
-    /// Fast Markov estimate of loss probability by year (independent bays, exponential repair)
+    /// Fast estimates by year: damage-memory (order statistics of holes) beside the memoryless Markov chain
     Estimate(estimate::Args),
     /// Trade study: run a grid of designs with common random numbers
     Sweep(sweep::Args),
     /// Re-render tables, plots and report.html from a saved run folder
     Report(report::Args),
+    /// Which uncertain input decides the answer: one-at-a-time low/high runs, sorted by swing
+    Sensitivity(sensitivity::Args),
 }
 
 /// Machine-readable or human output.
@@ -75,5 +78,6 @@ pub fn run() -> anyhow::Result<()> {
         Command::Estimate(a) => estimate::run(a),
         Command::Sweep(a) => sweep::run(a),
         Command::Report(a) => report::run(a),
+        Command::Sensitivity(a) => sensitivity::run(a),
     }
 }

@@ -547,7 +547,12 @@ pub fn write_design_and_estimate(model: &Model, dir: &Path) -> anyhow::Result<Ve
     // The estimate is a cross-check: a scenario it cannot treat leaves it out (the report says so).
     if let Ok(markov) = MarkovModel::build(model) {
         if let Ok(estimate) = markov.solve(&mission_times_s(&model.scenario.run)) {
-            let e = EstimateSummary::new(model, &markov, &estimate);
+            let dm = tether_risk::model::damage_memory::solve(
+                model,
+                &mission_times_s(&model.scenario.run),
+            );
+            let e = EstimateSummary::new(model, &markov, &estimate)
+                .with_damage_memory(model, dm.as_ref());
             write_atomic(
                 &dir.join("estimate.json"),
                 (serde_json::to_string_pretty(&e)? + "\n").as_bytes(),

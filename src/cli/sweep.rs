@@ -83,7 +83,7 @@ struct SweepPlan {
 }
 
 /// The base scenario's text and the folder its relative paths start from.
-fn read_base(file: &str) -> anyhow::Result<(String, PathBuf)> {
+pub(super) fn read_base(file: &str) -> anyhow::Result<(String, PathBuf)> {
     if file == "demo" && !Path::new("demo").exists() {
         return Ok((scenario::DEMO_SCENARIO_JSON.to_string(), PathBuf::from(".")));
     }
@@ -108,7 +108,7 @@ fn read_base(file: &str) -> anyhow::Result<(String, PathBuf)> {
     Ok((s, dir))
 }
 
-fn sweep_err(e: SweepError) -> anyhow::Error {
+pub(super) fn sweep_err(e: SweepError) -> anyhow::Error {
     if e.is_input_error() {
         InputError(e.to_string()).into()
     } else {

@@ -23,8 +23,9 @@ pub use ondemand::{critical_width_m, OnDemandTables};
 pub use rng::{splitmix64, stream, Purpose};
 pub use sampler::{open01, unit, Strike, StrikeSampler};
 pub use summary::{
-    BandRow, CauseCounts, CountQuantiles, DurationStats, Interval, LittleLaw, RepairSummary,
-    RunSummary, SpareSummary, StationDemand, StationProbability, StationStock, SurvivalPoint,
+    BandRow, CauseCounts, CountQuantiles, DurationStats, EstimateMethod, Interval, LittleLaw,
+    LossProbability, RepairSummary, RunSummary, SpareSummary, StationDemand, StationProbability,
+    StationStock, SurvivalPoint, PLAIN_INTERVAL_METHOD, WEIGHTED_INTERVAL_METHOD,
 };
 pub use tally::{Loss, LossCause, Tally, WeightedBatch, ANOMALY_EXAMPLES};
 

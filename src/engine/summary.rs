@@ -4,7 +4,7 @@
 use serde::{Deserialize, Serialize};
 use statrs::distribution::{ContinuousCDF, Normal};
 
-use crate::stats::clopper_pearson;
+use crate::stats::{clopper_pearson, WeightedProportion};
 
 use super::tally::Tally;
 use super::{altitude_band_edges_m, Engine, BATCH_SIZE};
@@ -23,17 +23,132 @@ pub struct Interval {
     pub confidence: f64,
 }
 
+/// How a loss probability was estimated.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum EstimateMethod {
+    /// Plain Monte Carlo: losses counted in independent, equally weighted histories.
+    Plain,
+    /// Importance sampling: likelihood-ratio weighted histories.
+    Weighted,
+}
+
+/// Interval method of a plain Monte Carlo probability.
+pub const PLAIN_INTERVAL_METHOD: &str = "Clopper–Pearson (exact binomial)";
+/// Interval method of a resolved weighted probability (see [`crate::stats::wilson_effective`]).
+pub const WEIGHTED_INTERVAL_METHOD: &str =
+    "Wilson score on effective counts (n* = p(1-p)/SE^2, events = ESS; Korn & Graubard 1998)";
+
+/// A probability with everything a reviewer needs to judge it: the estimate, its standard
+/// error, how it was obtained, and an interval only when one can honestly be formed.
+///
+/// Plain Monte Carlo: the interval is the exact Clopper–Pearson interval, valid at any count
+/// (with no loss it runs from 0 to what the histories rule out), so it is always resolved;
+/// `effective_sample_size` is the number of losses and `largest_weight_share` is 1/losses.
+/// Weighted (rare-event) estimates: resolved only when the effective sample size of the lost
+/// histories' weights is at least 100 and no history carries more than 10 % of the weight
+/// ([`crate::stats::WeightedProportion`]); otherwise `ci_low`/`ci_high` are absent (`null`)
+/// and `unresolved_reason` says why.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct LossProbability {
+    /// Point estimate.
+    pub estimate: f64,
+    /// Lower bound (absent when not resolved).
+    pub ci_low: Option<f64>,
+    /// Upper bound (absent when not resolved).
+    pub ci_high: Option<f64>,
+    /// Confidence level of the interval.
+    pub confidence: f64,
+    /// `plain` or `weighted`.
+    pub method: EstimateMethod,
+    /// How the interval was formed (or why there is none).
+    pub interval_method: String,
+    /// True when the interval may be used.
+    pub resolved: bool,
+    /// Why there is no interval.
+    pub unresolved_reason: Option<String>,
+    /// Standard error of the estimate.
+    pub standard_error: f64,
+    /// Effective number of losses: the Kish effective sample size of the lost histories'
+    /// weights (plain Monte Carlo: the loss count).
+    pub effective_sample_size: f64,
+    /// Largest single loss weight over the total loss weight (plain: 1/losses; 0 with none).
+    pub largest_weight_share: f64,
+}
+
+impl LossProbability {
+    /// Plain Monte Carlo: `k` losses in `n` histories, Clopper–Pearson interval.
+    pub fn plain(k: u64, n: u64, confidence: f64) -> Self {
+        let (lo, hi) = clopper_pearson(k, n, confidence).unwrap_or((0.0, 1.0));
+        let p = if n > 0 { k as f64 / n as f64 } else { 0.0 };
+        LossProbability {
+            estimate: p,
+            ci_low: Some(lo),
+            ci_high: Some(hi),
+            confidence,
+            method: EstimateMethod::Plain,
+            interval_method: PLAIN_INTERVAL_METHOD.into(),
+            resolved: true,
+            unresolved_reason: None,
+            standard_error: if n > 1 {
+                (p * (1.0 - p) / n as f64).sqrt()
+            } else {
+                0.0
+            },
+            effective_sample_size: k as f64,
+            largest_weight_share: if k > 0 { 1.0 / k as f64 } else { 0.0 },
+        }
+    }
+
+    /// A weighted estimate with the resolution rules of [`WeightedProportion`].
+    pub fn weighted(w: &WeightedProportion, confidence: f64) -> Self {
+        let interval = w.interval(confidence).ok().flatten();
+        LossProbability {
+            estimate: w.estimate,
+            ci_low: interval.map(|i| i.0),
+            ci_high: interval.map(|i| i.1),
+            confidence,
+            method: EstimateMethod::Weighted,
+            interval_method: if interval.is_some() {
+                WEIGHTED_INTERVAL_METHOD.into()
+            } else {
+                "none: not resolved".into()
+            },
+            resolved: interval.is_some(),
+            unresolved_reason: w.unresolved.map(|u| u.to_string()),
+            standard_error: w.standard_error,
+            effective_sample_size: w.effective_sample_size,
+            largest_weight_share: w.largest_weight_share,
+        }
+    }
+
+    /// The interval, when resolved.
+    pub fn interval(&self) -> Option<(f64, f64)> {
+        match (self.resolved, self.ci_low, self.ci_high) {
+            (true, Some(lo), Some(hi)) => Some((lo, hi)),
+            _ => None,
+        }
+    }
+
+    /// True for a weighted estimate.
+    pub fn is_weighted(&self) -> bool {
+        self.method == EstimateMethod::Weighted
+    }
+}
+
 /// Survival to the end of a mission year.
-#[derive(Clone, Copy, Debug, PartialEq, Serialize, Deserialize)]
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
 pub struct SurvivalPoint {
     /// Years since mission start.
     pub year: f64,
     /// Probability of no system loss by then.
     pub estimate: f64,
-    /// Lower bound (Clopper–Pearson).
-    pub ci_low: f64,
-    /// Upper bound.
-    pub ci_high: f64,
+    /// Lower bound (absent when the loss probability by then is not resolved).
+    pub ci_low: Option<f64>,
+    /// Upper bound (absent when not resolved).
+    pub ci_high: Option<f64>,
+    /// The cumulative loss probability by then, with its method and diagnostics.
+    pub loss: LossProbability,
 }
 
 /// Cuts and losses in one altitude band.
@@ -47,8 +162,9 @@ pub struct BandRow {
     pub cuts_per_year: f64,
     /// Histories lost in this band.
     pub losses: u64,
-    /// Loss probability in this band, with its interval.
-    pub loss_probability: Interval,
+    /// Loss probability in this band, with its Clopper–Pearson interval (plain Monte Carlo
+    /// only; absent for rare-event runs, whose band counts are from the biased measure).
+    pub loss_probability: Option<Interval>,
 }
 
 /// Losses by cause.
@@ -90,7 +206,7 @@ pub struct RunSummary {
     /// Mission length, years.
     pub mission_years: f64,
     /// Probability of at least one system loss by mission end.
-    pub loss_probability: Interval,
+    pub loss_probability: LossProbability,
     /// Survival by year.
     pub survival_by_year: Vec<SurvivalPoint>,
     /// Mean number of cut segments per history over the mission.
@@ -204,8 +320,8 @@ impl RunSummary {
         let years = engine.mission_years();
         let rare_event = RareEventSummary::from_tally(engine, &tally, conf);
         let loss_probability = match &rare_event {
-            Some(r) => r.loss_probability,
-            None => cp(tally.losses, tally.histories, conf),
+            Some(r) => r.loss_probability.clone(),
+            None => LossProbability::plain(tally.losses, tally.histories, conf),
         };
 
         let mut survival_by_year = Vec::with_capacity(tally.losses_by_year.len());
@@ -213,14 +329,15 @@ impl RunSummary {
         for (y, &l) in tally.losses_by_year.iter().enumerate() {
             cum += l;
             let i = match &rare_event {
-                Some(r) => r.cumulative_by_year[y],
-                None => cp(cum, tally.histories, conf),
+                Some(r) => r.cumulative_by_year[y].clone(),
+                None => LossProbability::plain(cum, tally.histories, conf),
             };
             survival_by_year.push(SurvivalPoint {
                 year: ((y + 1) as f64).min(years),
                 estimate: 1.0 - i.estimate,
-                ci_low: 1.0 - i.ci_high,
-                ci_high: 1.0 - i.ci_low,
+                ci_low: i.interval().map(|(_, hi)| 1.0 - hi),
+                ci_high: i.interval().map(|(lo, _)| 1.0 - lo),
+                loss: i,
             });
         }
 
@@ -247,11 +364,13 @@ impl RunSummary {
                 top_altitude_km: edges[b + 1] / 1e3,
                 cuts_per_year: per_year(tally.cuts_by_band.get(b).copied().unwrap_or(0) as f64 / h),
                 losses: tally.losses_by_band.get(b).copied().unwrap_or(0),
-                loss_probability: cp(
-                    tally.losses_by_band.get(b).copied().unwrap_or(0),
-                    tally.histories,
-                    conf,
-                ),
+                loss_probability: rare_event.is_none().then(|| {
+                    cp(
+                        tally.losses_by_band.get(b).copied().unwrap_or(0),
+                        tally.histories,
+                        conf,
+                    )
+                }),
             })
             .collect();
 
@@ -604,8 +723,8 @@ pub struct RareEventSummary {
     pub method: String,
     /// Boost factor of strike (cut) rates on bays that already have a cut.
     pub boost_factor: f64,
-    /// Weighted loss probability with a normal interval from the weighted samples.
-    pub loss_probability: Interval,
+    /// Weighted loss probability (interval only when resolved).
+    pub loss_probability: LossProbability,
     /// Standard error of the estimate.
     pub std_error: f64,
     /// Standard error over the estimate (absent when no loss was seen).
@@ -616,8 +735,12 @@ pub struct RareEventSummary {
     pub largest_weight_share: f64,
     /// Histories that ended in loss under the biased measure.
     pub losses_observed: u64,
-    /// Weighted cumulative loss probability by year, with normal intervals.
-    pub cumulative_by_year: Vec<Interval>,
+    /// Weighted cumulative loss probability by year. Per-year second moments and largest
+    /// weights are not tallied, so each year uses bounds from the mission totals: the
+    /// second moment `Σ w² 1{loss by y} <= Σ w² 1{loss}` and the largest weight `<= max w`.
+    /// The standard error, effective sample size and weight share are therefore conservative
+    /// (never more favourable than the truth), and so is the resolution decision.
+    pub cumulative_by_year: Vec<LossProbability>,
 }
 
 impl RareEventSummary {
@@ -638,53 +761,27 @@ impl RareEventSummary {
                 *a += *x;
             }
         }
-        let n = tally.histories.max(1) as f64;
-        let z = z_of(conf);
-        let interval = |sum: f64, sum2: f64| {
-            let mean = sum / n;
-            let var = if n > 1.0 {
-                ((sum2 / n - mean * mean) * n / (n - 1.0)).max(0.0)
-            } else {
-                0.0
-            };
-            let se = (var / n).sqrt();
-            (
-                Interval {
-                    estimate: mean,
-                    ci_low: (mean - z * se).max(0.0),
-                    ci_high: (mean + z * se).min(1.0),
-                    confidence: conf,
-                },
-                se,
-            )
-        };
-        let (lp, se) = interval(sw, sw2);
-        // Per-year second moments are not kept; the yearly intervals use the end-of-mission
-        // second moment, which bounds every earlier year's (weights of earlier losses are a
-        // subset), so they are conservative.
+        let n = tally.histories;
+        let total = WeightedProportion::from_sums(sw, sw2, mx, n);
+        let lp = LossProbability::weighted(&total, conf);
         let mut cum = 0.0;
         let cumulative_by_year = by_year
             .iter()
             .map(|&w| {
                 cum += w;
-                let mean = cum / n;
-                let half = z * se;
-                Interval {
-                    estimate: mean,
-                    ci_low: (mean - half).max(0.0),
-                    ci_high: (mean + half).min(1.0),
-                    confidence: conf,
-                }
+                // Bounds from the mission totals (see the field's notes).
+                let year = WeightedProportion::from_sums(cum, sw2, mx.min(cum), n);
+                LossProbability::weighted(&year, conf)
             })
             .collect();
         Some(RareEventSummary {
             method: "failure biasing by rate inflation on damaged bays, likelihood-ratio weights (Heidelberger 1995, ACM TOMACS 5, 43)".into(),
             boost_factor: engine.rare_event_factor(),
+            std_error: total.standard_error,
+            relative_error: (total.estimate > 0.0).then(|| total.standard_error / total.estimate),
+            effective_sample_size: total.effective_sample_size,
+            largest_weight_share: total.largest_weight_share,
             loss_probability: lp,
-            std_error: se,
-            relative_error: (lp.estimate > 0.0).then(|| se / lp.estimate),
-            effective_sample_size: if sw2 > 0.0 { sw * sw / sw2 } else { 0.0 },
-            largest_weight_share: if sw > 0.0 { mx / sw } else { 0.0 },
             losses_observed: tally.losses,
             cumulative_by_year,
         })

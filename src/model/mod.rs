@@ -7,6 +7,7 @@
 //! damage together, and none of those may depend on the others in that direction.
 
 pub mod climber;
+pub mod damage_memory;
 pub mod ejecta;
 pub mod hole_rate;
 pub mod markov;

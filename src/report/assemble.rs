@@ -137,6 +137,8 @@ pub struct RunFolder {
     pub estimate: Option<EstimateView>,
     /// The trade study, if any.
     pub sweep: Option<SweepInput>,
+    /// `sensitivity/sensitivity.json` with `sensitivity/sensitivity.svg`, if present.
+    pub sensitivity: Option<(crate::sweep::sensitivity::SensitivityResult, Option<String>)>,
     /// What was missing or left out, in words.
     pub notes: Vec<String>,
     /// Why the folder may be incomplete (no manifest listing its files), shown as a warning at
@@ -338,6 +340,22 @@ impl RunFolder {
             notes.push("No trade study (sweep/sweep.json) in this folder: the cross-link spacing comparison is left out.".into());
             None
         };
+        let sens_dir = dir.join("sensitivity");
+        let sensitivity = if sens_dir.join("sensitivity.json").exists() {
+            match read_capped(&sens_dir.join("sensitivity.json"))
+                .map_err(|e| e.to_string())
+                .and_then(|t| serde_json::from_str(&t).map_err(|e| e.to_string()))
+            {
+                Ok(r) => Some((r, read_capped(&sens_dir.join("sensitivity.svg")).ok())),
+                Err(e) => {
+                    notes.push(format!("sensitivity/sensitivity.json is not readable ({e}): the sensitivity section is left out."));
+                    None
+                }
+            }
+        } else {
+            notes.push("No sensitivity study (sensitivity/sensitivity.json) in this folder: the section \"Which assumption decides the answer?\" is left out; make it with `tether-risk sensitivity FILE --out DIR/sensitivity`.".into());
+            None
+        };
         if let Some(h) = sweep
             .as_ref()
             .and_then(|s| s.value.get("scenario_hash"))
@@ -357,6 +375,7 @@ impl RunFolder {
             });
         }
         Ok(RunFolder {
+            sensitivity,
             dir: dir.to_path_buf(),
             summary,
             manifest,
@@ -723,8 +742,12 @@ fn key_section(folder: &RunFolder) -> Section {
     let mut cards = Vec::new();
     let basis = match &s.rare_event {
         Some(r) => format!(
-            "weighted rare-event estimate, {} histories, {} losses under the biased measure",
-            s.histories, r.losses_observed
+            "weighted rare-event estimate, {} histories, {} losses under the biased measure, SE {}, effective sample size {}, largest weight {:.1} %",
+            s.histories,
+            r.losses_observed,
+            sig(lp.standard_error, 2),
+            sig(lp.effective_sample_size, 3),
+            100.0 * lp.largest_weight_share
         ),
         None => format!(
             "{} losses in {} histories, Clopper–Pearson",
@@ -733,12 +756,18 @@ fn key_section(folder: &RunFolder) -> Section {
     };
     cards.push(KeyNumber {
         label: format!("Probability of losing the tether within {years} years"),
-        value: sig(lp.estimate, 2),
-        note: format!(
-            "{conf} interval {} – {}; {basis}",
-            sig(lp.ci_low, 2),
-            sig(lp.ci_high, 2)
-        ),
+        value: if lp.resolved {
+            sig(lp.estimate, 2)
+        } else {
+            format!("{} (not resolved)", sig(lp.estimate, 2))
+        },
+        note: match lp.interval() {
+            Some((lo, hi)) => format!("{conf} interval {} – {}; {basis}", sig(lo, 2), sig(hi, 2)),
+            None => format!(
+                "no interval: {}; {basis}",
+                lp.unresolved_reason.as_deref().unwrap_or("not resolved")
+            ),
+        },
     });
     let (band, note) = worst_band(s);
     cards.push(KeyNumber {
@@ -834,14 +863,28 @@ fn answer_sentence(folder: &RunFolder) -> String {
     let s = &folder.summary;
     let lp = &s.loss_probability;
     let c = &s.losses_by_cause;
-    let mut o = format!(
-        "Over the {}-year mission the tether is severed with probability {} ({:.0} % interval {} to {}). ",
-        year_label(s.mission_years),
-        sig(lp.estimate, 2),
-        100.0 * lp.confidence,
-        sig(lp.ci_low, 2),
-        sig(lp.ci_high, 2)
-    );
+    let mut o = match lp.interval() {
+        Some((lo, hi)) => format!(
+            "Over the {}-year mission the tether is severed with probability {} ({:.0} % interval {} to {}{}). ",
+            year_label(s.mission_years),
+            sig(lp.estimate, 2),
+            100.0 * lp.confidence,
+            sig(lo, 2),
+            sig(hi, 2),
+            if lp.is_weighted() {
+                ", weighted estimate"
+            } else {
+                ""
+            }
+        ),
+        None => format!(
+            "Over the {}-year mission the weighted estimate of the probability that the tether is severed is {} (standard error {}), but it is NOT RESOLVED: {}. No interval can be given; run more histories or a better-suited estimator before quoting it. ",
+            year_label(s.mission_years),
+            sig(lp.estimate, 2),
+            sig(lp.standard_error, 2),
+            lp.unresolved_reason.as_deref().unwrap_or("too few effective losses")
+        ),
+    };
     let total = c.direct_cut + c.cascade + c.stockout_delay;
     if total > 0 {
         o.push_str(&format!(
@@ -1180,6 +1223,68 @@ fn sweep_rows(v: &Value) -> Option<&Vec<Value>> {
     o.values().filter_map(Value::as_array).find(|a| is_rows(a))
 }
 
+fn sensitivity_section(
+    r: &crate::sweep::sensitivity::SensitivityResult,
+    svg: Option<&str>,
+) -> Section {
+    let measured: Vec<&crate::sweep::sensitivity::SensitivityRow> = r
+        .rows
+        .iter()
+        .filter(|x| x.swing_status == "measured")
+        .collect();
+    let mut paragraphs = vec![format!(
+        "Each uncertain input was set to the low and the high end of its documented range, one at a time, all others at the base, with {} histories and the same seed for every run (common random numbers). Rows are sorted by swing |P(high) - P(low)|; each range names its source or is marked as an engineering assumption.",
+        r.histories
+    )];
+    match measured.first() {
+        Some(top) => paragraphs.push(format!(
+            "The answer hangs most on the {}: over {} the loss probability moves by {}{}.",
+            top.input,
+            crate::report::sensitivity::range_label(top),
+            sig(top.swing, 2),
+            if top.distinguishable {
+                ""
+            } else {
+                ", although the two ends' intervals overlap in this run"
+            }
+        )),
+        None => {
+            let fast = r
+                .rows
+                .iter()
+                .filter_map(|x| x.damage_memory_swing.map(|s| (s, x)))
+                .max_by(|a, b| a.0.total_cmp(&b.0));
+            paragraphs.push(format!(
+                "No swing is measured: at least one end of every input saw no loss or is not resolved, so the Monte Carlo ranking is unknown; run more histories.{}",
+                fast.map_or(String::new(), |(s, x)| format!(
+                    " The fast damage-memory estimate (no sampling noise, its own assumptions) swings most with the {} ({}).",
+                    x.input,
+                    sig(s, 2)
+                ))
+            ));
+        }
+    }
+    Section {
+        heading: "Which assumption decides the answer?".into(),
+        paragraphs,
+        cards: Vec::new(),
+        figures: svg
+            .map(|s| ReportFigure {
+                caption: format!(
+                    "{} (sensitivity/sensitivity.svg)",
+                    crate::report::sensitivity::FIGURE_CAPTION
+                ),
+                svg: s.to_string(),
+            })
+            .into_iter()
+            .collect(),
+        tables: vec![ReportTable::from_table(
+            "One-at-a-time sensitivity, sorted by swing (sensitivity/sensitivity.md holds the same table)",
+            &crate::report::sensitivity::sensitivity_table(r, true),
+        )],
+    }
+}
+
 /// Largest number of trade-study rows shown in the report.
 const SWEEP_ROWS_SHOWN: usize = 200;
 
@@ -1394,6 +1499,9 @@ fn report_doc(folder: &RunFolder, figures: &[NamedFigure], t: &DocTables<'_>) ->
     ];
     if let Some(sw) = &folder.sweep {
         sections.push(sweep_section(sw));
+    }
+    if let Some((r, svg)) = &folder.sensitivity {
+        sections.push(sensitivity_section(r, svg.as_deref()));
     }
     sections.push(provenance_section(folder));
     if !folder.notes.is_empty() {

@@ -8,6 +8,7 @@ use serde::Serialize;
 use super::table::{sig, Table};
 use super::CAUTION;
 use crate::analytic::estimate::SystemEstimate;
+use crate::model::damage_memory::DamageMemoryResult;
 use crate::model::markov::{MarkovMode, MarkovModel};
 use crate::model::Model;
 use crate::scenario::SECONDS_PER_YEAR;
@@ -75,8 +76,60 @@ pub struct EstimateSummary {
     /// Largest mean repair time over the bays, hours (`null`: no repair). Per-bay values are
     /// in `bays`; travel makes them differ.
     pub repair_mean_time_hours: Option<f64>,
+    /// The damage-memory estimate beside this memoryless one (`null` in validation mode).
+    pub damage_memory: Option<DamageMemorySummary>,
     /// Engineering caution.
     pub caution: String,
+}
+
+/// Relative difference above which the damage-memory and memoryless estimates are reported as
+/// disagreeing. Both are computed to better than 1e-6 relative (quadrature and
+/// uniformization); with repair the damage-memory estimate is an approximation whose error is
+/// not bounded analytically, and 10 % is the tolerance it is checked to against Monte Carlo
+/// in the tests where that is affordable. A difference beyond it is a difference of model
+/// (memory of holes), not of numerics.
+pub const AGREEMENT_TOLERANCE: f64 = 0.1;
+
+/// One bay's damage-memory result.
+#[derive(Clone, Debug, Serialize, PartialEq)]
+pub struct MemoryBayEstimate {
+    /// Bay index from the anchor.
+    pub bay_index: usize,
+    /// Bay bottom and top altitude, km.
+    pub altitude_range_km: [f64; 2],
+    /// Damage-memory loss probability by mission end.
+    pub loss_probability: f64,
+    /// Share of this bay's loss that needs old sub-critical holes.
+    pub latent_damage_share: f64,
+}
+
+/// The damage-memory estimate (see [`crate::analytic::damage_memory`]).
+#[derive(Clone, Debug, Serialize, PartialEq)]
+pub struct DamageMemorySummary {
+    /// How it was computed.
+    pub method: String,
+    /// True when exact under its stated assumptions (no repair).
+    pub exact: bool,
+    /// System loss probability by mission end.
+    pub loss_probability: f64,
+    /// System loss probability at each whole mission year and at mission end.
+    pub loss_probability_by_year: Vec<YearPoint>,
+    /// The direct-cut part (every cut made by one strike at least the then-critical width).
+    pub direct_cut_loss_probability_by_year: Vec<YearPoint>,
+    /// Share of the mission-end loss probability that needs old sub-critical holes
+    /// (`1 − direct / total`).
+    pub latent_damage_share: f64,
+    /// `latent damage` or `direct cuts`: which mechanism carries most of the loss.
+    pub dominant_mechanism: String,
+    /// Damage-memory over memoryless (Markov) loss probability at mission end (`null` when the
+    /// memoryless one is 0).
+    pub ratio_to_memoryless: Option<f64>,
+    /// True when the two differ by more than [`AGREEMENT_TOLERANCE`].
+    pub disagrees_with_memoryless: bool,
+    /// The approximations behind the number.
+    pub approximations: Vec<String>,
+    /// Bays with the largest damage-memory loss probability, at most [`TOP_BAYS`].
+    pub bays: Vec<MemoryBayEstimate>,
 }
 
 impl EstimateSummary {
@@ -156,24 +209,132 @@ impl EstimateSummary {
             unperforated_fraction_bound: markov.unperforated_fraction_bound,
             bays,
             repair_mean_time_hours,
+            damage_memory: None,
             caution: CAUTION.into(),
         }
     }
 
+    /// Add the damage-memory estimate (solved at the same times as the Markov estimate).
+    pub fn with_damage_memory(mut self, model: &Model, dm: Option<&DamageMemoryResult>) -> Self {
+        let Some(dm) = dm else {
+            return self;
+        };
+        let last = dm.times_s.len().saturating_sub(1);
+        let points = |v: &[f64]| {
+            dm.times_s
+                .iter()
+                .zip(v)
+                .map(|(&t, &p)| YearPoint {
+                    year: t / SECONDS_PER_YEAR,
+                    loss_probability: p,
+                })
+                .collect::<Vec<_>>()
+        };
+        let total = dm.system_loss_probability.get(last).copied().unwrap_or(0.0);
+        let direct = dm
+            .system_direct_loss_probability
+            .get(last)
+            .copied()
+            .unwrap_or(0.0);
+        let share = |t: f64, d: f64| {
+            if t > 0.0 {
+                (1.0 - d / t).clamp(0.0, 1.0)
+            } else {
+                0.0
+            }
+        };
+        let latent = share(total, direct);
+        let ratio = (self.loss_probability > 0.0).then(|| total / self.loss_probability);
+        let disagrees = match ratio {
+            Some(r) => (r - 1.0).abs() > AGREEMENT_TOLERANCE,
+            None => total > 0.0,
+        };
+        let mut order: Vec<usize> = (0..dm.bay_loss_probability.len()).collect();
+        let at_end = |i: usize| dm.bay_loss_probability[i].get(last).copied().unwrap_or(0.0);
+        order.sort_by(|&a, &b| at_end(b).total_cmp(&at_end(a)).then(a.cmp(&b)));
+        let bays = order
+            .iter()
+            .take(TOP_BAYS)
+            .map(|&i| {
+                let bay = &model.profile.bays[i];
+                let d = dm.bay_direct_loss_probability[i]
+                    .get(last)
+                    .copied()
+                    .unwrap_or(0.0);
+                MemoryBayEstimate {
+                    bay_index: i,
+                    altitude_range_km: [bay.bottom_altitude_m / 1e3, bay.top_altitude_m / 1e3],
+                    loss_probability: at_end(i),
+                    latent_damage_share: share(at_end(i), d),
+                }
+            })
+            .collect();
+        let mut approximations = vec![
+            "each segment's worst hole is the running maximum of a Poisson process of removed widths, P(M < x) = exp(-H(x) t); holes at different places along a bay do not add".to_string(),
+            "independent bays; equal load sharing (local sharing is approximated by equal sharing; sharing `none` keeps the intact critical width)".into(),
+            "speed-independent hole, as in the memoryless estimate".into(),
+        ];
+        if dm.exact {
+            approximations.push("no repair: exact from the order statistics of the segments' worst holes against the critical widths".into());
+        } else {
+            approximations.extend([
+                "with repair (approximation): a cut in an intact bay triggers a cascade through the other segments' accumulated holes at once; if it stops short of loss, the bay is lost before repair with the memoryless chain's first-passage probability".to_string(),
+                "every segment is taken as old as the mission (splices renew only cut segments; slightly pessimistic)".into(),
+                "holes made during a repair window cut only through the memoryless chain; triggers are rare and independent; exponential repair with no fleet contention or stock-outs".into(),
+            ]);
+        }
+        self.damage_memory = Some(DamageMemorySummary {
+            method: if dm.exact {
+                "order statistics of the worst holes, exact without repair".into()
+            } else {
+                "order statistics of the worst holes at each trigger cut, with repair by the memoryless first-passage probability (approximation)".into()
+            },
+            exact: dm.exact,
+            loss_probability: total,
+            loss_probability_by_year: points(&dm.system_loss_probability),
+            direct_cut_loss_probability_by_year: points(&dm.system_direct_loss_probability),
+            latent_damage_share: latent,
+            dominant_mechanism: if latent > 0.5 {
+                "latent damage".into()
+            } else {
+                "direct cuts".into()
+            },
+            ratio_to_memoryless: ratio,
+            disagrees_with_memoryless: disagrees,
+            approximations,
+            bays,
+        });
+        self
+    }
+
     /// Loss probability by year as a table.
     pub fn year_table(&self) -> Table {
-        let mut t = Table::new(["year", "loss_probability", "survival"]);
-        for p in &self.loss_probability_by_year {
+        let dm = self.damage_memory.as_ref();
+        let mut header = vec!["year", "loss_probability", "survival"];
+        if dm.is_some() {
+            header.extend(["damage_memory_loss_probability", "direct_cut_part"]);
+        }
+        let mut t = Table::new(header);
+        for (i, p) in self.loss_probability_by_year.iter().enumerate() {
             let year = if p.year.fract() == 0.0 {
                 format!("{:.0}", p.year)
             } else {
                 sig(p.year, 4)
             };
-            t.push([
+            let mut row = vec![
                 year,
                 sig(p.loss_probability, 4),
                 sig(1.0 - p.loss_probability, 10),
-            ]);
+            ];
+            if let Some(d) = dm {
+                let at = |v: &[YearPoint]| {
+                    v.get(i)
+                        .map_or(String::new(), |x| sig(x.loss_probability, 4))
+                };
+                row.push(at(&d.loss_probability_by_year));
+                row.push(at(&d.direct_cut_loss_probability_by_year));
+            }
+            t.push(row);
         }
         t
     }
@@ -238,13 +399,54 @@ impl EstimateSummary {
             self.mission_years,
             self.version
         ));
+        o.push_str("Probability of system loss by mission end\n");
+        if let Some(d) = &self.damage_memory {
+            o.push_str(&format!(
+                "  damage-memory estimate ({}): {}\n",
+                if d.exact {
+                    "remembers sub-critical holes; exact without repair"
+                } else {
+                    "remembers sub-critical holes; approximation with repair"
+                },
+                sig(d.loss_probability, 4)
+            ));
+        }
         o.push_str(&format!(
-            "Probability of system loss by mission end: {}\n",
+            "  memoryless Markov estimate (forgets sub-critical holes): {}\n",
             sig(self.loss_probability, 4)
         ));
-        o.push_str("This number holds only under these assumptions:\n");
+        if let Some(d) = &self.damage_memory {
+            o.push_str(&format!(
+                "  dominant mechanism: {} ({:.1} % of the damage-memory loss needs old sub-critical holes; the rest is direct cuts)\n",
+                d.dominant_mechanism,
+                100.0 * d.latent_damage_share
+            ));
+            if d.disagrees_with_memoryless {
+                o.push_str(&format!(
+                    "  DISAGREE: the two differ by {} (more than the {:.0} % both are good to): the memoryless number misses losses through accumulated holes and must not be used on its own for this design.\n",
+                    match d.ratio_to_memoryless {
+                        Some(r) if r >= 1.0 => format!("a factor {}", sig(r, 3)),
+                        Some(r) => format!("a factor {} (damage-memory lower)", sig(1.0 / r, 3)),
+                        None => "an undefined factor (memoryless estimate 0)".into(),
+                    },
+                    100.0 * AGREEMENT_TOLERANCE
+                ));
+            } else {
+                o.push_str(&format!(
+                    "  agree within {:.0} %: sub-critical damage memory does not change the answer here.\n",
+                    100.0 * AGREEMENT_TOLERANCE
+                ));
+            }
+        }
+        o.push_str("The memoryless number holds only under these assumptions:\n");
         for a in &self.assumptions {
             o.push_str(&format!("  - {a}\n"));
+        }
+        if let Some(d) = &self.damage_memory {
+            o.push_str("The damage-memory number rests on:\n");
+            for a in &d.approximations {
+                o.push_str(&format!("  - {a}\n"));
+            }
         }
         o.push_str("Use `tether-risk simulate` for a result without them.\n\n");
         o.push_str("Loss probability by mission year\n");

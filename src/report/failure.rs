@@ -12,7 +12,7 @@
 use serde::Serialize;
 
 use super::table::{sig, Table};
-use crate::engine::RunSummary;
+use crate::engine::{LossProbability, RunSummary};
 use crate::stats::clopper_pearson;
 
 /// One table as CSV (separate columns) and Markdown (combined cells), with a note on its basis.
@@ -29,6 +29,94 @@ pub struct DualTable {
 /// A value with an interval, formatted for a table cell.
 pub fn interval_cell(estimate: f64, lo: f64, hi: f64) -> String {
     format!("{} [{}, {}]", sig(estimate, 3), sig(lo, 3), sig(hi, 3))
+}
+
+/// A loss probability as one table cell: "estimate [low, high]" when resolved, otherwise
+/// "estimate ± SE, not resolved (reason)" — never an interval that cannot be trusted.
+pub fn loss_cell(lp: &LossProbability) -> String {
+    match lp.interval() {
+        Some((lo, hi)) => interval_cell(lp.estimate, lo, hi),
+        None => format!(
+            "{} (SE {}), not resolved: {}",
+            sig(lp.estimate, 3),
+            sig(lp.standard_error, 2),
+            lp.unresolved_reason.as_deref().unwrap_or("no interval")
+        ),
+    }
+}
+
+/// A loss probability in a sentence, with the interval method and the diagnostics a reviewer
+/// needs: `digits` significant digits.
+pub fn loss_text(lp: &LossProbability, digits: usize) -> String {
+    let conf = format!("{:.0} %", 100.0 * lp.confidence);
+    let diag = format!(
+        "SE {}, effective sample size {}, largest weight {:.1} %",
+        sig(lp.standard_error, 2),
+        sig(lp.effective_sample_size, 3),
+        100.0 * lp.largest_weight_share
+    );
+    match (lp.interval(), lp.is_weighted()) {
+        (Some((lo, hi)), false) => format!(
+            "{}  ({conf} interval {} .. {}, {})",
+            sig(lp.estimate, digits),
+            sig(lo, digits),
+            sig(hi, digits),
+            lp.interval_method
+        ),
+        (Some((lo, hi)), true) => format!(
+            "{}  (weighted estimate; {conf} interval {} .. {}, {}; {diag})",
+            sig(lp.estimate, digits),
+            sig(lo, digits),
+            sig(hi, digits),
+            lp.interval_method
+        ),
+        (None, _) => format!(
+            "{}  NOT RESOLVED: {}; no interval is given (weighted estimate; {diag})",
+            sig(lp.estimate, digits),
+            lp.unresolved_reason.as_deref().unwrap_or("no interval")
+        ),
+    }
+}
+
+/// CSV header names of the loss-probability columns written by [`loss_csv_cells`].
+pub const LOSS_CSV_COLUMNS: [&str; 9] = [
+    "loss_probability",
+    "ci_low",
+    "ci_high",
+    "standard_error",
+    "effective_sample_size",
+    "largest_weight_share",
+    "resolved",
+    "method",
+    "interval",
+];
+
+/// The loss-probability columns of a CSV row: an unresolved estimate has empty bounds.
+pub fn loss_csv_cells(lp: &LossProbability, digits: usize) -> [String; 9] {
+    let (lo, hi) = lp
+        .interval()
+        .map_or((String::new(), String::new()), |(a, b)| {
+            (sig(a, digits), sig(b, digits))
+        });
+    [
+        sig(lp.estimate, digits),
+        lo,
+        hi,
+        sig(lp.standard_error, 4),
+        sig(lp.effective_sample_size, 4),
+        sig(lp.largest_weight_share, 4),
+        lp.resolved.to_string(),
+        if lp.is_weighted() {
+            "weighted"
+        } else {
+            "plain"
+        }
+        .into(),
+        match &lp.unresolved_reason {
+            Some(r) if !lp.resolved => format!("not resolved: {r}"),
+            _ => lp.interval_method.clone(),
+        },
+    ]
 }
 
 /// Clopper–Pearson interval of `k` in `n`, or (0, 1) when it cannot be formed (n = 0).
@@ -86,10 +174,12 @@ pub struct YearRow {
     pub year: f64,
     /// Probability of system loss by then.
     pub loss_probability: f64,
-    /// Lower bound.
-    pub ci_low: f64,
-    /// Upper bound.
-    pub ci_high: f64,
+    /// Lower bound (absent when not resolved).
+    pub ci_low: Option<f64>,
+    /// Upper bound (absent when not resolved).
+    pub ci_high: Option<f64>,
+    /// The estimate with its method and diagnostics.
+    pub loss: LossProbability,
     /// Losses seen by then (under the biased measure for rare-event runs).
     pub losses: u64,
     /// Histories behind the estimate.
@@ -98,30 +188,19 @@ pub struct YearRow {
 
 /// The rows of the yearly table.
 pub fn year_rows(s: &RunSummary) -> Vec<YearRow> {
-    let conf = s.loss_probability.confidence;
     let mut cum = 0u64;
     s.survival_by_year
         .iter()
         .enumerate()
         .map(|(i, p)| {
             cum += s.tally.losses_by_year.get(i).copied().unwrap_or(0);
-            let (est, lo, hi) = match &s.rare_event {
-                Some(r) => {
-                    let c = r.cumulative_by_year.get(i).copied();
-                    c.map_or((1.0 - p.estimate, 1.0 - p.ci_high, 1.0 - p.ci_low), |c| {
-                        (c.estimate, c.ci_low, c.ci_high)
-                    })
-                }
-                None => {
-                    let (lo, hi) = cp(cum, s.histories, conf);
-                    (cum as f64 / s.histories.max(1) as f64, lo, hi)
-                }
-            };
+            let loss = p.loss.clone();
             YearRow {
                 year: p.year,
-                loss_probability: est,
-                ci_low: lo,
-                ci_high: hi,
+                loss_probability: loss.estimate,
+                ci_low: loss.interval().map(|i| i.0),
+                ci_high: loss.interval().map(|i| i.1),
+                loss,
                 losses: cum,
                 histories: s.histories,
             }
@@ -141,20 +220,10 @@ pub fn year_label(y: f64) -> String {
 /// Cumulative loss probability by mission year.
 pub fn year_table(s: &RunSummary) -> DualTable {
     let rare = s.rare_event.is_some();
-    let method = if rare {
-        "weighted (rare-event), normal interval"
-    } else {
-        "Clopper–Pearson"
-    };
-    let mut csv = Table::new([
-        "year",
-        "loss_probability",
-        "ci_low",
-        "ci_high",
-        "losses",
-        "histories",
-        "interval",
-    ]);
+    let mut header: Vec<String> = vec!["year".into()];
+    header.extend(LOSS_CSV_COLUMNS.iter().map(|c| c.to_string()));
+    header.extend(["losses".into(), "histories".into()]);
+    let mut csv = Table::new(header);
     let mut md = Table::new([
         "mission year".to_string(),
         format!("loss probability by then [{} interval]", conf_pct(s)),
@@ -166,34 +235,32 @@ pub fn year_table(s: &RunSummary) -> DualTable {
         "survival probability".to_string(),
     ]);
     for r in year_rows(s) {
-        csv.push([
-            year_label(r.year),
-            sig(r.loss_probability, 6),
-            sig(r.ci_low, 6),
-            sig(r.ci_high, 6),
-            r.losses.to_string(),
-            r.histories.to_string(),
-            method.to_string(),
-        ]);
+        let mut row = vec![year_label(r.year)];
+        row.extend(loss_csv_cells(&r.loss, 6));
+        row.extend([r.losses.to_string(), r.histories.to_string()]);
+        csv.push(row);
         md.push([
             year_label(r.year),
-            interval_cell(r.loss_probability, r.ci_low, r.ci_high),
+            loss_cell(&r.loss),
             format!("{} / {}", r.losses, r.histories),
             sig(1.0 - r.loss_probability, 6),
         ]);
     }
-    let note = if rare {
-        format!(
-            "Weighted rare-event estimates (likelihood-ratio weights) from {} histories; {} interval from the weighted samples (normal approximation; yearly intervals use the end-of-mission spread, so they are conservative).",
+    let note = match &s.rare_event {
+        Some(r) => format!(
+            "Weighted rare-event estimates (likelihood-ratio weights) from {} histories, not binomial counts. An interval is given only where the estimate is resolved (effective sample size of the loss weights at least {:.0} and no history above {:.0} % of the weight); it is a {} {} interval. Yearly diagnostics are bounded from the mission totals, so they are conservative. Mission end: {}.",
             s.histories,
-            conf_pct(s)
-        )
-    } else {
-        format!(
+            crate::stats::MIN_EFFECTIVE_SAMPLE_SIZE,
+            100.0 * crate::stats::MAX_WEIGHT_SHARE,
+            conf_pct(s),
+            crate::engine::WEIGHTED_INTERVAL_METHOD,
+            loss_text(&r.loss_probability, 3)
+        ),
+        None => format!(
             "Plain Monte Carlo: losses counted in {} independent histories; {} Clopper–Pearson intervals.",
             s.histories,
             conf_pct(s)
-        )
+        ),
     };
     DualTable {
         csv,
@@ -205,11 +272,9 @@ pub fn year_table(s: &RunSummary) -> DualTable {
 fn biased_note(s: &RunSummary) -> String {
     match &s.rare_event {
         Some(r) => format!(
-            " This is a rare-event run: the counts here are from the biased measure (cut rates on damaged bays multiplied by {}), so they show where and how losses happen, not how often. The weighted (unbiased) total is {} [{}, {}].",
+            " This is a rare-event run: the counts here are from the biased measure (cut rates on damaged bays multiplied by {}), so they show where and how losses happen, not how often; no probability or interval is formed from them. The weighted (unbiased) total is {}.",
             sig(r.boost_factor, 3),
-            sig(r.loss_probability.estimate, 3),
-            sig(r.loss_probability.ci_low, 3),
-            sig(r.loss_probability.ci_high, 3)
+            loss_cell(&r.loss_probability)
         ),
         None => String::new(),
     }
@@ -260,8 +325,11 @@ pub fn band_table(s: &RunSummary) -> DualTable {
                 0.0
             }
         };
+        let rare = s.rare_event.is_some();
         let (llo, lhi) = cp(losses, n, conf);
         let p = losses as f64 / n.max(1) as f64;
+        // Biased-measure counts are not probabilities: leave the probability cells empty.
+        let prob = |x: f64| if rare { String::new() } else { sig(x, 4) };
         let share = if total_losses > 0 {
             losses as f64 / total_losses as f64
         } else {
@@ -277,9 +345,9 @@ pub fn band_table(s: &RunSummary) -> DualTable {
             sig(per_year(chi), 4),
             losses.to_string(),
             n.to_string(),
-            sig(p, 4),
-            sig(llo, 4),
-            sig(lhi, 4),
+            prob(p),
+            prob(llo),
+            prob(lhi),
             sig(share, 4),
             basis.to_string(),
         ]);
@@ -287,7 +355,11 @@ pub fn band_table(s: &RunSummary) -> DualTable {
             band,
             interval_cell(per_year(cuts as f64), per_year(clo), per_year(chi)),
             format!("{losses} / {n}"),
-            interval_cell(p, llo, lhi),
+            if rare {
+                "not a probability (biased measure)".into()
+            } else {
+                interval_cell(p, llo, lhi)
+            },
             if total_losses > 0 {
                 format!("{:.1} %", 100.0 * share)
             } else {
@@ -296,7 +368,7 @@ pub fn band_table(s: &RunSummary) -> DualTable {
         ]);
     }
     let note = format!(
-        "Altitude above the lunar surface. Cut intervals: exact Poisson (Garwood) on the band's cut count over {} histories x {} years; loss intervals: Clopper–Pearson on the band's losses in {} histories.{}",
+        "Altitude above the lunar surface. Cut intervals: exact Poisson (Garwood) on the band's cut count over {} histories x {} years; loss intervals (plain Monte Carlo only): Clopper–Pearson on the band's losses in {} histories.{}",
         n,
         year_label(s.mission_years),
         n,
@@ -351,9 +423,11 @@ pub fn cause_table(s: &RunSummary) -> DualTable {
         ),
         ("all causes", total),
     ];
+    let rare = s.rare_event.is_some();
     for (name, k) in rows {
         let (lo, hi) = cp(k, n, conf);
         let p = k as f64 / n.max(1) as f64;
+        let prob = |x: f64| if rare { String::new() } else { sig(x, 4) };
         let (share, slo, shi) = if total > 0 {
             let (a, b) = cp(k, total, conf);
             (k as f64 / total as f64, a, b)
@@ -364,9 +438,9 @@ pub fn cause_table(s: &RunSummary) -> DualTable {
             name.split(" (").next().unwrap_or(name).to_string(),
             k.to_string(),
             n.to_string(),
-            sig(p, 4),
-            sig(lo, 4),
-            sig(hi, 4),
+            prob(p),
+            prob(lo),
+            prob(hi),
             sig(share, 4),
             sig(slo, 4),
             sig(shi, 4),
@@ -375,7 +449,11 @@ pub fn cause_table(s: &RunSummary) -> DualTable {
         md.push([
             name.to_string(),
             format!("{k} / {n}"),
-            interval_cell(p, lo, hi),
+            if rare {
+                "not a probability (biased measure)".into()
+            } else {
+                interval_cell(p, lo, hi)
+            },
             if total > 0 {
                 format!(
                     "{:.1} % [{:.1} %, {:.1} %]",
@@ -389,30 +467,38 @@ pub fn cause_table(s: &RunSummary) -> DualTable {
         ]);
     }
     if let Some(r) = &s.rare_event {
-        let lp = r.loss_probability;
+        let lp = &r.loss_probability;
+        let cells = loss_csv_cells(lp, 4);
         csv.push([
             "all causes, weighted estimate".to_string(),
             r.losses_observed.to_string(),
             n.to_string(),
-            sig(lp.estimate, 4),
-            sig(lp.ci_low, 4),
-            sig(lp.ci_high, 4),
+            cells[0].clone(),
+            cells[1].clone(),
+            cells[2].clone(),
             String::new(),
             String::new(),
             String::new(),
-            "weighted (unbiased)".to_string(),
+            format!("weighted (unbiased); {}", cells[8]),
         ]);
         md.push([
             "all causes, weighted estimate (unbiased)".to_string(),
             format!("{} / {n}", r.losses_observed),
-            interval_cell(lp.estimate, lp.ci_low, lp.ci_high),
+            loss_cell(lp),
             String::new(),
         ]);
     }
-    let note = format!(
-        "Clopper–Pearson intervals: the loss probability on the losses in {n} histories, the share on the cause's count among all {total} losses.{}",
-        biased_note(s)
-    );
+    let note = if rare {
+        format!(
+            "Shares of losses by cause: Clopper–Pearson on the cause's count among all {total} losses seen under the biased measure (where and how losses happen).{}",
+            biased_note(s)
+        )
+    } else {
+        format!(
+            "Clopper–Pearson intervals: the loss probability on the losses in {n} histories, the share on the cause's count among all {total} losses.{}",
+            biased_note(s)
+        )
+    };
     DualTable {
         csv,
         markdown: md,
@@ -465,13 +551,17 @@ pub fn comparison_table(s: &RunSummary, markov: &[MarkovPoint]) -> DualTable {
                 None
             }
         };
-        let (re, rl, rh) = (ratio(r.loss_probability), ratio(r.ci_low), ratio(r.ci_high));
+        let (re, rl, rh) = (
+            ratio(r.loss_probability),
+            r.ci_low.and_then(ratio),
+            r.ci_high.and_then(ratio),
+        );
         let f = |v: Option<f64>| v.map_or(String::new(), |v| sig(v, 4));
         csv.push([
             year_label(r.year),
             sig(r.loss_probability, 6),
-            sig(r.ci_low, 6),
-            sig(r.ci_high, 6),
+            f(r.ci_low),
+            f(r.ci_high),
             r.losses.to_string(),
             r.histories.to_string(),
             sig(m.loss_probability, 6),
@@ -481,11 +571,12 @@ pub fn comparison_table(s: &RunSummary, markov: &[MarkovPoint]) -> DualTable {
         ]);
         md.push([
             year_label(r.year),
-            interval_cell(r.loss_probability, r.ci_low, r.ci_high),
+            loss_cell(&r.loss),
             format!("{} / {}", r.losses, r.histories),
             sig(m.loss_probability, 4),
             match (re, rl, rh) {
                 (Some(e), Some(l), Some(h)) => interval_cell(e, l, h),
+                (Some(e), _, _) => format!("{} (Monte Carlo not resolved)", sig(e, 3)),
                 _ => "undefined (Markov estimate is 0)".into(),
             },
         ]);

@@ -64,17 +64,21 @@ pub fn survival_figure(
     s: &RunSummary,
     markov: Option<&[MarkovPoint]>,
 ) -> Result<NamedFigure, FigureError> {
-    let rows = super::failure::year_rows(s);
+    // Only years with a usable interval are drawn: an unresolved weighted estimate has none,
+    // and drawing its point with a zero-width band would claim a certainty the run lacks.
+    let all_years = super::failure::year_rows(s);
+    let unresolved = all_years.iter().filter(|r| !r.loss.resolved).count();
+    let rows: Vec<_> = all_years.into_iter().filter(|r| r.loss.resolved).collect();
     let largest = rows
         .iter()
-        .map(|r| r.ci_high)
+        .filter_map(|r| r.ci_high)
         .chain(markov.unwrap_or(&[]).iter().map(|m| m.loss_probability))
         .fold(0.0f64, f64::max);
     let log = largest < LOG_AXIS_BELOW;
     let clamp = |v: f64| v.clamp(0.0, 1.0);
     let pct = format!("{:.0} %", 100.0 * s.loss_probability.confidence);
     let band_label = if s.rare_event.is_some() {
-        format!("{pct} interval (weighted)")
+        format!("{pct} interval (weighted, Wilson on effective counts)")
     } else {
         format!("{pct} Clopper–Pearson interval")
     };
@@ -100,8 +104,12 @@ pub fn survival_figure(
         )
         .with_band(
             band_label,
-            rows.iter().map(|r| clamp(r.ci_low)).collect(),
-            rows.iter().map(|r| clamp(r.ci_high)).collect(),
+            rows.iter()
+                .map(|r| clamp(r.ci_low.unwrap_or(r.loss_probability)))
+                .collect(),
+            rows.iter()
+                .map(|r| clamp(r.ci_high.unwrap_or(r.loss_probability)))
+                .collect(),
         )
     } else {
         Series::new(
@@ -113,8 +121,12 @@ pub fn survival_figure(
         )
         .with_band(
             band_label,
-            rows.iter().map(|r| clamp(1.0 - r.ci_high)).collect(),
-            rows.iter().map(|r| clamp(1.0 - r.ci_low)).collect(),
+            rows.iter()
+                .map(|r| clamp(1.0 - r.ci_high.unwrap_or(r.loss_probability)))
+                .collect(),
+            rows.iter()
+                .map(|r| clamp(1.0 - r.ci_low.unwrap_or(r.loss_probability)))
+                .collect(),
         )
     };
     let mut series = vec![mc];
@@ -168,6 +180,15 @@ pub fn survival_figure(
             )
         ));
     }
+    if unresolved > 0 {
+        caption.push_str(&format!(
+            " {unresolved} mission year(s) have a weighted estimate that is not resolved ({}) and are not drawn.",
+            s.loss_probability
+                .unresolved_reason
+                .as_deref()
+                .unwrap_or("too few effective losses")
+        ));
+    }
     if markov.is_some() {
         caption.push_str(" The dashed line is the fast Markov estimate; the gap between the two is what sub-critical damage memory and fleet contention add.");
     }
@@ -214,19 +235,23 @@ pub fn cuts_figure(s: &RunSummary) -> Result<NamedFigure, FigureError> {
 }
 
 /// Loss probability by altitude band (where the severing happens) with Clopper–Pearson bars.
+/// Rare-event runs: the share of the losses seen under the biased measure (not a probability).
 pub fn losses_figure(s: &RunSummary) -> Result<NamedFigure, FigureError> {
     let conf = s.loss_probability.confidence;
     let n = s.histories;
+    let rare = s.rare_event.is_some();
+    let total: u64 = s.tally.losses_by_band.iter().sum();
     let bars: Vec<Bar> = s
         .cuts_by_altitude_band
         .iter()
         .enumerate()
         .map(|(b, row)| {
             let k = s.tally.losses_by_band.get(b).copied().unwrap_or(0);
-            let (lo, hi) = clopper_pearson(k, n, conf).unwrap_or((0.0, 1.0));
+            let of = if rare { total } else { n };
+            let (lo, hi) = clopper_pearson(k, of, conf).unwrap_or((0.0, 1.0));
             Bar::new(
                 band_label(row.bottom_altitude_km, row.top_altitude_km),
-                k as f64 / n.max(1) as f64,
+                k as f64 / of.max(1) as f64,
             )
             .with_error(lo, hi)
         })
@@ -234,17 +259,25 @@ pub fn losses_figure(s: &RunSummary) -> Result<NamedFigure, FigureError> {
     let spec = ChartSpec::new(
         "Where along the tether is it severed?",
         "Altitude band above the lunar surface (km)",
-        "Probability of loss in the band over the mission (-)",
+        if rare {
+            "Share of the losses seen, biased measure (-)"
+        } else {
+            "Probability of loss in the band over the mission (-)"
+        },
     );
-    let mut caption = format!(
-        "Probability that the system loss happens in each altitude band, from {} losses in {} histories; error bars are {:.0} % Clopper–Pearson intervals (a band with no loss still has an upper bound).",
-        s.tally.losses,
-        n,
-        100.0 * conf
-    );
-    if s.rare_event.is_some() {
-        caption.push_str(" Rare-event run: these are the biased measure's counts; they show where losses happen, not how often.");
-    }
+    let caption = if rare {
+        format!(
+            "Share of the {total} losses seen under the biased (rare-event) measure that happen in each altitude band; error bars are {:.0} % Clopper–Pearson intervals on the band's share of those losses. These show where losses happen, not how often: the weighted loss probability is in the tables.",
+            100.0 * conf
+        )
+    } else {
+        format!(
+            "Probability that the system loss happens in each altitude band, from {} losses in {} histories; error bars are {:.0} % Clopper–Pearson intervals (a band with no loss still has an upper bound).",
+            s.tally.losses,
+            n,
+            100.0 * conf
+        )
+    };
     named("losses_by_altitude", caption, bar_chart(&bars, &spec))
 }
 

@@ -386,6 +386,21 @@ fn prob_ok(p: f64) -> bool {
     p.is_finite() && (0.0..=1.0).contains(&p)
 }
 
+/// A bound that is absent (an unresolved weighted estimate prints none) or a probability.
+fn bound_ok(p: Option<f64>) -> bool {
+    p.is_none_or(prob_ok)
+}
+
+/// A bound for an error message ("none" when absent).
+fn fmt_bound(p: Option<f64>) -> String {
+    p.map_or("none".into(), |v| v.to_string())
+}
+
+/// Both bounds present and out of order.
+fn bounds_reversed(low: Option<f64>, high: Option<f64>) -> bool {
+    matches!((low, high), (Some(l), Some(h)) if l > h)
+}
+
 /// Check a summary read back from disk for consistency before it is rendered or merged. The
 /// message names the field and what is wrong.
 ///
@@ -479,20 +494,29 @@ pub fn validate_summary(s: &RunSummary) -> Result<(), String> {
                 p.year
             ));
         }
-        if !(prob_ok(p.estimate) && prob_ok(p.ci_low) && prob_ok(p.ci_high)) {
+        if !(prob_ok(p.estimate) && bound_ok(p.ci_low) && bound_ok(p.ci_high))
+            || bounds_reversed(p.ci_low, p.ci_high)
+        {
             return fail(format!(
                 "survival_by_year[{i}] holds a value outside [0, 1]"
             ));
         }
     }
     let lp = &s.loss_probability;
-    if !(prob_ok(lp.estimate) && prob_ok(lp.ci_low) && prob_ok(lp.ci_high))
-        || lp.ci_low > lp.ci_high
+    if !(prob_ok(lp.estimate) && bound_ok(lp.ci_low) && bound_ok(lp.ci_high))
+        || bounds_reversed(lp.ci_low, lp.ci_high)
+        || (lp.resolved && (lp.ci_low.is_none() || lp.ci_high.is_none()))
+        || !(lp.standard_error.is_finite() && lp.standard_error >= 0.0)
+        || !(lp.effective_sample_size.is_finite() && lp.effective_sample_size >= 0.0)
+        || !(0.0..=1.0).contains(&lp.largest_weight_share)
         || !(lp.confidence > 0.0 && lp.confidence < 1.0)
     {
         return fail(format!(
             "loss_probability = {} [{}, {}] at confidence {} is not a probability interval",
-            lp.estimate, lp.ci_low, lp.ci_high, lp.confidence
+            lp.estimate,
+            fmt_bound(lp.ci_low),
+            fmt_bound(lp.ci_high),
+            lp.confidence
         ));
     }
     if s.cuts_by_altitude_band.len() > MAX_SUMMARY_ROWS {
@@ -507,8 +531,9 @@ pub fn validate_summary(s: &RunSummary) -> Result<(), String> {
             && b.cuts_per_year.is_finite()
             && b.cuts_per_year >= 0.0
             && b.losses <= t.losses
-            && prob_ok(b.loss_probability.estimate)
-            && prob_ok(b.loss_probability.ci_high))
+            && b.loss_probability
+                .as_ref()
+                .is_none_or(|l| prob_ok(l.estimate) && prob_ok(l.ci_high)))
         {
             return fail(format!(
                 "cuts_by_altitude_band[{i}] holds an impossible value"
@@ -646,7 +671,9 @@ pub fn validate_point(
         ));
     }
     if let Some(l) = &p.loss_probability {
-        if !(prob_ok(l.estimate) && prob_ok(l.ci_low) && prob_ok(l.ci_high)) {
+        if !(prob_ok(l.estimate) && bound_ok(l.ci_low) && bound_ok(l.ci_high))
+            || bounds_reversed(l.ci_low, l.ci_high)
+        {
             return Err("loss_probability is outside [0, 1]".into());
         }
     }

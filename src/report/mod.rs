@@ -15,6 +15,7 @@ pub mod folder;
 pub mod html;
 pub mod plot;
 pub mod run;
+pub mod sensitivity;
 pub mod sweep;
 pub mod table;
 

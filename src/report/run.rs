@@ -88,16 +88,25 @@ pub fn run_text(s: &RunSummary) -> String {
     o.push('\n');
     let lp = &s.loss_probability;
     o.push_str(&format!(
-        "Probability of system loss by mission end: {}  ({:.0} % interval {} .. {}, Clopper–Pearson; {} losses in {} histories)\n",
-        sig(lp.estimate, 4),
-        100.0 * lp.confidence,
-        sig(lp.ci_low, 4),
-        sig(lp.ci_high, 4),
-        s.tally.losses,
-        s.histories
+        "Probability of system loss by mission end: {}\n",
+        super::failure::loss_text(lp, 4)
     ));
-    if s.tally.losses == 0 {
-        o.push_str("  No loss was seen: the upper bound is what these histories can rule out. For small probabilities use `tether-risk estimate` or more histories.\n");
+    match &s.rare_event {
+        Some(r) => o.push_str(&format!(
+            "  {} losses seen under the biased measure (boost factor {}) in {} histories.\n",
+            r.losses_observed,
+            sig(r.boost_factor, 3),
+            s.histories
+        )),
+        None => o.push_str(&format!(
+            "  {} losses in {} histories.\n",
+            s.tally.losses, s.histories
+        )),
+    }
+    if !lp.resolved {
+        o.push_str("  Not resolved: the estimate rests on too few effectively independent losses for any interval to be trusted. Run more histories, or use plain Monte Carlo if the probability is within reach of it.\n");
+    } else if s.tally.losses == 0 {
+        o.push_str("  No loss was seen: the upper bound is what these histories can rule out; more histories lower it. Do not substitute the memoryless Markov number of `tether-risk estimate`: it forgets sub-critical holes and can be orders of magnitude too low where losses come from cascades through old damage (compare it with the damage-memory estimate printed beside it).\n");
     }
     o.push_str(&format!(
         "Cut segments per year (whole tether): {}  ({} .. {}); mean cuts per history {}\n",
@@ -158,14 +167,37 @@ pub fn run_text(s: &RunSummary) -> String {
 
 /// Survival by year as a table.
 pub fn survival_table(s: &RunSummary) -> Table {
-    let mut t = Table::new(["year", "survival", "ci_low", "ci_high", "loss_probability"]);
+    let mut t = Table::new([
+        "year",
+        "survival",
+        "ci_low",
+        "ci_high",
+        "loss_probability",
+        "loss_standard_error",
+        "method",
+        "resolved",
+        "note",
+    ]);
     for p in &s.survival_by_year {
+        let opt = |v: Option<f64>| v.map_or(String::new(), |x| sig(x, 6));
         t.push([
             sig(p.year, 4),
             sig(p.estimate, 6),
-            sig(p.ci_low, 6),
-            sig(p.ci_high, 6),
+            opt(p.ci_low),
+            opt(p.ci_high),
             sig(1.0 - p.estimate, 4),
+            sig(p.loss.standard_error, 3),
+            if p.loss.is_weighted() {
+                "weighted"
+            } else {
+                "plain"
+            }
+            .to_string(),
+            p.loss.resolved.to_string(),
+            match &p.loss.unresolved_reason {
+                Some(r) if !p.loss.resolved => format!("not resolved: {r}"),
+                _ => p.loss.interval_method.clone(),
+            },
         ]);
     }
     t
@@ -221,8 +253,9 @@ pub fn band_table(s: &RunSummary) -> Table {
             format!("{:.0}-{:.0}", b.bottom_altitude_km, b.top_altitude_km),
             sig(b.cuts_per_year, 4),
             b.losses.to_string(),
-            sig(b.loss_probability.estimate, 4),
-            sig(b.loss_probability.ci_high, 4),
+            b.loss_probability
+                .map_or("- (biased measure)".into(), |l| sig(l.estimate, 4)),
+            b.loss_probability.map_or("-".into(), |l| sig(l.ci_high, 4)),
         ]);
     }
     t

@@ -146,7 +146,10 @@ pub fn sweep_table(r: &SweepResult, full: bool) -> Table {
         match &p.loss_probability {
             Some(l) => {
                 row.push(sig(l.estimate, 3));
-                row.push(format!("{} .. {}", sig(l.ci_low, 3), sig(l.ci_high, 3)));
+                row.push(match l.interval() {
+                    Some((lo, hi)) => format!("{} .. {}", sig(lo, 3), sig(hi, 3)),
+                    None => "not resolved".into(),
+                });
             }
             None => {
                 row.push("-".into());
@@ -190,7 +193,7 @@ fn confidence(r: &SweepResult) -> Option<f64> {
     let mut levels = r
         .points
         .iter()
-        .filter_map(|p| p.loss_probability.map(|l| l.confidence));
+        .filter_map(|p| p.loss_probability.as_ref().map(|l| l.confidence));
     let first = levels.next()?;
     levels.all(|c| c == first).then_some(first)
 }
@@ -248,8 +251,8 @@ pub fn sweep_csv(r: &SweepResult) -> String {
         row.push(p.feasible.to_string());
         row.push(p.reason.clone().unwrap_or_default());
         row.push(f(l.map(|l| l.estimate)));
-        row.push(f(l.map(|l| l.ci_low)));
-        row.push(f(l.map(|l| l.ci_high)));
+        row.push(f(l.and_then(|l| l.interval()).map(|i| i.0)));
+        row.push(f(l.and_then(|l| l.interval()).map(|i| i.1)));
         row.push(f(l.map(|l| l.confidence)));
         row.push(u(p.losses));
         row.push(if p.losses.is_some() {
@@ -309,7 +312,7 @@ fn notes(r: &SweepResult, bullet: &str) -> String {
             "{bullet}#{i} {}: total {} kg, P(loss) {}\n",
             p.label,
             opt(p.masses.map(|m| m.total_kg), 4),
-            opt(p.loss_probability.map(|l| l.estimate), 3)
+            opt(p.loss_probability.as_ref().map(|l| l.estimate), 3)
         ));
     }
     o.push_str(&format!(
@@ -379,7 +382,7 @@ pub fn heatmap_figures(r: &SweepResult) -> Result<Vec<(String, Figure)>, PlotErr
                 continue;
             }
             let (c, row) = (p.coordinates[0], p.coordinates.get(1).copied().unwrap_or(0));
-            z[row][c] = p.loss_probability.map_or(0.0, |l| l.estimate);
+            z[row][c] = p.loss_probability.as_ref().map_or(0.0, |l| l.estimate);
             if !p.feasible {
                 infeasible.push(p);
             }
@@ -441,7 +444,7 @@ pub fn pareto_figure(r: &SweepResult) -> Result<Figure, PlotError> {
                     .collect::<Vec<_>>()
                     .join("/"),
                 mass_kg: p.masses?.total_kg,
-                loss_probability: p.loss_probability?.estimate,
+                loss_probability: p.loss_probability.as_ref()?.estimate,
             })
         })
         .collect();

@@ -11,12 +11,17 @@ mod binomial;
 mod gof;
 mod moments;
 mod quantile;
+mod weighted;
 
 pub use alias::AliasTable;
 pub use binomial::clopper_pearson;
 pub use gof::{chi_square_p_value, ks_p_value, ks_statistic};
 pub use moments::{MeanVar, WeightedMean};
 pub use quantile::{quantile_sorted, Histogram};
+pub use weighted::{
+    normal_quantile, wilson, wilson_effective, Unresolved, WeightedProportion, MAX_WEIGHT_SHARE,
+    MIN_EFFECTIVE_SAMPLE_SIZE,
+};
 
 /// Errors from the statistics module.
 #[derive(Debug, Clone, PartialEq, thiserror::Error)]

@@ -28,6 +28,7 @@
 //! any thread count.
 
 mod path;
+pub mod sensitivity;
 
 pub use path::{get as value_at_path, leaf_paths};
 
@@ -37,7 +38,7 @@ use serde::{Deserialize, Serialize};
 use serde_json::Value;
 use thiserror::Error;
 
-use crate::engine::{Engine, EngineError, Interval, RunOptions, RunSummary};
+use crate::engine::{Engine, EngineError, Interval, LossProbability, RunOptions, RunSummary};
 use crate::model::{tether_design, Model};
 use crate::orbit::EarthMoon;
 use crate::report::plot::pareto_front;
@@ -315,9 +316,9 @@ pub struct PointResult {
     pub feasible: bool,
     /// Why the design is infeasible.
     pub reason: Option<String>,
-    /// Probability of system loss by mission end with its interval (Clopper–Pearson, or the
-    /// weighted estimate with a normal interval under the rare-event estimator).
-    pub loss_probability: Option<Interval>,
+    /// Probability of system loss by mission end: plain (Clopper–Pearson) or weighted (an
+    /// interval only when resolved), with its method and diagnostics.
+    pub loss_probability: Option<LossProbability>,
     /// Histories that ended in system loss (under the sampling measure).
     pub losses: Option<u64>,
     /// Cut segments per year, whole tether, with a normal interval.
@@ -519,8 +520,12 @@ pub fn run_sweep_resumable(
             )));
         }
         let prob = |x: f64| x.is_finite() && (0.0..=1.0).contains(&x);
-        let sane = p.loss_probability.is_none_or(|l| {
-            prob(l.estimate) && prob(l.ci_low) && prob(l.ci_high) && l.ci_low <= l.ci_high
+        let bound = |b: Option<f64>| b.is_none_or(prob);
+        let sane = p.loss_probability.as_ref().is_none_or(|l| {
+            prob(l.estimate)
+                && bound(l.ci_low)
+                && bound(l.ci_high)
+                && !matches!((l.ci_low, l.ci_high), (Some(a), Some(b)) if a > b)
         }) && p.losses.is_none_or(|l| l <= histories)
             && p.masses
                 .is_none_or(|m| m.total_kg.is_finite() && m.total_kg >= 0.0);

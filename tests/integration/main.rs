@@ -4,6 +4,7 @@ mod util;
 
 mod bad_input;
 mod commands;
+mod damage_memory;
 mod determinism;
 mod engine_validation;
 mod estimate;
@@ -15,4 +16,5 @@ mod rare_event;
 mod repair;
 mod report;
 mod robust;
+mod sensitivity;
 mod sweep;

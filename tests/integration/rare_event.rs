@@ -123,3 +123,93 @@ fn boost_factor_one_is_plain_monte_carlo_bit_for_bit() {
     );
     assert_eq!(a, b);
 }
+
+/// Every loss-probability object in a JSON document (objects with `method` and `resolved`).
+fn loss_objects(v: &Value, out: &mut Vec<Value>) {
+    match v {
+        Value::Object(m) => {
+            if m.contains_key("resolved") && m.contains_key("method") && m.contains_key("estimate")
+            {
+                out.push(v.clone());
+            }
+            for x in m.values() {
+                loss_objects(x, out);
+            }
+        }
+        Value::Array(a) => a.iter().for_each(|x| loss_objects(x, out)),
+        _ => {}
+    }
+}
+
+#[test]
+fn one_effective_loss_is_never_a_clopper_pearson_or_zero_width_interval() {
+    // Through the binary: the demo with the rare-event estimator and few histories sees one
+    // loss (effective sample size 1). The weighted estimate must come with its standard error
+    // and "not resolved", never with a Clopper–Pearson label or a zero-width interval, in the
+    // terminal, summary.json, the tables and the report. (The rule: stats::weighted — no
+    // interval below an effective sample size of 100 or above a 10 % weight share.)
+    use crate::util::{run, stdout, temp_dir};
+    let dir = temp_dir("rare-one-loss");
+    let d = dir.to_str().unwrap();
+    let o = run(&[
+        "simulate",
+        "demo",
+        "--rare-event",
+        "30",
+        "--histories",
+        "3000",
+        "--out",
+        d,
+        "--force",
+    ]);
+    assert!(o.status.success(), "{}", crate::util::stderr(&o));
+    let text = stdout(&o);
+    let line = text
+        .lines()
+        .find(|l| l.starts_with("Probability of system loss"))
+        .expect("loss line");
+    assert!(!line.contains("Clopper"), "{line}");
+    assert!(line.contains("NOT RESOLVED"), "{line}");
+    assert!(line.contains("SE "), "{line}");
+    let summary: Value =
+        serde_json::from_str(&std::fs::read_to_string(dir.join("summary.json")).unwrap()).unwrap();
+    let lp = &summary["loss_probability"];
+    assert_eq!(lp["method"], "weighted");
+    assert_eq!(lp["resolved"], false);
+    assert!(lp["ci_low"].is_null() && lp["ci_high"].is_null(), "{lp}");
+    assert!(lp["standard_error"].as_f64().unwrap() > 0.0);
+    assert!(lp["effective_sample_size"].as_f64().unwrap() < 100.0);
+    assert!(lp["largest_weight_share"].as_f64().is_some());
+    assert!(!lp["interval_method"].as_str().unwrap().contains("Clopper"));
+    let mut all = Vec::new();
+    loss_objects(&summary, &mut all);
+    assert!(all.len() > 10, "found {} loss objects", all.len());
+    for x in &all {
+        if x["method"] == "weighted" {
+            assert!(!x["interval_method"].as_str().unwrap().contains("Clopper"));
+            match (x["ci_low"].as_f64(), x["ci_high"].as_f64()) {
+                (Some(a), Some(b)) => assert!(b > a, "zero-width interval {x}"),
+                (None, None) => assert_eq!(x["resolved"], false, "{x}"),
+                _ => panic!("half an interval: {x}"),
+            }
+        }
+    }
+    // Survival by year: no [1, 1] band for a year without a resolved estimate.
+    let surv = std::fs::read_to_string(dir.join("survival_by_year.csv")).unwrap();
+    assert!(!surv.contains("Clopper"), "{surv}");
+    // The report: yearly table and headline.
+    let o = run(&["report", d]);
+    assert!(o.status.success(), "{}", crate::util::stderr(&o));
+    let md = std::fs::read_to_string(dir.join("failure_tables.md")).unwrap();
+    let yearly = md
+        .split("## ")
+        .find(|s| s.starts_with("Cumulative loss probability by mission year"))
+        .unwrap();
+    assert!(!yearly.contains("Clopper"), "{yearly}");
+    assert!(yearly.contains("not resolved"), "{yearly}");
+    let csv = std::fs::read_to_string(dir.join("failure_by_year.csv")).unwrap();
+    assert!(!csv.contains("Clopper"), "{csv}");
+    let html = std::fs::read_to_string(dir.join("report.html")).unwrap();
+    assert!(html.contains("not resolved") || html.contains("NOT RESOLVED"));
+    let _ = std::fs::remove_dir_all(&dir);
+}

@@ -108,7 +108,7 @@ fn report_rerenders_a_run_folder_and_chromium_shows_it() {
 
     // The tables carry intervals and history counts; the CSV header is the contract.
     let by_year = std::fs::read_to_string(dir.join("failure_by_year.csv")).unwrap();
-    assert!(by_year.starts_with("year,loss_probability,ci_low,ci_high,losses,histories,"));
+    assert!(by_year.starts_with("year,loss_probability,ci_low,ci_high,standard_error,effective_sample_size,largest_weight_share,resolved,method,interval,losses,histories"));
     assert_eq!(by_year.lines().count(), 1 + 15, "one row per mission year");
     let md = std::fs::read_to_string(dir.join("failure_tables.md")).unwrap();
     for part in [

@@ -256,7 +256,10 @@ fn common_random_numbers_give_identical_counts_when_physics_is_unchanged() {
     let r = sweep_lib(&demo_value(), &["run.confidence=0.9,0.95"], 1000);
     let (a, b) = (&r.points[0], &r.points[1]);
     assert_eq!(a.losses, b.losses);
-    let (la, lb) = (a.loss_probability.unwrap(), b.loss_probability.unwrap());
+    let (la, lb) = (
+        a.loss_probability.clone().unwrap(),
+        b.loss_probability.clone().unwrap(),
+    );
     assert_eq!(la.estimate, lb.estimate);
     assert_eq!(
         a.cuts_per_year.unwrap().estimate,

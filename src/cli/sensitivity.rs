@@ -1,0 +1,118 @@
+//! `tether-risk sensitivity FILE`: which uncertain input decides the loss probability?
+
+use std::path::PathBuf;
+
+use tether_risk::report::sensitivity::{sensitivity_csv, sensitivity_text, write_sensitivity};
+use tether_risk::scenario::{self, FluxModelSpec};
+use tether_risk::sweep::sensitivity::{run_sensitivity, SensitivitySettings, INPUTS};
+
+use super::output::{print, InputError};
+use super::sweep::{read_base, sweep_err};
+use super::Format;
+
+/// Arguments of `sensitivity`.
+#[derive(clap::Args, Debug, Clone)]
+#[command(allow_negative_numbers = true)]
+#[command(
+    after_help = "Examples:\n  tether-risk sensitivity demo --histories 20000\n  tether-risk sensitivity my-tether.json --format json > sensitivity.json\n  tether-risk sensitivity my-tether.json --out out/demo/sensitivity   # then: tether-risk report out/demo\n\nEach uncertain input (flux scale factor, particle density, hole factor, load-sharing rule,\nclimber load, detection delay, climber speeds, resupply interval) is set to the low and the\nhigh end of its documented range, one at a time, with the same seed and histories for every\nrun (common random numbers). The table is sorted by swing |P(high) - P(low)|; each range names\nits source or is marked as an engineering assumption; swings with an unresolved end are\nlabelled. Writes sensitivity.json, .csv, .md and the swing chart sensitivity.png/.svg. Put the\nfolder as sensitivity/ inside a run folder and `tether-risk report` adds the section \"Which\nassumption decides the answer?\"."
+)]
+pub struct Args {
+    /// Base scenario file (JSON); `-` reads standard input; `demo` is the built-in scenario.
+    pub file: String,
+    /// Histories per run (default: the base scenario's run.histories).
+    #[arg(long)]
+    pub histories: Option<u64>,
+    /// Master seed shared by every run (default: the base scenario's run.seed).
+    #[arg(long)]
+    pub seed: Option<u64>,
+    /// Worker threads per run; 0 means one per core. Results do not depend on it.
+    #[arg(long, default_value_t = 0)]
+    pub threads: usize,
+    /// Rare-event estimator boost factor for every run (see `simulate --help`).
+    #[arg(long, value_name = "FACTOR")]
+    pub rare_event: Option<f64>,
+    /// Stop each run once its loss probability's relative standard error is at most X.
+    #[arg(long, value_name = "X")]
+    pub target_rel_error: Option<f64>,
+    /// Skip the fast damage-memory estimate of each variant.
+    #[arg(long)]
+    pub no_fast_estimate: bool,
+    /// Output folder (default: out/<scenario name>-sensitivity).
+    #[arg(long)]
+    pub out: Option<PathBuf>,
+    /// Replace results already in the output folder.
+    #[arg(long)]
+    pub force: bool,
+    /// Output format on stdout.
+    #[arg(long, value_enum, default_value_t)]
+    pub format: Format,
+}
+
+pub fn run(a: Args) -> anyhow::Result<()> {
+    let (text, dir) = read_base(&a.file)?;
+    let base_spec = scenario::parse_spec(&text)?;
+    let flux_table_json = match &base_spec.environment.flux_model {
+        FluxModelSpec::Table { table_file } => {
+            let p = dir.join(table_file);
+            Some(std::fs::read_to_string(&p).map_err(|e| {
+                InputError(format!(
+                    "environment.flux_model.table_file: cannot read {}: {e}",
+                    p.display()
+                ))
+            })?)
+        }
+        FluxModelSpec::Builtin(_) => None,
+    };
+    if let Some(t) = a.target_rel_error {
+        if !(t > 0.0 && t < 1.0) {
+            return Err(InputError(format!(
+                "--target-rel-error = {t} is out of range: allowed (0, 1) (relative standard error)"
+            ))
+            .into());
+        }
+    }
+    if a.threads > super::simulate::MAX_THREADS {
+        return Err(InputError(format!(
+            "--threads = {} is out of range: allowed [0, {}] threads (0: one per core)",
+            a.threads,
+            super::simulate::MAX_THREADS
+        ))
+        .into());
+    }
+    let base: serde_json::Value = serde_json::from_str(&text)?;
+    let out_dir = a.out.clone().unwrap_or_else(|| {
+        PathBuf::from("out").join(format!(
+            "{}-sensitivity",
+            tether_risk::report::file_stem(&base_spec.name, "run")
+        ))
+    });
+    if out_dir.join("sensitivity.json").exists() && !a.force {
+        return Err(InputError(format!(
+            "{} already holds sensitivity results (sensitivity.json); choose another --out or pass --force to replace them",
+            out_dir.display()
+        ))
+        .into());
+    }
+    let settings = SensitivitySettings {
+        histories: a.histories,
+        seed: a.seed,
+        threads: a.threads,
+        rare_event_factor: a.rare_event.unwrap_or(1.0),
+        target_rel_error: a.target_rel_error,
+        fast_estimate: !a.no_fast_estimate,
+        flux_table_json,
+    };
+    let progress = |what: &str| eprintln!("run done: {what}");
+    let result = run_sensitivity(&base, INPUTS, &settings, &progress).map_err(sweep_err)?;
+    write_sensitivity(&out_dir, &result)
+        .map_err(|e| anyhow::anyhow!("cannot write results to {}: {e}", out_dir.display()))?;
+    match a.format {
+        Format::Json => print(&(serde_json::to_string_pretty(&result)? + "\n")),
+        Format::Csv => print(&sensitivity_csv(&result)),
+        Format::Text => print(&format!(
+            "{}\nResults written to {}\n",
+            sensitivity_text(&result),
+            out_dir.display()
+        )),
+    }
+}

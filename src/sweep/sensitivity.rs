@@ -1,0 +1,511 @@
+//! One-at-a-time sensitivity: which uncertain input decides the loss probability?
+//!
+//! Each uncertain input (flux, particle density, hole size, load sharing, logistics…) is set
+//! to the low and to the high end of its documented uncertainty range, all others at the base
+//! scenario, and the loss probability is estimated at both ends. Every run uses the same seed
+//! and number of histories as the base run (common random numbers, as in the trade study), so
+//! the difference between the two ends is mostly the input's effect, not sampling noise.
+//!
+//! **The inputs are data** ([`INPUTS`]): a name, the scenario field path(s) it moves, how it
+//! moves them (absolute values, or a factor on the base value applied to every path
+//! together), and the basis of the range: a published source, or "engineering assumption".
+//! An input whose field the scenario does not have (repair inputs without repair, the
+//! detection delay with periodic inspection) is listed as not applicable. A new uncertain
+//! input is one more line.
+//!
+//! **Swing** is `|P(high) − P(low)|`. It is only a measured difference when both ends are
+//! resolved and at least one loss was seen at each end; otherwise the row says so
+//! (`swing_status`) and ranks as unknown. Ends whose intervals overlap are marked as not
+//! distinguishable by this run.
+
+use serde::{Deserialize, Serialize};
+use serde_json::Value;
+
+use super::path;
+use super::SweepError;
+use crate::engine::{Engine, EngineError, LossProbability, RunOptions, RunSummary};
+use crate::model::markov::mission_times_s;
+use crate::model::Model;
+use crate::scenario::{parse_spec, Scenario, ScenarioError};
+
+/// How an input moves its field(s).
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub enum Change {
+    /// Absolute JSON values at the low and high end (the same for every path).
+    Values {
+        /// JSON text of the low value.
+        low: &'static str,
+        /// JSON text of the high value.
+        high: &'static str,
+    },
+    /// Multiply the base value of every path by these factors.
+    Scale {
+        /// Factor at the low end.
+        low: f64,
+        /// Factor at the high end.
+        high: f64,
+    },
+}
+
+/// One uncertain input and its range.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct InputSpec {
+    /// Name in tables.
+    pub name: &'static str,
+    /// Scenario field paths it moves.
+    pub paths: &'static [&'static str],
+    /// How.
+    pub change: Change,
+    /// Unit of the values shown.
+    pub unit: &'static str,
+    /// Where the range comes from (a source, or "engineering assumption").
+    pub basis: &'static str,
+}
+
+/// The uncertain inputs, one line each. Hole-law and notch (residual-strength) parameters join
+/// here as soon as the scenario has fields for them.
+pub const INPUTS: &[InputSpec] = &[
+    InputSpec {
+        name: "meteoroid flux scale factor",
+        paths: &["environment.flux_scale_factor"],
+        change: Change::Values { low: "0.33", high: "3.0" },
+        unit: "x model flux",
+        basis: "ECSS-E-ST-10-04C Rev.1 Annex J.2.3.2: flux uncertainty at a given mass at least a factor 0.33 to 3 (REFERENCES.md §1) [READ]",
+    },
+    InputSpec {
+        name: "particle density",
+        paths: &["environment.particle_density_g_per_cm3"],
+        change: Change::Values { low: "1.0", high: "3.0" },
+        unit: "g/cm^3",
+        basis: "low: 1 g/cm^3, the density the ECSS alternative (Divine-type) model uses between 1e-6 g and 0.01 g (REFERENCES.md §2) [READ]; high: 3 g/cm^3, stony material, engineering assumption",
+    },
+    InputSpec {
+        name: "hole factor (hole width / particle diameter)",
+        paths: &["damage.hole_factor"],
+        change: Change::Values { low: "1.0", high: "2.1" },
+        unit: "-",
+        basis: "REFERENCES-damage.md sensitivity table: low 1.0 thin-film limit (Francesconi et al. 2013) [READ]; high 2.1 Sawle-type law at 30 km/s [MEMORY law, COMPUTED value]",
+    },
+    InputSpec {
+        name: "load-sharing rule",
+        paths: &["tether.load_sharing"],
+        change: Change::Values { low: "\"none\"", high: "\"local\"" },
+        unit: "rule",
+        basis: "bounds of the cross-link behaviour: none (each ribbon keeps its share) to local (Harlow–Phoenix nearest-neighbour); engineering assumption",
+    },
+    InputSpec {
+        name: "climber load on the bay (traffic load)",
+        paths: &["tether.traffic_load_n"],
+        change: Change::Scale { low: 0.0, high: 2.0 },
+        unit: "N",
+        basis: "no climber on the bay to twice the design traffic load; engineering assumption",
+    },
+    InputSpec {
+        name: "detection delay",
+        paths: &["repair.detection.delay_hours"],
+        change: Change::Values { low: "0.5", high: "48.0" },
+        unit: "h",
+        basis: "continuous monitoring (30 min) to a two-day inspection latency; engineering assumption",
+    },
+    InputSpec {
+        name: "climber speeds (up and down)",
+        paths: &["repair.climber.speed_up_m_per_s", "repair.climber.speed_down_m_per_s"],
+        change: Change::Scale { low: 0.5, high: 2.0 },
+        unit: "m/s",
+        basis: "half to twice the design speeds; engineering assumption",
+    },
+    InputSpec {
+        name: "resupply interval",
+        paths: &["repair.resupply.interval_days"],
+        change: Change::Scale { low: 0.5, high: 2.0 },
+        unit: "days",
+        basis: "half to twice the planned interval; engineering assumption",
+    },
+];
+
+/// How the runs are made.
+#[derive(Clone, Debug, PartialEq)]
+pub struct SensitivitySettings {
+    /// Histories per run (default: the base scenario's `run.histories`).
+    pub histories: Option<u64>,
+    /// Master seed shared by every run (default: the base scenario's `run.seed`).
+    pub seed: Option<u64>,
+    /// Worker threads per run; 0 means one per core. Never changes the results.
+    pub threads: usize,
+    /// Rare-event boost factor (1: plain Monte Carlo).
+    pub rare_event_factor: f64,
+    /// Stop each run once its relative standard error is at most this.
+    pub target_rel_error: Option<f64>,
+    /// Also compute the fast damage-memory estimate of every variant.
+    pub fast_estimate: bool,
+    /// Text of the flux table file when the base scenario names one.
+    pub flux_table_json: Option<String>,
+}
+
+impl Default for SensitivitySettings {
+    fn default() -> Self {
+        SensitivitySettings {
+            histories: None,
+            seed: None,
+            threads: 0,
+            rare_event_factor: 1.0,
+            target_rel_error: None,
+            fast_estimate: true,
+            flux_table_json: None,
+        }
+    }
+}
+
+/// The result of one run (one end of one input, or the base).
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct VariantResult {
+    /// Loss probability by mission end with its interval (absent when infeasible).
+    pub loss_probability: Option<LossProbability>,
+    /// Histories that ended in loss (under the sampling measure).
+    pub losses: Option<u64>,
+    /// Histories run.
+    pub histories: Option<u64>,
+    /// Fast damage-memory estimate of the same scenario (absent when not computed).
+    pub damage_memory_estimate: Option<f64>,
+    /// Why the design could not be run.
+    pub infeasible: Option<String>,
+}
+
+impl VariantResult {
+    /// True when the loss probability is a measured value: resolved, and (plain Monte Carlo)
+    /// at least one loss seen.
+    pub fn measured(&self) -> bool {
+        self.loss_probability
+            .as_ref()
+            .is_some_and(|l| l.resolved && l.estimate > 0.0)
+    }
+}
+
+/// One input's row.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct SensitivityRow {
+    /// Input name.
+    pub input: String,
+    /// Field paths moved.
+    pub paths: Vec<String>,
+    /// Value(s) at the low end (first path's value).
+    pub low: Value,
+    /// Value at the base.
+    pub base: Value,
+    /// Value at the high end.
+    pub high: Value,
+    /// Unit of the values.
+    pub unit: String,
+    /// Basis of the range.
+    pub range_basis: String,
+    /// Loss at the low end.
+    pub loss_low: VariantResult,
+    /// Loss at the base (the same run for every row).
+    pub loss_base: VariantResult,
+    /// Loss at the high end.
+    pub loss_high: VariantResult,
+    /// `|P(high) − P(low)|` of the point estimates.
+    pub swing: f64,
+    /// `P(high) − P(low)`.
+    pub signed_swing: f64,
+    /// `measured`, or why the swing is not a measured difference.
+    pub swing_status: String,
+    /// False when the two ends' intervals overlap (this run cannot tell them apart).
+    pub distinguishable: bool,
+    /// Swing of the fast damage-memory estimate, when computed.
+    pub damage_memory_swing: Option<f64>,
+}
+
+/// An input that does not apply to this scenario.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct SkippedInput {
+    /// Input name.
+    pub input: String,
+    /// Why.
+    pub reason: String,
+}
+
+/// A whole sensitivity study; serialised as `sensitivity.json`.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct SensitivityResult {
+    /// Program name.
+    pub tool: String,
+    /// Program version.
+    pub version: String,
+    /// Base scenario name.
+    pub scenario: String,
+    /// Master seed shared by every run.
+    pub seed: u64,
+    /// Histories per run.
+    pub histories: u64,
+    /// Rare-event boost factor (1: plain).
+    pub rare_event_factor: f64,
+    /// What common random numbers mean here.
+    pub common_random_numbers: String,
+    /// The base run.
+    pub base: VariantResult,
+    /// Rows sorted by swing, measured swings first (largest first), then the others.
+    pub rows: Vec<SensitivityRow>,
+    /// Inputs not applicable to this scenario.
+    pub skipped: Vec<SkippedInput>,
+    /// The engineering caution.
+    pub caution: String,
+}
+
+fn scale_value(v: &Value, f: f64) -> Option<Value> {
+    let x = v.as_f64()? * f;
+    if v.is_u64() || v.is_i64() {
+        Some(Value::from(x.round() as i64))
+    } else {
+        Some(Value::from(x))
+    }
+}
+
+/// Run one scenario document.
+fn evaluate(
+    doc: &Value,
+    histories: u64,
+    seed: u64,
+    s: &SensitivitySettings,
+    label: &str,
+) -> Result<VariantResult, SweepError> {
+    let infeasible = |reason: String| VariantResult {
+        loss_probability: None,
+        losses: None,
+        histories: None,
+        damage_memory_estimate: None,
+        infeasible: Some(reason),
+    };
+    let spec = parse_spec(&doc.to_string()).map_err(|e| SweepError::Point {
+        label: label.to_string(),
+        source: Box::new(e),
+    })?;
+    let scenario = match Scenario::from_spec(spec, s.flux_table_json.clone()) {
+        Ok(sc) => sc,
+        Err(ScenarioError::Infeasible { reason }) => return Ok(infeasible(reason)),
+        Err(e) => {
+            return Err(SweepError::Point {
+                label: label.to_string(),
+                source: Box::new(e),
+            })
+        }
+    };
+    let model = match Model::build(scenario) {
+        Ok(m) => m,
+        Err(ScenarioError::Infeasible { reason }) => return Ok(infeasible(reason)),
+        Err(e) => {
+            return Err(SweepError::Point {
+                label: label.to_string(),
+                source: Box::new(e),
+            })
+        }
+    };
+    let engine = match Engine::new(&model, 1.0).and_then(|e| e.with_rare_event(s.rare_event_factor))
+    {
+        Ok(e) => e,
+        Err(EngineError::Model(m)) => {
+            return Ok(infeasible(format!("the strikes cannot be sampled: {m}")))
+        }
+        Err(e) => {
+            return Err(SweepError::Run {
+                label: label.to_string(),
+                message: e.to_string(),
+            })
+        }
+    };
+    let opts = RunOptions {
+        histories,
+        seed,
+        threads: s.threads,
+        floor_fraction: 1.0,
+        shard: None,
+        target_rel_error: s.target_rel_error,
+    };
+    let tally = engine.run(&opts, &|_| {}).map_err(|e| SweepError::Run {
+        label: label.to_string(),
+        message: e.to_string(),
+    })?;
+    let summary = RunSummary::from_tally(&engine, tally, histories, seed, None, 0.05);
+    // The damage-memory estimate approximates local sharing by equal sharing: not a valid
+    // answer for the local-sharing variant.
+    let local = model.scenario.tether.load_sharing == crate::scenario::LoadSharingSpec::Local;
+    let dm = if s.fast_estimate && !local {
+        crate::model::damage_memory::solve(&model, &mission_times_s(&model.scenario.run))
+            .and_then(|r| r.system_loss_probability.last().copied())
+    } else {
+        None
+    };
+    Ok(VariantResult {
+        loss_probability: Some(summary.loss_probability.clone()),
+        losses: Some(summary.tally.losses),
+        histories: Some(summary.histories),
+        damage_memory_estimate: dm,
+        infeasible: None,
+    })
+}
+
+fn overlap(a: &VariantResult, b: &VariantResult) -> bool {
+    let ia = a.loss_probability.as_ref().and_then(|l| l.interval());
+    let ib = b.loss_probability.as_ref().and_then(|l| l.interval());
+    match (ia, ib) {
+        (Some((a0, a1)), Some((b0, b1))) => a0 <= b1 && b0 <= a1,
+        _ => true,
+    }
+}
+
+fn status(lo: &VariantResult, hi: &VariantResult) -> String {
+    let why = |v: &VariantResult, end: &str| -> Option<String> {
+        if let Some(r) = &v.infeasible {
+            return Some(format!("{end} end infeasible ({r})"));
+        }
+        let l = v.loss_probability.as_ref()?;
+        if !l.resolved {
+            return Some(format!(
+                "{end} end not resolved ({})",
+                l.unresolved_reason.as_deref().unwrap_or("no interval")
+            ));
+        }
+        if l.estimate == 0.0 {
+            return Some(format!(
+                "{end} end: no loss seen (only an upper bound, {})",
+                l.ci_high.map_or("-".into(), |h| format!("{h:.2e}"))
+            ));
+        }
+        None
+    };
+    let parts: Vec<String> = [why(lo, "low"), why(hi, "high")]
+        .into_iter()
+        .flatten()
+        .collect();
+    if parts.is_empty() {
+        "measured".into()
+    } else {
+        format!("unresolved swing: {}", parts.join("; "))
+    }
+}
+
+/// Run the study over `base_json` (a scenario document) for `inputs` (normally [`INPUTS`]),
+/// calling `progress(message)` after each run.
+pub fn run_sensitivity(
+    base_json: &Value,
+    inputs: &[InputSpec],
+    s: &SensitivitySettings,
+    progress: &dyn Fn(&str),
+) -> Result<SensitivityResult, SweepError> {
+    let f = s.rare_event_factor;
+    if !(f.is_finite() && (1.0..=1e6).contains(&f)) {
+        return Err(SweepError::Settings(format!(
+            "--rare-event = {f} is out of range: allowed [1, 1e6] (dimensionless boost factor)"
+        )));
+    }
+    let base_spec =
+        parse_spec(&base_json.to_string()).map_err(|e| SweepError::Base(Box::new(e)))?;
+    let histories = s.histories.unwrap_or(base_spec.run.histories);
+    let seed = s.seed.unwrap_or(base_spec.run.seed);
+    if histories == 0 {
+        return Err(SweepError::Settings(
+            "--histories = 0 is out of range: allowed [1, 1e12] histories".into(),
+        ));
+    }
+    let canonical = serde_json::to_value(&base_spec)
+        .map_err(|e| SweepError::Spec(format!("the base scenario cannot be re-serialised: {e}")))?;
+    let base = evaluate(&canonical, histories, seed, s, "base")?;
+    progress("base scenario");
+    let mut rows = Vec::new();
+    let mut skipped = Vec::new();
+    for input in inputs {
+        let current: Vec<Option<&Value>> = input
+            .paths
+            .iter()
+            .map(|p| path::get(&canonical, p))
+            .collect();
+        if let Some(k) = current
+            .iter()
+            .position(|c| c.is_none() || c == &Some(&Value::Null))
+        {
+            skipped.push(SkippedInput {
+                input: input.name.into(),
+                reason: format!("the scenario has no field {}", input.paths[k]),
+            });
+            continue;
+        }
+        let mut ends = Vec::with_capacity(2);
+        let mut shown = Vec::with_capacity(2);
+        for end in 0..2 {
+            let mut doc = canonical.clone();
+            let mut first = Value::Null;
+            for (i, p) in input.paths.iter().enumerate() {
+                let base_v = current[i].cloned().unwrap_or(Value::Null);
+                let v = match input.change {
+                    Change::Values { low, high } => {
+                        serde_json::from_str(if end == 0 { low } else { high })
+                            .map_err(|e| SweepError::Spec(format!("{}: {e}", input.name)))?
+                    }
+                    Change::Scale { low, high } => {
+                        scale_value(&base_v, if end == 0 { low } else { high }).ok_or_else(
+                            || {
+                                SweepError::Spec(format!(
+                                    "{}: {} is not a number in the base scenario",
+                                    input.name, p
+                                ))
+                            },
+                        )?
+                    }
+                };
+                if i == 0 {
+                    first = v.clone();
+                }
+                path::set(&mut doc, p, v);
+            }
+            let label = format!("{} = {}", input.name, first);
+            ends.push(evaluate(&doc, histories, seed, s, &label)?);
+            progress(&label);
+            shown.push(first);
+        }
+        let (lo, hi) = (ends.remove(0), ends.remove(0));
+        let est = |v: &VariantResult| v.loss_probability.as_ref().map_or(0.0, |l| l.estimate);
+        let signed = est(&hi) - est(&lo);
+        let dm_swing = match (lo.damage_memory_estimate, hi.damage_memory_estimate) {
+            (Some(a), Some(b)) => Some((b - a).abs()),
+            _ => None,
+        };
+        rows.push(SensitivityRow {
+            input: input.name.into(),
+            paths: input.paths.iter().map(|p| p.to_string()).collect(),
+            low: shown[0].clone(),
+            base: current[0].cloned().unwrap_or(Value::Null),
+            high: shown[1].clone(),
+            unit: input.unit.into(),
+            range_basis: input.basis.into(),
+            swing: signed.abs(),
+            signed_swing: signed,
+            swing_status: status(&lo, &hi),
+            distinguishable: !overlap(&lo, &hi),
+            loss_low: lo,
+            loss_base: base.clone(),
+            loss_high: hi,
+            damage_memory_swing: dm_swing,
+        });
+    }
+    // Measured swings first, largest first; unresolved ones after, by their nominal swing.
+    rows.sort_by(|a, b| {
+        let ma = a.swing_status == "measured";
+        let mb = b.swing_status == "measured";
+        mb.cmp(&ma)
+            .then(b.swing.total_cmp(&a.swing))
+            .then(a.input.cmp(&b.input))
+    });
+    Ok(SensitivityResult {
+        tool: "tether-risk".into(),
+        version: crate::VERSION.into(),
+        scenario: base_spec.name.clone(),
+        seed,
+        histories,
+        rare_event_factor: f,
+        common_random_numbers: super::CRN_NOTE.into(),
+        base,
+        rows,
+        skipped,
+        caution: crate::CAUTION.into(),
+    })
+}
