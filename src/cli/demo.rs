@@ -2,6 +2,7 @@
 
 use std::path::PathBuf;
 
+use tether_risk::engine::RunStatus;
 use tether_risk::model::Model;
 use tether_risk::report::design::{DesignSummary, ProfileSummary};
 use tether_risk::report::run::run_text;
@@ -26,6 +27,9 @@ pub struct Args {
 }
 
 pub fn run(a: Args) -> anyhow::Result<()> {
+    // Ctrl-C or SIGTERM stops the run within a second at a clean point; what finished is
+    // written (with a checkpoint) and the later steps are skipped.
+    let stop = super::interrupt::flag();
     let dir = &a.out;
     // The demo replaces its own earlier results (only the files it writes), under the lock.
     let _lock = super::output::lock_folder(dir)?;
@@ -56,7 +60,7 @@ pub fn run(a: Args) -> anyhow::Result<()> {
     };
     // The run replaces the folder's earlier results when its own are ready; the demo's extra
     // files follow it.
-    let summary = execute(&model, &settings, a.threads, dir, None, None, false)?;
+    let summary = execute(&model, &settings, a.threads, dir, None, Some(stop), false)?;
     write("design.txt", &design.to_text())?;
     write("profile.csv", &profile.table().to_csv())?;
     write(
@@ -70,8 +74,15 @@ pub fn run(a: Args) -> anyhow::Result<()> {
         design.to_text(),
         dir.display()
     ))?;
+    if summary.status == RunStatus::Interrupted {
+        return Err(super::interrupt::Stopped(format!(
+            "the demo's Monte Carlo run stopped; its finished batches, a checkpoint and a report are in {0} (continue with `tether-risk simulate --resume {0}`); the trade study was not run",
+            dir.display()
+        ))
+        .into());
+    }
 
-    sweep_spacing(a.threads, dir)?;
+    sweep_spacing(a.threads, dir, stop)?;
 
     // Keep this last: the report reads every file the steps above wrote (the simulation
     // wrote design.json, estimate.json and the manifest).
@@ -82,8 +93,12 @@ pub fn run(a: Args) -> anyhow::Result<()> {
 
 /// A small trade study of cross-link spacing and ribbon count, into `sweep/` (the report picks it
 /// up). Fewer histories than the main run: it shows the method and the mass trade.
-fn sweep_spacing(threads: usize, dir: &std::path::Path) -> anyhow::Result<()> {
-    use tether_risk::sweep::{run_sweep_with_progress, SweepSettings, SweepSpec};
+fn sweep_spacing(
+    threads: usize,
+    dir: &std::path::Path,
+    stop: &std::sync::atomic::AtomicBool,
+) -> anyhow::Result<()> {
+    use tether_risk::sweep::{run_sweep_resumable, SweepOutcome, SweepSettings, SweepSpec};
     print("Trade study: cross-link spacing x ribbon count\n")?;
     let base: serde_json::Value = serde_json::from_str(scenario::DEMO_SCENARIO_JSON)?;
     let spec = SweepSpec::parse(&[
@@ -99,9 +114,20 @@ fn sweep_spacing(threads: usize, dir: &std::path::Path) -> anyhow::Result<()> {
         flux_table_json: None,
         ..Default::default()
     };
-    let result = run_sweep_with_progress(&base, &spec, &settings, &|p, n| {
+    let mut on_point = |p: &tether_risk::sweep::PointResult, n: usize| {
         let _ = print(&format!("  point {}/{n}: {}\n", p.index + 1, p.label));
-    })?;
+        Ok(())
+    };
+    let result = match run_sweep_resumable(&base, &spec, &settings, Vec::new(), &mut on_point, Some(stop))? {
+        SweepOutcome::Complete(r) => *r,
+        SweepOutcome::Interrupted { done, total } => {
+            return Err(super::interrupt::Stopped(format!(
+                "the demo stopped during its trade study ({done} of {total} points finished, not kept); the main run's results and its report are complete in {}; run `tether-risk demo` again for the trade study",
+                dir.display()
+            ))
+            .into())
+        }
+    };
     let sdir = dir.join("sweep");
     std::fs::create_dir_all(&sdir)
         .map_err(|e| anyhow::anyhow!("cannot create {}: {e}", sdir.display()))?;

@@ -49,17 +49,23 @@ pub struct Args {
 }
 
 pub fn run(a: Args) -> anyhow::Result<()> {
+    // Ctrl-C or SIGTERM stops the current run within a second (the runs are not resumable).
+    let stop = super::interrupt::flag();
     let (text, dir) = read_base(&a.file)?;
     let base_spec = scenario::parse_spec(&text)?;
     let flux_table_json = match &base_spec.environment.flux_model {
         FluxModelSpec::Table { table_file } => {
             let p = dir.join(table_file);
-            Some(std::fs::read_to_string(&p).map_err(|e| {
-                InputError(format!(
-                    "environment.flux_model.table_file: cannot read {}: {e}",
-                    p.display()
-                ))
-            })?)
+            Some(
+                scenario::read_text_capped(&p, scenario::MAX_INPUT_BYTES, "a flux table").map_err(
+                    |e| {
+                        InputError(format!(
+                            "environment.flux_model.table_file: cannot read {}: {e}",
+                            p.display()
+                        ))
+                    },
+                )?,
+            )
         }
         FluxModelSpec::Builtin(_) => None,
     };
@@ -102,8 +108,25 @@ pub fn run(a: Args) -> anyhow::Result<()> {
         fast_estimate: !a.no_fast_estimate,
         flux_table_json,
     };
-    let progress = |what: &str| eprintln!("run done: {what}");
-    let result = run_sensitivity(&base, INPUTS, &settings, &progress).map_err(sweep_err)?;
+    // One writer per folder, as for every command that writes one.
+    let _lock = super::output::lock_folder(&out_dir)?;
+    let done = std::sync::atomic::AtomicUsize::new(0);
+    let progress = |what: &str| {
+        done.fetch_add(1, std::sync::atomic::Ordering::Relaxed);
+        eprintln!("run done: {what}");
+    };
+    let result = match run_sensitivity(&base, INPUTS, &settings, &progress) {
+        Ok(r) => r,
+        Err(_) if stop.load(std::sync::atomic::Ordering::SeqCst) => {
+            return Err(super::interrupt::Stopped(format!(
+                "sensitivity stopped after {} finished runs; nothing was written to {} (a study is not resumable: run it again, perhaps with fewer --histories)",
+                done.load(std::sync::atomic::Ordering::Relaxed),
+                out_dir.display()
+            ))
+            .into())
+        }
+        Err(e) => return Err(sweep_err(e)),
+    };
     write_sensitivity(&out_dir, &result)
         .map_err(|e| anyhow::anyhow!("cannot write results to {}: {e}", out_dir.display()))?;
     match a.format {

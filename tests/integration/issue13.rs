@@ -788,3 +788,87 @@ fn issue14_item1_simulate_and_sweep_folders_are_reports() {
     expect_code(&o, 2, "report with a foreign sweep");
     assert!(stderr(&o).contains("scenario hash"), "{}", stderr(&o));
 }
+
+// ---------------------------------------------------------------------------------------------
+// Item 1/2, same class: `demo` is a long command too; a signal stops it within seconds, exit 130,
+// nothing half-written and no lock left behind.
+// ---------------------------------------------------------------------------------------------
+
+/// Start `args`, send `sig` after `after_ms`, and check the process ends with exit 130 within
+/// 20 s, without a panic, leaving neither its lock nor temporary files in `out`.
+#[cfg(unix)]
+fn stops_cleanly_on(args: &[&str], out: &Path, sig: &str, after_ms: u64) -> String {
+    let mut child = Command::new(env!("CARGO_BIN_EXE_tether-risk"))
+        .args(args)
+        .stdin(Stdio::null())
+        .stdout(Stdio::null())
+        .stderr(Stdio::piped())
+        .spawn()
+        .unwrap();
+    std::thread::sleep(std::time::Duration::from_millis(after_ms));
+    let st = Command::new("kill")
+        .args([sig, &child.id().to_string()])
+        .status()
+        .unwrap();
+    assert!(st.success());
+    let sent = std::time::Instant::now();
+    let status = loop {
+        if let Some(s) = child.try_wait().unwrap() {
+            break s;
+        }
+        assert!(
+            sent.elapsed() < std::time::Duration::from_secs(20),
+            "{args:?} still running 20 s after {sig}"
+        );
+        std::thread::sleep(std::time::Duration::from_millis(20));
+    };
+    let mut err = String::new();
+    std::io::Read::read_to_string(&mut child.stderr.take().unwrap(), &mut err).unwrap();
+    assert!(!err.contains("panicked"), "{err}");
+    // Each command given here takes longer than `after_ms`; the signal must stop it.
+    assert_eq!(status.code(), Some(130), "{args:?}: {err}");
+    assert!(err.contains("interrupted"), "{err}");
+    let names: Vec<String> = std::fs::read_dir(out)
+        .unwrap()
+        .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+        .collect();
+    assert!(
+        !names
+            .iter()
+            .any(|n| n.contains(".tmp-") || n == ".tether-risk.lock"),
+        "{names:?}"
+    );
+    err
+}
+
+#[cfg(unix)]
+#[test]
+fn demo_stops_on_sigterm_and_leaves_no_lock_or_temp_files() {
+    let out = temp_dir("demo-sigterm").join("demo");
+    let o = out.to_str().unwrap();
+    stops_cleanly_on(&["demo", "--threads", "1", "--out", o], &out, "-TERM", 1500);
+}
+
+#[cfg(unix)]
+#[test]
+fn sensitivity_stops_on_sigint_and_says_nothing_was_written() {
+    let out = temp_dir("sens-sigint").join("s");
+    let o = out.to_str().unwrap();
+    let err = stops_cleanly_on(
+        &[
+            "sensitivity",
+            "demo",
+            "--histories",
+            "200000",
+            "--threads",
+            "1",
+            "--out",
+            o,
+        ],
+        &out,
+        "-INT",
+        1500,
+    );
+    assert!(err.contains("nothing was written"), "{err}");
+    assert!(!out.join("sensitivity.json").exists());
+}
