@@ -194,12 +194,16 @@ pub fn sensitivity_text(s: &SensitivityResult) -> String {
 
 /// Markdown for a review document.
 pub fn sensitivity_markdown(s: &SensitivityResult) -> String {
+    // The scenario's name and the reasons of infeasible variants are free text from the input:
+    // every line outside the table is escaped (the table escapes its own cells).
+    let esc = super::escape::markdown_escape;
+    let notes: Vec<String> = notes(s).lines().map(esc).collect();
     format!(
-        "## Which assumption decides the answer? Scenario \"{}\"\n\nBase: {}\n\n{}{}",
-        s.scenario,
-        variant_cell(&s.base),
+        "## Which assumption decides the answer? Scenario \"{}\"\n\nBase: {}\n\n{}{}\n",
+        esc(&s.scenario),
+        esc(&variant_cell(&s.base)),
         sensitivity_table(s, true).to_markdown(),
-        notes(s)
+        notes.join("\n")
     )
 }
 

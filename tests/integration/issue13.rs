@@ -290,6 +290,20 @@ fn item6_item7_hostile_names_are_neutralised_in_every_csv_and_markdown() {
     // Terminal and --format csv output go through the same table writers.
     let o = run(&["profile", sc.to_str().unwrap(), "--format", "csv"]);
     expect_code(&o, 0, "profile csv");
+    // The sensitivity study's CSV and Markdown carry the scenario's name too.
+    let sens = sc.parent().unwrap().join("sensitivity");
+    let o = run(&[
+        "sensitivity",
+        sc.to_str().unwrap(),
+        "--histories",
+        "200",
+        "--no-fast-estimate",
+        "--out",
+        sens.to_str().unwrap(),
+    ]);
+    expect_code(&o, 0, "sensitivity with hostile names");
+    assert_csv_inert(&sens.join("sensitivity.csv"));
+    assert_markdown_inert(&sens.join("sensitivity.md"));
 }
 
 // ---------------------------------------------------------------------------------------------
