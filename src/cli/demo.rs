@@ -54,6 +54,7 @@ pub fn run(a: Args) -> anyhow::Result<()> {
         shard: None,
         floor_fraction: 1.0,
         rare_event: 1.0,
+        latent_bias: 0.0,
         target_rel_error: None,
         stockout_target: 0.05,
         sampler: tether_risk::engine::Sampler::OnDemand,

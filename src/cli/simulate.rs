@@ -57,6 +57,13 @@ pub struct Args {
     /// 1/histories. Typical factors 10 to 1000; check the effective sample size it reports.
     #[arg(long, value_name = "FACTOR", allow_hyphen_values = true)]
     pub rare_event: Option<f64>,
+    /// Latent-damage importance sampling (on-demand sampler): at each state change of a bay,
+    /// draw its segments' worst sub-critical holes from a defensive mixture that puts
+    /// probability P on holes able to cut the segment after one more cut in the bay, and weight
+    /// histories by their likelihood ratio. For cascades through old holes far below
+    /// 1/histories; typical P 0.2 to 0.5. Combines with --rare-event.
+    #[arg(long, value_name = "P", allow_hyphen_values = true)]
+    pub latent_bias: Option<f64>,
     /// Run only shard I of N (0-based): a deterministic share of the batches. Merge the shards
     /// with `tether-risk merge`.
     #[arg(long, value_name = "I/N", allow_hyphen_values = true)]
@@ -75,7 +82,7 @@ pub struct Args {
     #[arg(long, value_name = "N")]
     pub replay_history: Option<u64>,
     /// Continue an interrupted run from its output folder.
-    #[arg(long, value_name = "DIR", conflicts_with_all = ["file", "histories", "seed", "shard", "rare_event", "target_rel_error", "floor_fraction", "sampler"])]
+    #[arg(long, value_name = "DIR", conflicts_with_all = ["file", "histories", "seed", "shard", "rare_event", "latent_bias", "target_rel_error", "floor_fraction", "sampler"])]
     pub resume: Option<PathBuf>,
     /// Output format on stdout.
     #[arg(long, value_enum, default_value_t)]
@@ -119,6 +126,9 @@ pub struct RunSettingsFile {
     pub floor_fraction: f64,
     /// Rare-event boost factor (1: plain).
     pub rare_event: f64,
+    /// Latent-damage bias probability (0: off; absent in folders written before it).
+    #[serde(default)]
+    pub latent_bias: f64,
     /// Target relative error.
     pub target_rel_error: Option<f64>,
     /// Stock-out target.
@@ -165,6 +175,12 @@ impl RunSettingsFile {
             return Err(format!(
                 "rare_event = {} is out of range: allowed [1, 1e6]",
                 self.rare_event
+            ));
+        }
+        if !(0.0..=0.95).contains(&self.latent_bias) {
+            return Err(format!(
+                "latent_bias = {} is out of range: allowed [0, 0.95]",
+                self.latent_bias
             ));
         }
         if !(self.stockout_target > 0.0 && self.stockout_target < 1.0) {
@@ -364,6 +380,14 @@ pub fn settings_from_args(model: &Model, a: &Args) -> anyhow::Result<RunSettings
             .into());
         }
     }
+    if let Some(p) = a.latent_bias {
+        if !(0.0..=0.95).contains(&p) {
+            return Err(InputError(format!(
+                "--latent-bias = {p} is out of range: allowed [0, 0.95] (probability of the biased component)"
+            ))
+            .into());
+        }
+    }
     if !(a.stockout_target > 0.0 && a.stockout_target < 1.0) {
         return Err(InputError(format!(
             "--stockout-target = {} is out of range: allowed (0, 1) (probability)",
@@ -392,6 +416,7 @@ pub fn settings_from_args(model: &Model, a: &Args) -> anyhow::Result<RunSettings
         shard,
         floor_fraction: a.floor_fraction,
         rare_event: a.rare_event.unwrap_or(1.0),
+        latent_bias: a.latent_bias.unwrap_or(0.0),
         target_rel_error: a.target_rel_error,
         stockout_target: a.stockout_target,
         sampler: a.sampler.into(),
@@ -404,6 +429,7 @@ pub fn engine_for<'m>(model: &'m Model, s: &RunSettingsFile) -> anyhow::Result<E
         .map_err(|e| InputError(e.to_string()))?;
     Ok(engine
         .with_rare_event(s.rare_event)
+        .and_then(|e| e.with_latent_bias(s.latent_bias))
         .map_err(|e| InputError(e.to_string()))?)
 }
 

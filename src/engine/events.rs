@@ -83,6 +83,9 @@ enum Flow {
 /// theta^-(boosted events) x exp((theta - 1) x integral of the natural rate of those events).
 pub(crate) struct RareEvent {
     theta: f64,
+    /// Latent-damage bias: probability of the biased component of the defensive mixture used
+    /// for worst-hole draws (0: off).
+    latent_p: f64,
     ln_theta: f64,
     log_w: f64,
     /// Natural rate of the boosted events now, 1/s.
@@ -94,9 +97,10 @@ pub(crate) struct RareEvent {
 }
 
 impl RareEvent {
-    pub(crate) fn new(theta: f64, rng: Pcg64Mcg) -> Self {
+    pub(crate) fn new(theta: f64, latent_p: f64, rng: Pcg64Mcg) -> Self {
         RareEvent {
             theta,
+            latent_p,
             ln_theta: theta.ln(),
             log_w: 0.0,
             rate_s: 0.0,
@@ -108,7 +112,17 @@ impl RareEvent {
 
     /// Plain Monte Carlo when false (factor 1): nothing is drawn, the weight stays 1.
     pub(crate) fn active(&self) -> bool {
-        self.theta > 1.0
+        self.theta > 1.0 || self.latent_p > 0.0
+    }
+
+    /// The latent-damage bias probability (0: off).
+    pub(crate) fn latent_p(&self) -> f64 {
+        self.latent_p
+    }
+
+    /// Multiply the likelihood ratio by `w` (a draw from a biased distribution).
+    pub(crate) fn add_log_weight(&mut self, ln_w: f64) {
+        self.log_w += ln_w;
     }
 
     /// The multiplier on the rates of damaged bays.
@@ -225,7 +239,11 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
             strikes,
             damage: stream(seed, Purpose::Damage, index),
             repair: stream(seed, Purpose::Repair, index),
-            rare: RareEvent::new(e.bias_factor, stream(seed, Purpose::Bias, index)),
+            rare: RareEvent::new(
+                e.bias_factor,
+                e.latent_bias,
+                stream(seed, Purpose::Bias, index),
+            ),
             out: HistoryOutcome::default(),
             last_t: 0.0,
             next_primary_s,
@@ -574,7 +592,7 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
         let base = slot * n;
         let bay = self.scratch.touched[slot];
         let j = bay as usize;
-        self.bring_up_to_date(slot, t);
+        self.bring_up_to_date_before_cut(slot, t);
         // The cut's removed width: P(X >= x | X >= c) = H(x) / H(c).
         let hr = od.holes.bay(j);
         let c = self.scratch.critical_m[base + ribbon];
@@ -633,28 +651,129 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
     /// Step 1 of a state change (on-demand): draw the worst sub-critical hole of each intact
     /// segment over the time since the bay's last change, P(M < x) = exp(-(H(x) - H(c)) dt),
     /// and keep the larger of it and the worst hole so far. One uniform per intact segment.
+    ///
+    /// Under the latent-damage bias (`--latent-bias p`) the bay's draws come instead from the
+    /// defensive mixture g = (1 - p) f + p f 1{B} / P(B), where f is the natural joint law of
+    /// the bay's worst holes and B the event that at least one intact segment reaches a_i, its
+    /// critical width after one more cut in the bay (load scaled by n/(n - 1), n the intact
+    /// segments: exact for equal sharing; any threshold keeps the estimator unbiased). With
+    /// q_i = P(M_i >= a_i) = 1 - exp(-(H(a_i) - H(c_i)) dt), P(B) = 1 - prod (1 - q_i). The
+    /// conditioned component draws the first segment in B exactly (P(first = i) =
+    /// prod_{k<i} (1 - q_k) q_i / P(B)), the ones before it below their threshold and the rest
+    /// naturally, each by inversion of its own distribution function. The history's likelihood
+    /// ratio gains f/g = 1 / (1 - p + p 1{B} / P(B)), one factor per cut and never above
+    /// 1/(1 - p) (defensive mixtures: Hesterberg 1995, Technometrics 37, 185). With p = 0 the
+    /// draws are the plain ones, bit for bit. It biases the first link of a latent-damage
+    /// cascade; the later links (holes reaching c_2, c_3, ...) stay natural.
+    /// is the plain one, bit for bit. The bias is applied only before a cut
+    /// ([`Self::bring_up_to_date_before_cut`]), the one change after which those holes can
+    /// matter at once; splices and inspections draw plainly (fewer weight factors).
     pub(crate) fn bring_up_to_date(&mut self, slot: usize, t: f64) {
+        self.update_worst_holes(slot, t, false);
+    }
+
+    /// [`Self::bring_up_to_date`] just before a cut in the bay (latent-damage bias applies).
+    pub(crate) fn bring_up_to_date_before_cut(&mut self, slot: usize, t: f64) {
+        self.update_worst_holes(slot, t, true);
+    }
+
+    fn update_worst_holes(&mut self, slot: usize, t: f64, before_cut: bool) {
         let Some(od) = self.e.on_demand.as_ref() else {
             return; // every-strike: holes are always current
         };
         if self.e.sampler_kind != Sampler::OnDemand {
             return;
         }
+        let e = self.e;
         let s = &mut *self.scratch;
         let dt = t - s.updated_s[slot];
         s.updated_s[slot] = t;
         if !(dt > 0.0) {
             return;
         }
-        let n = self.e.ribbons;
+        let n = e.ribbons;
         let base = slot * n;
-        let hr = od.holes.bay(s.touched[slot] as usize);
+        let j = s.touched[slot] as usize;
+        let hr = od.holes.bay(j);
         let floor_rate = hr.floor_rate_per_s();
+        // The bias thresholds: critical widths one cut later (only when the bias is on and a
+        // further cut would leave a survivor).
+        let p = self.rare.latent_p();
+        let alive = s.intact[base..base + n].iter().filter(|&&b| b).count();
+        let mut next_rate = [0.0f64; MAX_RIBBONS];
+        let biased = before_cut && p > 0.0 && alive >= 2;
+        if biased {
+            let mut loads = [0.0f64; MAX_RIBBONS];
+            e.sharing.distribute(
+                &s.intact[base..base + n],
+                e.model.profile.bays[j].max_tension_n,
+                &mut loads[..n],
+            );
+            let scale = alive as f64 / (alive - 1) as f64;
+            for i in 0..n {
+                if s.intact[base + i] {
+                    let a =
+                        critical_width_m(&e.model.profile, j, loads[i] * scale).max(hr.floor_m());
+                    next_rate[i] = hr.rate_at_least_per_s(a);
+                }
+            }
+        }
+        // q_i = P(M_i >= a_i) under the natural law; Q = P(at least one i).
+        let mut q = [0.0f64; MAX_RIBBONS];
+        let mut none_big = 1.0;
+        if biased {
+            for i in 0..n {
+                if s.intact[base + i] {
+                    q[i] = -(-(next_rate[i] - s.cut_rate_s[base + i]).max(0.0) * dt).exp_m1();
+                    none_big *= 1.0 - q[i];
+                }
+            }
+        }
+        let big_q = 1.0 - none_big;
+        // The mixture's component: with probability p, the natural law conditioned on at least
+        // one segment reaching its next critical width; otherwise the natural law. Under the
+        // conditioned component the first such segment is drawn from
+        // P(first = i) = prod_{k<i} (1 - q_k) q_i / Q, the ones before it below their
+        // threshold, the ones after it from the natural law (an exact conditional draw).
+        let mut first_big = usize::MAX;
+        let mixture = biased && big_q > 0.0;
+        if mixture && open01(&mut self.damage) < p {
+            let mut x = unit(&mut self.damage) * big_q;
+            let mut before = 1.0;
+            for i in 0..n {
+                if !s.intact[base + i] {
+                    continue;
+                }
+                let pi = before * q[i];
+                if x < pi || first_big == usize::MAX && pi > 0.0 {
+                    first_big = i;
+                }
+                if x < pi {
+                    break;
+                }
+                x -= pi;
+                before *= 1.0 - q[i];
+            }
+        }
+        let mut any_big = false;
         for i in 0..n {
             if !s.intact[base + i] {
                 continue;
             }
-            let target = s.cut_rate_s[base + i] - open01(&mut self.damage).ln() / dt;
+            let u = open01(&mut self.damage);
+            let h_c = s.cut_rate_s[base + i];
+            // F = P(M < m) at the drawn m: the plain draw uses F = u.
+            let big_f = if first_big == usize::MAX || i > first_big {
+                u
+            } else if i < first_big {
+                u * (1.0 - q[i])
+            } else {
+                (1.0 - q[i]) + u * q[i]
+            };
+            if mixture && big_f >= 1.0 - q[i] {
+                any_big = true;
+            }
+            let target = h_c - big_f.ln() / dt;
             if target >= floor_rate {
                 continue; // the largest sub-critical hole is below the floor: irrelevant
             }
@@ -663,6 +782,11 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
             if m > s.worst_hole_m[base + i] {
                 s.worst_hole_m[base + i] = m;
             }
+        }
+        if mixture {
+            // f/g = 1 / ((1 - p) + p 1{any big} / Q), at most 1/(1 - p).
+            let g_over_f = (1.0 - p) + if any_big { p / big_q } else { 0.0 };
+            self.rare.add_log_weight(-g_over_f.ln());
         }
     }
 

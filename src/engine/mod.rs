@@ -264,6 +264,8 @@ pub struct Engine<'m> {
     thickness_m: f64,
     ribbon_density: f64,
     bias_factor: f64,
+    /// Defensive-mixture probability of the latent-damage bias (0: off).
+    latent_bias: f64,
     strict: bool,
 }
 
@@ -341,6 +343,7 @@ impl<'m> Engine<'m> {
             thickness_m: t.thickness_m,
             ribbon_density: t.material_density_kg_per_m3,
             bias_factor: 1.0,
+            latent_bias: 0.0,
             strict: false,
         })
     }
@@ -356,6 +359,36 @@ impl<'m> Engine<'m> {
         }
         self.bias_factor = factor;
         Ok(self)
+    }
+
+    /// Switch on the latent-damage importance sampling of the on-demand sampler: each worst
+    /// sub-critical hole brought up to date at a state change is drawn from the defensive
+    /// mixture (1 - p) f + p f 1{M >= a} / P(M >= a), a the segment's critical width after one
+    /// more cut in its bay (see [`ondemand`]'s docs), and the history carries the likelihood
+    /// ratio. `p` = 0 is plain Monte Carlo, bit for bit.
+    pub fn with_latent_bias(mut self, p: f64) -> Result<Self, EngineError> {
+        if !(0.0..=0.95).contains(&p) {
+            return Err(EngineError::Options(format!(
+                "latent-damage bias = {p} is out of range: allowed [0, 0.95] (probability of the biased component)"
+            )));
+        }
+        if p > 0.0 && (self.on_demand.is_none() || self.sampler_kind != Sampler::OnDemand) {
+            return Err(EngineError::Options(
+                "the latent-damage bias works on the on-demand sampler's worst-hole draws: it needs `--sampler on-demand` and a scenario outside validation mode".into(),
+            ));
+        }
+        self.latent_bias = p;
+        Ok(self)
+    }
+
+    /// The latent-damage bias probability (0: off).
+    pub fn latent_bias(&self) -> f64 {
+        self.latent_bias
+    }
+
+    /// True when histories carry likelihood-ratio weights (any rare-event estimator on).
+    pub fn is_weighted(&self) -> bool {
+        self.bias_factor > 1.0 || self.latent_bias > 0.0
     }
 
     /// Check every invariant after every event (slow; for tests). A violation marks the history
@@ -489,7 +522,7 @@ impl<'m> Engine<'m> {
         let mut tally = self.empty_tally();
         let lo = b * BATCH_SIZE;
         let hi = histories.min(lo.saturating_add(BATCH_SIZE));
-        if self.bias_factor > 1.0 {
+        if self.is_weighted() {
             tally.weighted.push(WeightedBatch {
                 batch: b,
                 sum_w_by_year: vec![0.0; self.years],
@@ -708,7 +741,7 @@ impl<'m> Engine<'m> {
             return None;
         }
         let n = t.histories as f64;
-        if self.bias_factor > 1.0 {
+        if self.is_weighted() {
             let mut batches: Vec<&WeightedBatch> = t.weighted.iter().collect();
             batches.sort_by_key(|b| b.batch);
             let (mut sw, mut sw2) = (0.0, 0.0);

@@ -723,6 +723,10 @@ pub struct RareEventSummary {
     pub method: String,
     /// Boost factor of strike (cut) rates on bays that already have a cut.
     pub boost_factor: f64,
+    /// Latent-damage bias: probability of the biased component of the defensive mixture for
+    /// the worst sub-critical holes (0: off; absent in older files).
+    #[serde(default)]
+    pub latent_bias: f64,
     /// Weighted loss probability (interval only when resolved).
     pub loss_probability: LossProbability,
     /// Standard error of the estimate.
@@ -774,9 +778,17 @@ impl RareEventSummary {
                 LossProbability::weighted(&year, conf)
             })
             .collect();
+        let mut parts = Vec::new();
+        if engine.rare_event_factor() > 1.0 {
+            parts.push("failure biasing by rate inflation on damaged bays (Heidelberger 1995, ACM TOMACS 5, 43)");
+        }
+        if engine.latent_bias() > 0.0 {
+            parts.push("latent-damage bias: worst sub-critical holes from a defensive mixture toward the next critical width (Hesterberg 1995, Technometrics 37, 185)");
+        }
         Some(RareEventSummary {
-            method: "failure biasing by rate inflation on damaged bays, likelihood-ratio weights (Heidelberger 1995, ACM TOMACS 5, 43)".into(),
+            method: format!("{}; likelihood-ratio weights", parts.join(" and ")),
             boost_factor: engine.rare_event_factor(),
+            latent_bias: engine.latent_bias(),
             std_error: total.standard_error,
             relative_error: (total.estimate > 0.0).then(|| total.standard_error / total.estimate),
             effective_sample_size: total.effective_sample_size,
