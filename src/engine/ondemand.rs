@@ -73,8 +73,12 @@
 //! runs θ times faster, and the history carries the likelihood ratio
 //! θ^-(such cuts) · exp((θ - 1) ∫ R_damaged(t) dt), R_damaged the natural cut rate of those
 //! segments (failure biasing by rate inflation; Heidelberger 1995, ACM TOMACS 5, 43). The
-//! sub-critical process is not biased (it needs no weight). The strike-by-strike engine biases
-//! all strikes on damaged bays instead; both are unbiased estimators of the same probability.
+//! strike-by-strike engine biases all strikes on damaged bays instead; both are unbiased
+//! estimators of the same probability. Under `--latent-bias p` (on-demand only) the worst-hole
+//! draws made just before a cut come from a defensive mixture that puts probability p on "at
+//! least one segment of the bay reaches its critical width after this cut", with the bounded
+//! likelihood ratio 1/(1 - p + p 1{B}/P(B)) (see `HistoryRun::bring_up_to_date` in events.rs;
+//! Hesterberg 1995, Technometrics 37, 185).
 
 use crate::model::hole_rate::HoleRateTable;
 use crate::model::Model;
