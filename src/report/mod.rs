@@ -5,6 +5,7 @@
 
 pub mod assemble;
 mod atomic;
+pub mod compare;
 pub mod design;
 pub mod env;
 pub mod escape;

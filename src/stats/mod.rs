@@ -8,6 +8,7 @@
 
 mod alias;
 mod binomial;
+mod difference;
 mod gof;
 mod moments;
 mod quantile;
@@ -15,6 +16,7 @@ mod weighted;
 
 pub use alias::AliasTable;
 pub use binomial::clopper_pearson;
+pub use difference::{mover, newcombe_hybrid, normal_difference, Difference};
 pub use gof::{chi_square_p_value, ks_p_value, ks_statistic};
 pub use moments::{MeanVar, WeightedMean};
 pub use quantile::{quantile_sorted, Histogram};

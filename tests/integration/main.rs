@@ -4,6 +4,7 @@ mod util;
 
 mod bad_input;
 mod commands;
+mod compare;
 mod damage_memory;
 mod determinism;
 mod engine_validation;
