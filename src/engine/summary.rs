@@ -532,6 +532,15 @@ pub struct RepairSummary {
     pub climber_utilisation: f64,
     /// Little's law for the queue.
     pub queue: LittleLaw,
+    /// The part of the mean wait from detection to dispatch spent with no climber free
+    /// anywhere (all out on jobs), hours per detected segment.
+    #[serde(default)]
+    pub mean_wait_for_climber_hours: f64,
+    /// The rest of that mean wait: a climber was free but had no spare segment at its
+    /// station (waiting for stock), hours per detected segment. The two add up to
+    /// `queue.mean_wait_hours`.
+    #[serde(default)]
+    pub mean_wait_for_stock_hours: f64,
     /// Probability that a station runs out of stock when a job needs it, per station.
     pub stockout_probability: Vec<StationProbability>,
     /// Smallest initial stock per station that keeps the probability of any interval's demand
@@ -629,6 +638,15 @@ impl RunSummary {
         } else {
             0.0
         };
+        // Split the mean wait by the share of the waiting-time integral spent with no climber
+        // free (the integral and the sum of waits are the same quantity by Little's law, both
+        // counted to the end of each history).
+        let no_climber_share = if rt.queue_area_s > 0 {
+            (rt.queue_area_no_climber_s as f64 / rt.queue_area_s as f64).min(1.0)
+        } else {
+            0.0
+        };
+        let wait_for_climber_h = wait_h * no_climber_share;
         let queue = LittleLaw {
             mean_waiting_segments: if observed_h > 0.0 {
                 rt.queue_area_s as f64 / 3600.0 / observed_h
@@ -704,6 +722,8 @@ impl RunSummary {
                     0.0
                 },
                 queue,
+                mean_wait_for_climber_hours: wait_for_climber_h,
+                mean_wait_for_stock_hours: (wait_h - wait_for_climber_h).max(0.0),
                 stockout_probability,
                 recommended_initial_stock: recommended,
                 stockout_target,

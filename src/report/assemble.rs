@@ -800,9 +800,10 @@ fn key_section(folder: &RunFolder) -> Section {
             label: "Repair fleet utilisation".into(),
             value: pct(r.climber_utilisation),
             note: format!(
-                "{climbers}{} splices per year; mean wait for a climber {} h",
+                "{climbers}{} splices per year; waits per segment: {} h for a climber, {} h for stock",
                 sig(r.splices_per_year, 3),
-                sig(r.queue.mean_wait_hours, 3)
+                sig(r.mean_wait_for_climber_hours, 3),
+                sig(r.mean_wait_for_stock_hours, 3)
             ),
         });
         let t = &r.time_to_splice_hours;
@@ -1133,17 +1134,17 @@ fn repair_section(folder: &RunFolder, figures: &[NamedFigure]) -> Section {
         heading: "What stock and fleet keep it alive?".into(),
         paragraphs: vec![if q.mean_wait_hours > 0.0 {
             format!(
-                "Climbers are busy {} of the available time; {} segments are spliced per year. On average {} cut segments wait for a climber, each for {} h (Little's law: arrival rate {} per hour x mean wait = {}).",
+                "Climbers are busy {} of the available time; {} segments are spliced per year. On average {} detected segments wait for dispatch; {} (Little's law: arrival rate {} per hour x mean wait = {}).",
                 pct(r.climber_utilisation),
                 sig(r.splices_per_year, 3),
                 sig(q.mean_waiting_segments, 3),
-                sig(q.mean_wait_hours, 3),
+                super::run::wait_sentence(r),
                 sig(q.arrival_rate_per_hour, 3),
                 sig(q.arrival_rate_times_wait, 3)
             )
         } else {
             format!(
-                "Climbers are busy {} of the available time; {} segments are spliced per year. No cut segment ever waited for a free climber: the fleet is large enough for this cut rate, and the time to splice is detection, travel and splicing.",
+                "Climbers are busy {} of the available time; {} segments are spliced per year. No detected segment ever waited for dispatch: the fleet and stock are large enough for this cut rate, and the time to splice is detection, travel and splicing.",
                 pct(r.climber_utilisation),
                 sig(r.splices_per_year, 3)
             )

@@ -11,6 +11,7 @@ mod engine_validation;
 mod estimate;
 mod hole_rate;
 mod issue13;
+mod issue14_reports;
 mod ondemand;
 mod physics;
 mod rare_event;
