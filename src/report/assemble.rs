@@ -337,7 +337,7 @@ impl RunFolder {
                 }
             })
         } else {
-            notes.push("No trade study (sweep/sweep.json) in this folder: the cross-link spacing comparison is left out.".into());
+            notes.push("No trade study (sweep/sweep.json) in this folder: the trade-study comparison is left out.".into());
             None
         };
         let sens_dir = dir.join("sensitivity");
@@ -1289,6 +1289,48 @@ fn sensitivity_section(
 /// Largest number of trade-study rows shown in the report.
 const SWEEP_ROWS_SHOWN: usize = 200;
 
+/// The trade-study heading, naming what was varied: `tether.cross_link_spacing_km` reads
+/// "cross-link spacing", `tether.ribbon_count` "ribbon count".
+pub fn varied_heading(paths: &[&str]) -> String {
+    let words: Vec<String> = paths
+        .iter()
+        .map(|p| {
+            let last = p.rsplit('.').next().unwrap_or(p);
+            let last = last.split('[').next().unwrap_or(last);
+            let mut w: Vec<&str> = last.split('_').filter(|w| !w.is_empty()).collect();
+            const UNITS: &[&str] = &[
+                "km", "m", "mm", "um", "n", "kg", "gpa", "hours", "days", "years", "s", "per", "g",
+                "cm3", "deg",
+            ];
+            while w.len() > 1 && w.last().is_some_and(|u| UNITS.contains(u)) {
+                w.pop();
+            }
+            // `per` starts a unit (`speed_m_per_s`): cut from the first unit word on.
+            if let Some(i) = w.iter().position(|x| *x == "per").filter(|&i| i > 0) {
+                w.truncate(i);
+                while w.len() > 1 && w.last().is_some_and(|u| UNITS.contains(u)) {
+                    w.pop();
+                }
+            }
+            let phrase = w.join(" ").replace("cross link", "cross-link");
+            // A plural (`climbers`, `initial_stock_segments`) is a count.
+            if phrase.ends_with('s') && !phrase.ends_with("ss") {
+                format!("number of {phrase}")
+            } else {
+                phrase
+            }
+        })
+        .collect();
+    match words.len() {
+        0 => "Which design in the trade study is best for its mass?".into(),
+        1 => format!("Which {} is best for its mass?", words[0]),
+        _ => format!(
+            "Which combination of {} is best for its mass?",
+            words.join(" and ")
+        ),
+    }
+}
+
 fn sweep_section(sw: &SweepInput) -> Section {
     // A sweep written by this version renders with the sweep's own table and front; anything
     // else falls back to a generic reading of its rows.
@@ -1332,7 +1374,7 @@ fn sweep_section(sw: &SweepInput) -> Section {
             }
         }
         return Section {
-            heading: "Which cross-link spacing is best for its mass?".into(),
+            heading: varied_heading(&r.axes.iter().map(|a| a.path.as_str()).collect::<Vec<_>>()),
             paragraphs,
             cards: Vec::new(),
             figures,
@@ -1403,7 +1445,7 @@ fn sweep_section(sw: &SweepInput) -> Section {
         }
     }
     Section {
-        heading: "Which cross-link spacing is best for its mass?".into(),
+        heading: varied_heading(&[]),
         paragraphs,
         figures,
         tables,
@@ -1494,10 +1536,12 @@ fn report_doc(folder: &RunFolder, figures: &[NamedFigure], t: &DocTables<'_>) ->
     let mut sections = vec![
         key_section(folder),
         design_section(folder),
+        super::statement::model_section(folder),
         survival_section(folder, figures, t),
         where_section(figures, t),
-        repair_section(folder, figures),
     ];
+    sections.extend(super::statement::cuts_section(s));
+    sections.push(repair_section(folder, figures));
     if let Some(sw) = &folder.sweep {
         sections.push(sweep_section(sw));
     }

@@ -17,6 +17,7 @@ pub mod html;
 pub mod plot;
 pub mod run;
 pub mod sensitivity;
+pub mod statement;
 pub mod sweep;
 pub mod table;
 
