@@ -117,6 +117,7 @@ fn sums_fit(parts: &[&Tally]) -> bool {
         && all(&|t| t.repair.queue_arrivals)
         && all(&|t| t.repair.queue_wait_sum_s)
         && all(&|t| t.repair.queue_area_s)
+        && all(&|t| t.repair.queue_area_no_climber_s)
         && all(&|t| t.repair.busy_s)
         && vecs(&|t| &t.repair.splices_by_year)
         && vecs(&|t| &t.repair.time_to_splice_hist)

@@ -1,6 +1,7 @@
 //! Command-line interface: clap definitions, one file per subcommand. The only code that prints.
 
 mod check;
+mod compare;
 mod demo;
 mod env;
 mod estimate;
@@ -46,6 +47,8 @@ enum Command {
     Estimate(estimate::Args),
     /// Trade study: run a grid of designs with common random numbers
     Sweep(sweep::Args),
+    /// Designs side by side: key figures, difference of loss probabilities, survival curves
+    Compare(compare::Args),
     /// Re-render tables, plots and report.html from a saved run folder
     Report(report::Args),
     /// Which uncertain input decides the answer: one-at-a-time low/high runs, sorted by swing
@@ -77,6 +80,7 @@ pub fn run() -> anyhow::Result<()> {
         Command::Merge(a) => merge::run(a),
         Command::Estimate(a) => estimate::run(a),
         Command::Sweep(a) => sweep::run(a),
+        Command::Compare(a) => compare::run(a),
         Command::Report(a) => report::run(a),
         Command::Sensitivity(a) => sensitivity::run(a),
     }

@@ -25,7 +25,7 @@ pub use sampler::{open01, unit, Strike, StrikeSampler};
 pub use summary::{
     BandRow, CauseCounts, CountQuantiles, DurationStats, EstimateMethod, Interval, LittleLaw,
     LossProbability, RepairSummary, RunSummary, SpareSummary, StationDemand, StationProbability,
-    StationStock, SurvivalPoint, PLAIN_INTERVAL_METHOD, WEIGHTED_INTERVAL_METHOD,
+    StationStock, SurvivalPoint, YearCuts, PLAIN_INTERVAL_METHOD, WEIGHTED_INTERVAL_METHOD,
 };
 pub use tally::{Loss, LossCause, Tally, WeightedBatch, ANOMALY_EXAMPLES};
 

@@ -167,6 +167,23 @@ pub struct BandRow {
     pub loss_probability: Option<Interval>,
 }
 
+/// Expected cuts in one mission year.
+#[derive(Clone, Copy, Debug, PartialEq, Serialize, Deserialize)]
+pub struct YearCuts {
+    /// Mission year (1-based; the last may be a fraction of a year).
+    pub year: u32,
+    /// Cut segments counted in that year over all histories.
+    pub cuts: u64,
+    /// Expected cut segments in that year per mission (cuts / histories).
+    pub expected_cuts: f64,
+    /// Lower bound: Garwood exact Poisson interval on the count, widened by the square root
+    /// of the dispersion index (variance / mean of cuts per history over the mission) when
+    /// cuts cluster (quasi-Poisson; McCullagh & Nelder 1989, §4.5), per history.
+    pub ci_low: f64,
+    /// Upper bound (as `ci_low`).
+    pub ci_high: f64,
+}
+
 /// Losses by cause.
 #[derive(Clone, Copy, Debug, PartialEq, Serialize, Deserialize)]
 pub struct CauseCounts {
@@ -215,6 +232,10 @@ pub struct RunSummary {
     pub cuts_per_year: Interval,
     /// Cuts and losses by altitude band.
     pub cuts_by_altitude_band: Vec<BandRow>,
+    /// Expected cuts in each mission year, with intervals (counted under the biased measure
+    /// in a rare-event run). Absent in files of older versions.
+    #[serde(default)]
+    pub expected_cuts_by_year: Vec<YearCuts>,
     /// Losses by cause.
     pub losses_by_cause: CauseCounts,
     /// Fraction of cuts that came from load redistribution.
@@ -357,6 +378,30 @@ impl RunSummary {
             confidence: conf,
         };
 
+        // Cuts cluster (cascades, one strike after another in a weakened bay), so the
+        // per-year Poisson interval is widened by the mission's dispersion index.
+        let dispersion = if mean > 0.0 {
+            (var / mean).max(1.0)
+        } else {
+            1.0
+        };
+        let expected_cuts_by_year = tally
+            .cuts_by_year
+            .iter()
+            .enumerate()
+            .map(|(y, &k)| {
+                let (lo, hi) = crate::stats::poisson_interval(k, conf);
+                let kf = k as f64;
+                let w = dispersion.sqrt();
+                YearCuts {
+                    year: (y + 1) as u32,
+                    cuts: k,
+                    expected_cuts: kf / h,
+                    ci_low: (kf - w * (kf - lo)).max(0.0) / h,
+                    ci_high: (kf + w * (hi - kf)) / h,
+                }
+            })
+            .collect();
         let edges = altitude_band_edges_m(model.profile.length_m());
         let cuts_by_altitude_band = (0..edges.len() - 1)
             .map(|b| BandRow {
@@ -392,6 +437,7 @@ impl RunSummary {
             mean_cuts: mean,
             cuts_per_year,
             cuts_by_altitude_band,
+            expected_cuts_by_year,
             losses_by_cause: CauseCounts {
                 direct_cut: tally.losses_by_cause[0],
                 cascade: tally.losses_by_cause[1],
@@ -532,6 +578,15 @@ pub struct RepairSummary {
     pub climber_utilisation: f64,
     /// Little's law for the queue.
     pub queue: LittleLaw,
+    /// The part of the mean wait from detection to dispatch spent with no climber free
+    /// anywhere (all out on jobs), hours per detected segment.
+    #[serde(default)]
+    pub mean_wait_for_climber_hours: f64,
+    /// The rest of that mean wait: a climber was free but had no spare segment at its
+    /// station (waiting for stock), hours per detected segment. The two add up to
+    /// `queue.mean_wait_hours`.
+    #[serde(default)]
+    pub mean_wait_for_stock_hours: f64,
     /// Probability that a station runs out of stock when a job needs it, per station.
     pub stockout_probability: Vec<StationProbability>,
     /// Smallest initial stock per station that keeps the probability of any interval's demand
@@ -629,6 +684,15 @@ impl RunSummary {
         } else {
             0.0
         };
+        // Split the mean wait by the share of the waiting-time integral spent with no climber
+        // free (the integral and the sum of waits are the same quantity by Little's law, both
+        // counted to the end of each history).
+        let no_climber_share = if rt.queue_area_s > 0 {
+            (rt.queue_area_no_climber_s as f64 / rt.queue_area_s as f64).min(1.0)
+        } else {
+            0.0
+        };
+        let wait_for_climber_h = wait_h * no_climber_share;
         let queue = LittleLaw {
             mean_waiting_segments: if observed_h > 0.0 {
                 rt.queue_area_s as f64 / 3600.0 / observed_h
@@ -704,6 +768,8 @@ impl RunSummary {
                     0.0
                 },
                 queue,
+                mean_wait_for_climber_hours: wait_for_climber_h,
+                mean_wait_for_stock_hours: (wait_h - wait_for_climber_h).max(0.0),
                 stockout_probability,
                 recommended_initial_stock: recommended,
                 stockout_target,

@@ -129,6 +129,11 @@ pub struct RepairTally {
     pub queue_wait_sum_s: u64,
     /// Integral over time of the number of segments waiting, segment x s.
     pub queue_area_s: u64,
+    /// The part of `queue_area_s` during which no climber was free anywhere (segments
+    /// waiting for a climber); the rest was spent with a free climber that had no stock
+    /// at its station (waiting for stock). Absent in files of older versions.
+    #[serde(default)]
+    pub queue_area_no_climber_s: u64,
     /// Climber busy time (dispatch to return), s.
     pub busy_s: u64,
     /// Histories with at least one stock-out, per station.
@@ -169,6 +174,7 @@ impl RepairTally {
         self.queue_arrivals += o.queue_arrivals;
         self.queue_wait_sum_s += o.queue_wait_sum_s;
         self.queue_area_s += o.queue_area_s;
+        self.queue_area_no_climber_s += o.queue_area_no_climber_s;
         self.busy_s += o.busy_s;
         add(&mut self.stockout_histories, &o.stockout_histories);
         add(&mut self.stockout_events, &o.stockout_events);
@@ -225,6 +231,7 @@ pub struct Fleet {
     intervals: usize,
     waiting: u32,
     area: f64,
+    area_no_climber: f64,
     area_t: f64,
     busy: f64,
     wait_sum: f64,
@@ -246,6 +253,7 @@ impl Fleet {
             intervals,
             waiting: 0,
             area: 0.0,
+            area_no_climber: 0.0,
             area_t: 0.0,
             busy: 0.0,
             wait_sum: 0.0,
@@ -265,6 +273,7 @@ impl Fleet {
         self.demand.iter_mut().for_each(|d| *d = 0);
         self.waiting = 0;
         self.area = 0.0;
+        self.area_no_climber = 0.0;
         self.area_t = 0.0;
         self.busy = 0.0;
         self.wait_sum = 0.0;
@@ -281,8 +290,16 @@ impl Fleet {
         &self.jobs
     }
 
+    /// Integrate the number waiting up to `t`, before any state change at `t`. The span is
+    /// charged to waiting for a climber when no climber was free anywhere, else to waiting
+    /// for stock (a free climber without stock at its station: dispatch serves every job it
+    /// can, so a job left waiting beside a free climber lacks stock).
     fn advance_area(&mut self, t: f64) {
-        self.area += f64::from(self.waiting) * (t - self.area_t);
+        let a = f64::from(self.waiting) * (t - self.area_t);
+        self.area += a;
+        if self.waiting > 0 && self.idle.iter().all(|&c| c == 0) {
+            self.area_no_climber += a;
+        }
         self.area_t = t;
     }
 
@@ -341,6 +358,8 @@ impl Fleet {
         t: f64,
         tally: &mut RepairTally,
     ) {
+        // Close the span before this instant under the state that held during it.
+        self.advance_area(t);
         while !self.jobs.is_empty() && self.idle.iter().any(|&c| c > 0) {
             let k = policy.choose(&self.jobs, plan);
             let bay = self.jobs[k].bay as usize;
@@ -429,6 +448,7 @@ impl Fleet {
 
     /// The climber is home and free.
     pub fn on_return(&mut self, station: u32, t: f64) {
+        self.advance_area(t);
         self.idle[station as usize] += 1;
         self.busy += t;
     }
@@ -465,6 +485,8 @@ impl Fleet {
         let busy = self.busy + f64::from(busy_now) * end_s;
         tally.queue_wait_sum_s += wait_sum.max(0.0).round() as u64;
         tally.queue_area_s += self.area.max(0.0).round() as u64;
+        tally.queue_area_no_climber_s +=
+            self.area_no_climber.clamp(0.0, self.area.max(0.0)).round() as u64;
         tally.busy_s += busy.max(0.0).round() as u64;
         for s in 0..plan.stations.len() {
             if self.stockout_seen[s] {

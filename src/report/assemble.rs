@@ -337,7 +337,7 @@ impl RunFolder {
                 }
             })
         } else {
-            notes.push("No trade study (sweep/sweep.json) in this folder: the cross-link spacing comparison is left out.".into());
+            notes.push("No trade study (sweep/sweep.json) in this folder: the trade-study comparison is left out.".into());
             None
         };
         let sens_dir = dir.join("sensitivity");
@@ -800,9 +800,10 @@ fn key_section(folder: &RunFolder) -> Section {
             label: "Repair fleet utilisation".into(),
             value: pct(r.climber_utilisation),
             note: format!(
-                "{climbers}{} splices per year; mean wait for a climber {} h",
+                "{climbers}{} splices per year; waits per segment: {} h for a climber, {} h for stock",
                 sig(r.splices_per_year, 3),
-                sig(r.queue.mean_wait_hours, 3)
+                sig(r.mean_wait_for_climber_hours, 3),
+                sig(r.mean_wait_for_stock_hours, 3)
             ),
         });
         let t = &r.time_to_splice_hours;
@@ -1133,17 +1134,17 @@ fn repair_section(folder: &RunFolder, figures: &[NamedFigure]) -> Section {
         heading: "What stock and fleet keep it alive?".into(),
         paragraphs: vec![if q.mean_wait_hours > 0.0 {
             format!(
-                "Climbers are busy {} of the available time; {} segments are spliced per year. On average {} cut segments wait for a climber, each for {} h (Little's law: arrival rate {} per hour x mean wait = {}).",
+                "Climbers are busy {} of the available time; {} segments are spliced per year. On average {} detected segments wait for dispatch; {} (Little's law: arrival rate {} per hour x mean wait = {}).",
                 pct(r.climber_utilisation),
                 sig(r.splices_per_year, 3),
                 sig(q.mean_waiting_segments, 3),
-                sig(q.mean_wait_hours, 3),
+                super::run::wait_sentence(r),
                 sig(q.arrival_rate_per_hour, 3),
                 sig(q.arrival_rate_times_wait, 3)
             )
         } else {
             format!(
-                "Climbers are busy {} of the available time; {} segments are spliced per year. No cut segment ever waited for a free climber: the fleet is large enough for this cut rate, and the time to splice is detection, travel and splicing.",
+                "Climbers are busy {} of the available time; {} segments are spliced per year. No detected segment ever waited for dispatch: the fleet and stock are large enough for this cut rate, and the time to splice is detection, travel and splicing.",
                 pct(r.climber_utilisation),
                 sig(r.splices_per_year, 3)
             )
@@ -1288,6 +1289,48 @@ fn sensitivity_section(
 /// Largest number of trade-study rows shown in the report.
 const SWEEP_ROWS_SHOWN: usize = 200;
 
+/// The trade-study heading, naming what was varied: `tether.cross_link_spacing_km` reads
+/// "cross-link spacing", `tether.ribbon_count` "ribbon count".
+pub fn varied_heading(paths: &[&str]) -> String {
+    let words: Vec<String> = paths
+        .iter()
+        .map(|p| {
+            let last = p.rsplit('.').next().unwrap_or(p);
+            let last = last.split('[').next().unwrap_or(last);
+            let mut w: Vec<&str> = last.split('_').filter(|w| !w.is_empty()).collect();
+            const UNITS: &[&str] = &[
+                "km", "m", "mm", "um", "n", "kg", "gpa", "hours", "days", "years", "s", "per", "g",
+                "cm3", "deg",
+            ];
+            while w.len() > 1 && w.last().is_some_and(|u| UNITS.contains(u)) {
+                w.pop();
+            }
+            // `per` starts a unit (`speed_m_per_s`): cut from the first unit word on.
+            if let Some(i) = w.iter().position(|x| *x == "per").filter(|&i| i > 0) {
+                w.truncate(i);
+                while w.len() > 1 && w.last().is_some_and(|u| UNITS.contains(u)) {
+                    w.pop();
+                }
+            }
+            let phrase = w.join(" ").replace("cross link", "cross-link");
+            // A plural (`climbers`, `initial_stock_segments`) is a count.
+            if phrase.ends_with('s') && !phrase.ends_with("ss") {
+                format!("number of {phrase}")
+            } else {
+                phrase
+            }
+        })
+        .collect();
+    match words.len() {
+        0 => "Which design in the trade study is best for its mass?".into(),
+        1 => format!("Which {} is best for its mass?", words[0]),
+        _ => format!(
+            "Which combination of {} is best for its mass?",
+            words.join(" and ")
+        ),
+    }
+}
+
 fn sweep_section(sw: &SweepInput) -> Section {
     // A sweep written by this version renders with the sweep's own table and front; anything
     // else falls back to a generic reading of its rows.
@@ -1331,7 +1374,7 @@ fn sweep_section(sw: &SweepInput) -> Section {
             }
         }
         return Section {
-            heading: "Which cross-link spacing is best for its mass?".into(),
+            heading: varied_heading(&r.axes.iter().map(|a| a.path.as_str()).collect::<Vec<_>>()),
             paragraphs,
             cards: Vec::new(),
             figures,
@@ -1402,7 +1445,7 @@ fn sweep_section(sw: &SweepInput) -> Section {
         }
     }
     Section {
-        heading: "Which cross-link spacing is best for its mass?".into(),
+        heading: varied_heading(&[]),
         paragraphs,
         figures,
         tables,
@@ -1493,10 +1536,12 @@ fn report_doc(folder: &RunFolder, figures: &[NamedFigure], t: &DocTables<'_>) ->
     let mut sections = vec![
         key_section(folder),
         design_section(folder),
+        super::statement::model_section(folder),
         survival_section(folder, figures, t),
         where_section(figures, t),
-        repair_section(folder, figures),
     ];
+    sections.extend(super::statement::cuts_section(s));
+    sections.push(repair_section(folder, figures));
     if let Some(sw) = &folder.sweep {
         sections.push(sweep_section(sw));
     }

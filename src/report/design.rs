@@ -84,8 +84,79 @@ pub struct DesignSummary {
     pub heaviest_spare_segment_bay: usize,
     /// Climber payload, kg (when repair is given).
     pub climber_payload_kg: Option<f64>,
+    /// Ribbon width of bay 0 as built, mm: the given anchor width, or wider when the taper
+    /// had to widen the anchor bay to keep its stress at allowable / safety factor.
+    pub anchor_bay_width_mm: f64,
+    /// The model behind every number (also the report's "model statement").
+    pub model_statement: ModelStatement,
     /// The engineering caution.
     pub caution: String,
+}
+
+/// What the physics model is: flux model and its source, the switches that change the strike
+/// rate, and every setting the program changed from what the scenario gave.
+#[derive(Clone, Debug, Serialize)]
+pub struct ModelStatement {
+    /// Flux model as named in the scenario (`grun1985`, or the table file).
+    pub flux_model: String,
+    /// The model's own name, with its published source.
+    pub flux_model_source: String,
+    /// Masses over which the flux model was fitted or tabulated, kg; strikes outside are
+    /// extrapolated.
+    pub flux_valid_mass_range_kg: [f64; 2],
+    /// Multiplier on the whole flux.
+    pub flux_scale_factor: f64,
+    /// Meteoroid velocity distribution.
+    pub velocity_distribution: String,
+    /// Gravitational focusing by the Moon.
+    pub moon_focusing: bool,
+    /// Gravitational focusing by the Earth.
+    pub earth_focusing: bool,
+    /// Shielding by the Moon's body.
+    pub moon_shielding: bool,
+    /// Lunar ejecta as a second strike source.
+    pub lunar_ejecta: bool,
+    /// Settings the program used instead of what the scenario gave, in words.
+    pub overridden_settings: Vec<String>,
+}
+
+impl ModelStatement {
+    /// From a built model.
+    pub fn from_model(m: &Model) -> Self {
+        use crate::scenario::FluxModelSpec;
+        let env = &m.scenario.spec.environment;
+        let (lo, hi) = m.flux.valid_mass_range_kg();
+        let t = &m.scenario.tether;
+        let bay0 = m
+            .profile
+            .bays
+            .first()
+            .map_or(t.anchor_width_m, |b| b.width_m);
+        let mut overridden = Vec::new();
+        if bay0 > t.anchor_width_m * (1.0 + 1e-9) {
+            overridden.push(format!(
+                "tether.ribbon_width_mm: the constant-stress taper widened the anchor bay (bay 0) to {} mm beyond the given {} mm, because at the given width its stress would exceed allowable stress / design safety factor; every result uses {} mm",
+                sig(bay0 * 1e3, 4),
+                sig(t.anchor_width_m * 1e3, 4),
+                sig(bay0 * 1e3, 4)
+            ));
+        }
+        ModelStatement {
+            flux_model: match &env.flux_model {
+                FluxModelSpec::Builtin(n) => n.clone(),
+                FluxModelSpec::Table { table_file } => format!("table file {table_file}"),
+            },
+            flux_model_source: m.flux.name().to_string(),
+            flux_valid_mass_range_kg: [lo, hi],
+            flux_scale_factor: env.flux_scale_factor,
+            velocity_distribution: env.velocity_distribution.clone(),
+            moon_focusing: env.moon_focusing,
+            earth_focusing: env.earth_focusing,
+            moon_shielding: env.moon_shielding,
+            lunar_ejecta: m.ejecta.is_some(),
+            overridden_settings: overridden,
+        }
+    }
 }
 
 fn lagrange_name(side: Side) -> &'static str {
@@ -176,6 +247,12 @@ impl DesignSummary {
             heaviest_spare_segment_kg: mseg,
             heaviest_spare_segment_bay: jseg,
             climber_payload_kg: s.repair.as_ref().map(|r| r.payload_kg),
+            anchor_bay_width_mm: p
+                .bays
+                .first()
+                .map_or(s.tether.anchor_width_m, |b| b.width_m)
+                * 1e3,
+            model_statement: ModelStatement::from_model(m),
             caution: CAUTION.to_string(),
         }
     }
@@ -227,10 +304,11 @@ impl DesignSummary {
             "",
         );
         row(
-            "ribbon width (anchor / widest)",
+            "ribbon width (given at anchor / bay 0 as built / widest)",
             format!(
-                "{} / {}",
+                "{} / {} / {}",
                 sig(self.ribbon_width_range_mm[0], 4),
+                sig(self.anchor_bay_width_mm, 4),
                 sig(self.ribbon_width_range_mm[1], 4)
             ),
             "mm",
@@ -291,6 +369,9 @@ impl DesignSummary {
             None => row("climber payload", "no repair".into(), ""),
         }
         o.push_str(&t.to_text());
+        for w in &self.model_statement.overridden_settings {
+            o.push_str(&format!("Overridden setting: {w}.\n"));
+        }
         o.push_str("\nCritical hole width (mm) with k ribbons already cut in the bay, equal load sharing\n");
         let n = self.ribbon_count;
         let mut headers = vec!["bay".to_string(), "altitude km".to_string()];

@@ -5,6 +5,7 @@
 
 pub mod assemble;
 mod atomic;
+pub mod compare;
 pub mod design;
 pub mod env;
 pub mod escape;
@@ -16,6 +17,7 @@ pub mod html;
 pub mod plot;
 pub mod run;
 pub mod sensitivity;
+pub mod statement;
 pub mod sweep;
 pub mod table;
 

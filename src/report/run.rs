@@ -141,10 +141,10 @@ pub fn run_text(s: &RunSummary) -> String {
             sig(t.p99, 3)
         ));
         o.push_str(&format!(
-            "  splices per year {}; climber utilisation {}; mean wait for a climber {} h (Little's law: {} waiting = {} x {})\n",
+            "  splices per year {}; climber utilisation {}; {} (Little's law: {} waiting = {} per hour x {} h)\n",
             sig(r.splices_per_year, 4),
             pct(r.climber_utilisation),
-            sig(r.queue.mean_wait_hours, 3),
+            wait_sentence(r),
             sig(r.queue.mean_waiting_segments, 3),
             sig(r.queue.arrival_rate_per_hour, 3),
             sig(r.queue.mean_wait_hours, 3)
@@ -201,6 +201,27 @@ pub fn survival_table(s: &RunSummary) -> Table {
         ]);
     }
     t
+}
+
+/// The wait from detection to dispatch split into waiting for a climber and waiting for
+/// stock, naming the larger as the fix (one sentence, no trailing period).
+pub fn wait_sentence(r: &crate::engine::RepairSummary) -> String {
+    let q = &r.queue;
+    if q.mean_wait_hours <= 0.0 {
+        return "no detected segment waited for dispatch".into();
+    }
+    let (c, st) = (r.mean_wait_for_climber_hours, r.mean_wait_for_stock_hours);
+    let fix = if st > c {
+        "the larger is the wait for stock: more initial stock or faster resupply shortens it, more climbers would not"
+    } else {
+        "the larger is the wait for a climber: more climbers shorten it"
+    };
+    format!(
+        "mean wait from detection to dispatch {} h per segment: {} h waiting for a climber (all out on jobs), {} h waiting for stock (a free climber without a spare segment at its station); {fix}",
+        sig(q.mean_wait_hours, 3),
+        sig(c, 3),
+        sig(st, 3)
+    )
 }
 
 /// Spare demand, stock-out probability and recommended stock per station.

@@ -8,15 +8,19 @@
 
 mod alias;
 mod binomial;
+mod difference;
 mod gof;
 mod moments;
+mod poisson;
 mod quantile;
 mod weighted;
 
 pub use alias::AliasTable;
 pub use binomial::clopper_pearson;
+pub use difference::{mover, newcombe_hybrid, normal_difference, Difference};
 pub use gof::{chi_square_p_value, ks_p_value, ks_statistic};
 pub use moments::{MeanVar, WeightedMean};
+pub use poisson::poisson_interval;
 pub use quantile::{quantile_sorted, Histogram};
 pub use weighted::{
     normal_quantile, wilson, wilson_effective, Unresolved, WeightedProportion, MAX_WEIGHT_SHARE,

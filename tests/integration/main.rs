@@ -4,12 +4,14 @@ mod util;
 
 mod bad_input;
 mod commands;
+mod compare;
 mod damage_memory;
 mod determinism;
 mod engine_validation;
 mod estimate;
 mod hole_rate;
 mod issue13;
+mod issue14_reports;
 mod ondemand;
 mod physics;
 mod rare_event;

@@ -1,0 +1,187 @@
+//! Report sections that say what each number is: the model statement (flux model and its
+//! source, switches, valid mass range, the Monte Carlo assumptions listed like the Markov
+//! ones, and any setting the program overrode) and the expected cuts in each mission year.
+//! Built from the run folder's files alone.
+
+use serde_json::Value;
+
+use super::assemble::RunFolder;
+use super::html::{ReportTable, Section};
+use super::table::{sig, Table};
+use crate::engine::RunSummary;
+
+fn on_off(v: Option<&Value>) -> &'static str {
+    match v.and_then(Value::as_bool) {
+        Some(true) => "on",
+        Some(false) => "off",
+        None => "not recorded",
+    }
+}
+
+fn text<'a>(v: Option<&'a Value>, key: &str) -> Option<&'a str> {
+    v.and_then(|v| v.get(key)).and_then(Value::as_str)
+}
+
+/// The Monte Carlo assumptions, in words, for this run (the counterpart of the Markov
+/// estimate's list).
+pub fn monte_carlo_assumptions(s: &RunSummary, scenario: Option<&Value>) -> Vec<String> {
+    let tether = scenario.and_then(|v| v.get("tether"));
+    let repair = scenario
+        .and_then(|v| v.get("repair"))
+        .filter(|r| !r.is_null());
+    let mut a = vec![
+        format!(
+            "each history is one mission of {} years from an intact tether; histories are independent{}",
+            super::failure::year_label(s.mission_years),
+            match &s.rare_event {
+                Some(r) => format!(
+                    " and weighted by their likelihood ratio (rare-event estimator, strike rates on damaged bays multiplied by {})",
+                    sig(r.boost_factor, 3)
+                ),
+                None => " and count equally".to_string(),
+            }
+        ),
+        "strikes on each bay arrive as a Poisson process whose rate (flux model x scale factor x shielding x focusing x exposed ribbon area) is constant over the mission".into(),
+        if s.sampler == "every-strike" {
+            "every strike above the sampling floor is drawn (the reference sampler)".into()
+        } else {
+            "the on-demand sampler draws only the cuts and, whenever a bay changes state, each segment's worst hole (the same distribution as drawing every strike)".into()
+        },
+        "a segment is cut when its worst hole is at least the critical width for the number of ribbons already cut in its bay; smaller holes stay and count again after later cuts (damage memory)".into(),
+        format!(
+            "a cut ribbon's load is shared by the ribbons left in its bay ({} load sharing); survivors loaded beyond their strength fail at once (cascade)",
+            text(tether, "load_sharing").unwrap_or("the scenario's")
+        ),
+        "the tether is lost when every ribbon of one bay is cut; one loss ends the history".into(),
+    ];
+    match repair {
+        Some(r) => a.push(format!(
+            "cut segments are detected ({} detection), dispatched by the {} rule from the nearest station with a free climber and a spare segment, and spliced back to intact strength",
+            text(r.get("detection"), "kind").unwrap_or("scenario's"),
+            r.get("dispatch").and_then(Value::as_str).unwrap_or("scenario's")
+        )),
+        None => a.push("no repair: cuts accumulate over the mission".into()),
+    }
+    a.push(if s.rare_event.is_some() {
+        "the interval is the Wilson score interval on effective counts, given only when the weighted estimate is resolved".into()
+    } else {
+        "the interval is the exact Clopper–Pearson interval of the loss count".into()
+    });
+    a
+}
+
+/// "What the model assumes": flux model and source, switches, valid mass range, the Monte
+/// Carlo assumptions and overridden settings.
+pub fn model_section(folder: &RunFolder) -> Section {
+    let s = &folder.summary;
+    let env = folder.scenario.as_ref().and_then(|v| v.get("environment"));
+    let st = folder
+        .design
+        .as_ref()
+        .and_then(|d| d.get("model_statement"));
+    let mut paragraphs = Vec::new();
+    match st {
+        Some(m) => {
+            let range = m
+                .get("flux_valid_mass_range_kg")
+                .and_then(Value::as_array)
+                .and_then(|r| Some((r.first()?.as_f64()?, r.get(1)?.as_f64()?)));
+            paragraphs.push(format!(
+                "Flux model: {} (scenario setting {}), valid for particle masses {}; outside that range the flux is extrapolated. Flux scale factor {}. Velocity distribution: {}.",
+                text(Some(m), "flux_model_source").unwrap_or("not recorded"),
+                text(Some(m), "flux_model").unwrap_or("not recorded"),
+                range.map_or("not recorded".to_string(), |(lo, hi)| format!("{} kg to {} kg", sig(lo, 3), sig(hi, 3))),
+                m.get("flux_scale_factor").and_then(Value::as_f64).map_or("not recorded".into(), |x| sig(x, 4)),
+                text(Some(m), "velocity_distribution").unwrap_or("not recorded"),
+            ));
+            paragraphs.push(format!(
+                "Switches: Moon focusing {}, Earth focusing {}, Moon shielding {}, lunar ejecta {}.",
+                on_off(m.get("moon_focusing")),
+                on_off(m.get("earth_focusing")),
+                on_off(m.get("moon_shielding")),
+                on_off(m.get("lunar_ejecta"))
+            ));
+            let over: Vec<String> = m
+                .get("overridden_settings")
+                .and_then(Value::as_array)
+                .map(|a| {
+                    a.iter()
+                        .filter_map(Value::as_str)
+                        .map(String::from)
+                        .collect()
+                })
+                .unwrap_or_default();
+            if over.is_empty() {
+                paragraphs.push(
+                    "Overridden settings: none; every result uses the scenario's values as given."
+                        .into(),
+                );
+            } else {
+                paragraphs.push(format!("Overridden settings: {}.", over.join("; ")));
+            }
+        }
+        None => {
+            paragraphs.push(format!(
+                "The flux model's source and valid mass range are recorded in design.json, which this folder lacks{}. Scenario flux model: {}, scale factor {}.",
+                if folder.design.is_some() { " in this version's form" } else { "" },
+                env.and_then(|e| e.get("flux_model")).map_or("not recorded".into(), |v| v.to_string()),
+                env.and_then(|e| e.get("flux_scale_factor")).and_then(Value::as_f64).map_or("not recorded".into(), |x| sig(x, 4)),
+            ));
+        }
+    }
+    paragraphs.push(format!(
+        "The Monte Carlo rests on these assumptions: {}.",
+        monte_carlo_assumptions(s, folder.scenario.as_ref()).join("; ")
+    ));
+    Section {
+        heading: "What the model assumes".into(),
+        paragraphs,
+        ..Default::default()
+    }
+}
+
+/// The expected cuts in each mission year with intervals (text, Markdown and HTML share it).
+pub fn cuts_by_year_table(s: &RunSummary) -> Table {
+    let pct = format!("{:.0} %", 100.0 * s.loss_probability.confidence);
+    let mut t = Table::new([
+        "mission year".to_string(),
+        "cuts counted".to_string(),
+        "expected cuts per mission in that year".to_string(),
+        format!("lower {pct} bound"),
+        format!("upper {pct} bound"),
+    ]);
+    for y in &s.expected_cuts_by_year {
+        t.push([
+            format!("year {}", y.year),
+            y.cuts.to_string(),
+            sig(y.expected_cuts, 3),
+            sig(y.ci_low, 3),
+            sig(y.ci_high, 3),
+        ]);
+    }
+    t
+}
+
+/// "How many segments are cut each year?": the per-year table, or nothing for an old file.
+pub fn cuts_section(s: &RunSummary) -> Option<Section> {
+    if s.expected_cuts_by_year.is_empty() {
+        return None;
+    }
+    let basis = if s.rare_event.is_some() {
+        " Counted under the rare-event run's biased measure, so these are not the physical cut rates."
+    } else {
+        ""
+    };
+    Some(Section {
+        heading: "How many segments are cut each year?".into(),
+        paragraphs: vec![format!(
+            "Expected cut segments in each mission year over the whole tether (cuts counted over all {} histories divided by the histories). The interval is the exact Poisson (Garwood) interval on the count, widened by the square root of the dispersion of cuts per history when cuts cluster; it is an approximation, as the dispersion is measured over the whole mission.{basis}",
+            s.histories
+        )],
+        tables: vec![ReportTable::from_table(
+            "Expected cuts by mission year",
+            &cuts_by_year_table(s),
+        )],
+        ..Default::default()
+    })
+}
