@@ -530,6 +530,25 @@ pub fn recommendation(r: &SweepResult) -> Vec<String> {
             ));
         }
     }
+    for f in &r.fleet_recommendations {
+        let at = if f.other_values.is_empty() {
+            String::new()
+        } else {
+            format!(" at {}", f.other_values)
+        };
+        out.push(match (f.recommended_point, f.recommended_climbers) {
+            (Some(i), Some(c)) => format!(
+                "Fleet at {}{at}: {c} climber(s) (#{i}); {}{}.",
+                f.station,
+                f.basis,
+                match f.not_distinguishable_from_reference {
+                    Some(true) => "; not distinguishable from it in this run",
+                    _ => "",
+                }
+            ),
+            _ => format!("Fleet at {}{at}: {}.", f.station, f.basis),
+        });
+    }
     if let Some(t) = r.target_rel_error {
         out.push(format!(
             "Each design stopped once its relative standard error reached {t} (at most {} histories); the histories column gives each design's count.",

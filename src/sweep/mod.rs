@@ -417,10 +417,44 @@ pub struct SweepResult {
     pub points: Vec<PointResult>,
     /// Indices of the non-dominated feasible points, by increasing total mass.
     pub pareto_front: Vec<usize>,
+    /// Fleet sizing, when an axis varies `repair.stations[i].climbers`: per combination of
+    /// the other axes, the smallest fleet whose loss probability is within
+    /// [`FLEET_TOLERANCE`] of the largest fleet swept.
+    #[serde(default)]
+    pub fleet_recommendations: Vec<FleetRecommendation>,
     /// The engineering caution.
     pub caution: String,
 }
 
+/// Relative tolerance of the fleet recommendation: a fleet qualifies when its loss probability
+/// is at most (1 + this) times the largest fleet's. A stated engineering choice, not a
+/// standard.
+pub const FLEET_TOLERANCE: f64 = 0.1;
+
+/// The smallest adequate fleet at one station for one combination of the other axes.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct FleetRecommendation {
+    /// The varied field, e.g. `repair.stations[0].climbers`.
+    pub path: String,
+    /// The station's name.
+    pub station: String,
+    /// The other axes' values, e.g. `cross_link_spacing_km=25` (empty with one axis).
+    pub other_values: String,
+    /// Relative tolerance used ([`FLEET_TOLERANCE`]).
+    pub tolerance: f64,
+    /// The point with the largest fleet swept (the stand-in for an unlimited fleet).
+    pub reference_point: usize,
+    /// The smallest fleet that qualifies (absent when the reference's loss probability is
+    /// unknown).
+    pub recommended_point: Option<usize>,
+    /// Climbers at the station in the recommended point.
+    pub recommended_climbers: Option<u64>,
+    /// True when the recommended point's interval overlaps the reference's (the run cannot
+    /// tell them apart); false means it is known to be worse but within the tolerance.
+    pub not_distinguishable_from_reference: Option<bool>,
+    /// How the recommendation was made, or why there is none.
+    pub basis: String,
+}
 /// Text recorded in every sweep about common random numbers.
 pub const CRN_NOTE: &str = "Every point uses the same seed and number of histories: history i of \
 every design draws its strikes from the same random-number stream (common random numbers), so \
@@ -504,6 +538,105 @@ impl SweepResult {
             p.on_pareto_front = front.contains(&i);
         }
         self.pareto_front = front;
+    }
+
+    /// Fleet recommendations (see [`FleetRecommendation`]); empty unless an axis varies a
+    /// station's `climbers`.
+    pub fn recommend_fleets(&self) -> Vec<FleetRecommendation> {
+        let mut out = Vec::new();
+        for (k, axis) in self.axes.iter().enumerate() {
+            let Some(station_path) = axis.path.strip_suffix(".climbers") else {
+                continue;
+            };
+            if !station_path.starts_with("repair.stations[") {
+                continue;
+            }
+            let station = axis
+                .name
+                .strip_suffix(" climbers")
+                .unwrap_or(station_path)
+                .to_string();
+            // Group by the other axes' coordinates.
+            let mut groups: Vec<(Vec<usize>, Vec<usize>)> = Vec::new();
+            for (i, p) in self.points.iter().enumerate() {
+                let mut key = p.coordinates.clone();
+                key.remove(k);
+                match groups.iter_mut().find(|g| g.0 == key) {
+                    Some(g) => g.1.push(i),
+                    None => groups.push((key, vec![i])),
+                }
+            }
+            for (key, members) in groups {
+                let climbers = |i: usize| axis.values[self.points[i].coordinates[k]].as_u64();
+                let mut sim: Vec<usize> = members
+                    .into_iter()
+                    .filter(|&i| {
+                        self.points[i].feasible
+                            && self.points[i].loss_probability.is_some()
+                            && climbers(i).is_some()
+                    })
+                    .collect();
+                sim.sort_by_key(|&i| climbers(i));
+                let Some(&reference) = sim.last() else {
+                    continue;
+                };
+                let other_values = self
+                    .axes
+                    .iter()
+                    .enumerate()
+                    .filter(|(a, _)| *a != k)
+                    .zip(&key)
+                    .map(|((_, a), &c)| format!("{}={}", a.name, a.labels[c]))
+                    .collect::<Vec<_>>()
+                    .join(", ");
+                let mut rec = FleetRecommendation {
+                    path: axis.path.clone(),
+                    station: station.clone(),
+                    other_values,
+                    tolerance: FLEET_TOLERANCE,
+                    reference_point: reference,
+                    recommended_point: None,
+                    recommended_climbers: None,
+                    not_distinguishable_from_reference: None,
+                    basis: String::new(),
+                };
+                let r = &self.points[reference];
+                if !r.loss_known {
+                    rec.basis = format!(
+                        "no recommendation: the largest fleet swept ({} climbers) has no known loss probability ({})",
+                        climbers(reference).unwrap_or(0),
+                        r.unknown_reason.as_deref().unwrap_or("unknown")
+                    );
+                    out.push(rec);
+                    continue;
+                }
+                let p_ref = r.loss_probability.as_ref().map_or(f64::NAN, |l| l.estimate);
+                let limit = p_ref * (1.0 + FLEET_TOLERANCE);
+                let pick = sim.iter().copied().find(|&i| {
+                    let p = &self.points[i];
+                    p.loss_known
+                        && p.loss_probability
+                            .as_ref()
+                            .is_some_and(|l| l.estimate <= limit)
+                });
+                if let Some(i) = pick {
+                    rec.recommended_point = Some(i);
+                    rec.recommended_climbers = climbers(i);
+                    rec.not_distinguishable_from_reference = Some(
+                        i == reference
+                            || self.points[i].not_distinguishable_from.contains(&reference),
+                    );
+                    rec.basis = format!(
+                        "smallest fleet with a known loss probability at most {} x that of the largest fleet swept ({} climbers, P = {}), which stands in for an unlimited fleet",
+                        1.0 + FLEET_TOLERANCE,
+                        climbers(reference).unwrap_or(0),
+                        crate::report::table::sig(p_ref, 3)
+                    );
+                }
+                out.push(rec);
+            }
+        }
+        out
     }
 
     /// Indices of the simulated points whose loss probability is unknown, in grid order.
@@ -726,9 +859,11 @@ pub fn run_sweep_resumable(
         spare_stock_basis: SPARE_BASIS_NOTE.into(),
         points,
         pareto_front: Vec::new(),
+        fleet_recommendations: Vec::new(),
         caution: format!("{} {PARETO_NOTE}", crate::CAUTION),
     };
     result.mark_pareto_front();
+    result.fleet_recommendations = result.recommend_fleets();
     Ok(SweepOutcome::Complete(Box::new(result)))
 }
 
