@@ -52,13 +52,17 @@ pub struct Args {
     #[arg(long, value_enum, default_value_t = super::simulate::SamplerArg::OnDemand)]
     pub sampler: super::simulate::SamplerArg,
     /// Rare-event estimator boost factor for every design (see `simulate --help`).
-    #[arg(long, value_name = "FACTOR")]
+    #[arg(long, value_name = "FACTOR", allow_hyphen_values = true)]
     pub rare_event: Option<f64>,
+    /// Stop each design once its loss probability's relative standard error is at most X;
+    /// --histories (or run.histories) is then a ceiling per design (see `simulate --help`).
+    #[arg(long, value_name = "X", allow_hyphen_values = true)]
+    pub target_rel_error: Option<f64>,
     /// Largest acceptable stock-out probability per station, for the recommended initial stock.
     #[arg(long, default_value_t = 0.05)]
     pub stockout_target: f64,
     /// Continue an interrupted sweep from its output folder (finished points are kept).
-    #[arg(long, value_name = "DIR", conflicts_with_all = ["file", "vary", "histories", "seed", "rare_event", "out", "force"])]
+    #[arg(long, value_name = "DIR", conflicts_with_all = ["file", "vary", "histories", "seed", "rare_event", "target_rel_error", "out", "force"])]
     pub resume: Option<PathBuf>,
     /// Output format on stdout.
     #[arg(long, value_enum, default_value_t)]
@@ -76,6 +80,9 @@ struct SweepPlan {
     histories: Option<u64>,
     seed: Option<u64>,
     rare_event_factor: f64,
+    /// Relative standard error at which each point stops early.
+    #[serde(default)]
+    target_rel_error: Option<f64>,
     stockout_target: f64,
     /// Damage sampler of every point.
     #[serde(default)]
@@ -268,6 +275,7 @@ pub fn run(a: Args) -> anyhow::Result<()> {
                 histories: a.histories,
                 seed: a.seed,
                 rare_event_factor: a.rare_event.unwrap_or(1.0),
+                target_rel_error: a.target_rel_error,
                 stockout_target: a.stockout_target,
                 sampler: a.sampler.into(),
             };
@@ -280,6 +288,7 @@ pub fn run(a: Args) -> anyhow::Result<()> {
         seed: plan.seed,
         threads: a.threads,
         rare_event_factor: plan.rare_event_factor,
+        target_rel_error: plan.target_rel_error,
         stockout_target: plan.stockout_target,
         flux_table_json: plan.flux_table_json.clone(),
         sampler: plan.sampler,
@@ -300,8 +309,23 @@ pub fn run(a: Args) -> anyhow::Result<()> {
         eprintln!("resuming: {} points already done", done.len());
     }
     let mut on_point = |p: &PointResult, n: usize| -> Result<(), SweepError> {
+        let sig = tether_risk::report::table::sig;
         let what = match (&p.loss_probability, &p.reason) {
-            (Some(l), _) => format!("P(loss) = {:.4}", l.estimate),
+            (Some(l), _) => {
+                let ran = p
+                    .histories_run
+                    .map(|h| format!(" ({h} histories)"))
+                    .unwrap_or_default();
+                match l.interval() {
+                    Some((lo, hi)) => format!(
+                        "P(loss) = {} ({} .. {}){ran}",
+                        sig(l.estimate, 3),
+                        sig(lo, 3),
+                        sig(hi, 3)
+                    ),
+                    None => format!("P(loss) = {} (not resolved){ran}", sig(l.estimate, 3)),
+                }
+            }
             (None, Some(_)) => "infeasible".to_string(),
             (None, None) => String::new(),
         };
@@ -327,16 +351,32 @@ pub fn run(a: Args) -> anyhow::Result<()> {
         })
     };
     let stop = super::interrupt::flag();
-    let bar = indicatif::ProgressBar::new(spec.point_count() as u64);
-    bar.set_style(
-        indicatif::ProgressStyle::with_template("{spinner} point {pos}/{len} {wide_bar} {eta}")
-            .unwrap_or_else(|_| indicatif::ProgressStyle::default_bar()),
-    );
+    // Two bars on stderr (hidden off a terminal): the points, and the histories of the point
+    // that is running (a single point can take minutes).
+    let bars = indicatif::MultiProgress::new();
+    let style = |t: &str| {
+        indicatif::ProgressStyle::with_template(t)
+            .unwrap_or_else(|_| indicatif::ProgressStyle::default_bar())
+    };
+    let bar = bars.add(indicatif::ProgressBar::new(spec.point_count() as u64));
+    bar.set_style(style("{spinner} point {pos}/{len} {wide_bar} {eta}"));
     bar.set_position(done.len() as u64);
     bar.enable_steady_tick(std::time::Duration::from_millis(250));
+    let inner = bars.add(indicatif::ProgressBar::new(0));
+    inner.set_style(style(
+        "  this point: {pos}/{len} histories {wide_bar} {per_sec} {eta}",
+    ));
+    let point_progress = |done: u64, total: u64| {
+        if inner.length() != Some(total) {
+            inner.set_length(total);
+            inner.reset();
+        }
+        inner.set_position(done);
+    };
     let mut on_point_with_bar = |p: &PointResult, n: usize| -> Result<(), SweepError> {
         bar.inc(1);
-        bar.suspend(|| on_point(p, n))
+        inner.reset();
+        bars.suspend(|| on_point(p, n))
     };
     let outcome = run_sweep_resumable(
         &plan.base,
@@ -345,7 +385,9 @@ pub fn run(a: Args) -> anyhow::Result<()> {
         done,
         &mut on_point_with_bar,
         Some(stop),
+        &point_progress,
     );
+    inner.finish_and_clear();
     bar.finish_and_clear();
     let outcome = outcome.map_err(sweep_err)?;
     let result = match outcome {

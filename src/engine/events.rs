@@ -814,10 +814,20 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
             &mut loads[..n],
         );
         let mut total = 0.0;
+        // Segments with the same load (all of a bay under equal sharing) have the same critical
+        // width and rate: computed once per distinct load (same bits in, same bits out).
+        let mut last: Option<(f64, f64, f64)> = None;
         for i in 0..n {
             if s.intact[base + i] {
-                let c = critical_width_m(&e.model.profile, j, loads[i]).max(hr.floor_m());
-                let r = hr.rate_at_least_per_s(c);
+                let (c, r) = match last {
+                    Some((l, c, r)) if l.to_bits() == loads[i].to_bits() => (c, r),
+                    _ => {
+                        let c = critical_width_m(&e.model.profile, j, loads[i]).max(hr.floor_m());
+                        let r = hr.rate_at_least_per_s(c);
+                        last = Some((loads[i], c, r));
+                        (c, r)
+                    }
+                };
                 s.critical_m[base + i] = c;
                 s.cut_rate_s[base + i] = r;
                 total += r;

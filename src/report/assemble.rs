@@ -1338,21 +1338,16 @@ fn sweep_section(sw: &SweepInput) -> Section {
         .ok()
         .filter(|r| super::folder::validate_sweep(r).is_ok())
     {
-        let front: Vec<String> = r
-            .pareto_front
-            .iter()
-            .filter_map(|&i| r.points.get(i))
-            .map(|p| p.label.clone())
-            .collect();
         let mut paragraphs = vec![format!(
-            "{} designs, {} histories each, seed {}. Designs on the mass against loss-probability front \
-             (no other design is lighter and safer): {}. With few losses per design the front reflects \
-             sampling noise as much as design; compare intervals before choosing.",
+            "{} designs, at most {} histories each, seed {}.",
             r.points.len(),
             r.histories,
-            r.seed,
-            if front.is_empty() { "none".to_string() } else { front.join("; ") }
+            r.seed
         )];
+        paragraphs.push(
+            "Designs on the mass against loss-probability front (only designs with a known loss probability; no other design is lighter and safer):".into(),
+        );
+        paragraphs.extend(crate::report::sweep::recommendation(&r));
         paragraphs.push(r.common_random_numbers.clone());
         paragraphs.push(r.spare_stock_basis.clone());
         let mut figures = Vec::new();

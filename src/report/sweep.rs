@@ -45,6 +45,55 @@ fn opt(v: Option<f64>, digits: usize) -> String {
     v.map(|x| sig(x, digits)).unwrap_or_else(|| "-".into())
 }
 
+/// A mass to the kilogram (totals differ by a climber's mass in a fleet sweep, which
+/// significant figures would hide).
+fn kg(v: Option<f64>) -> String {
+    match v {
+        Some(x) if x.is_finite() && x.abs() >= 10.0 && x.abs() < 1e15 => format!("{x:.0}"),
+        other => opt(other, 4),
+    }
+}
+
+/// Where a point stands in the ranking: `*` on the Pareto front, `unknown` when simulated
+/// without a known loss probability, empty otherwise.
+fn front_mark(p: &PointResult) -> &'static str {
+    if p.on_pareto_front {
+        "*"
+    } else if p.loss_probability.is_some() && !p.loss_known {
+        "unknown"
+    } else {
+        ""
+    }
+}
+
+/// The points this point cannot be told apart from: `#i` joined, `all others` when it is
+/// every other simulated point (of two or more), `-` for none.
+fn indistinct(r: &SweepResult, p: &PointResult, sep: &str) -> String {
+    let others = r
+        .points
+        .iter()
+        .filter(|q| q.index != p.index && q.loss_probability.is_some())
+        .count();
+    if p.loss_probability.is_none() {
+        return "-".into();
+    }
+    let n = &p.not_distinguishable_from;
+    if n.is_empty() {
+        "-".into()
+    } else if n.len() == others && others > 1 {
+        "all others".into()
+    } else {
+        n.iter()
+            .map(|i| format!("#{i}"))
+            .collect::<Vec<_>>()
+            .join(sep)
+    }
+}
+
+fn any_cost(r: &SweepResult) -> bool {
+    r.points.iter().any(|p| p.fleet_cost.is_some())
+}
+
 fn stations_of(r: &SweepResult) -> Vec<String> {
     let mut names: Vec<String> = Vec::new();
     for p in &r.points {
@@ -109,8 +158,11 @@ pub fn sweep_table(r: &SweepResult, full: bool) -> Table {
             None => "interval (run.confidence)".into(),
         },
         "losses".into(),
-        "cuts/yr".into(),
     ]);
+    if r.target_rel_error.is_some() {
+        headers.push("histories".into());
+    }
+    headers.extend(["not distinguishable from".to_string(), "cuts/yr".into()]);
     if !names.is_empty() {
         headers.push(format!("rec. stock{station_hdr}"));
         headers.push(format!("spare P95{station_hdr}"));
@@ -123,7 +175,14 @@ pub fn sweep_table(r: &SweepResult, full: bool) -> Table {
             "counterweight kg".into(),
         ]);
     }
+    if !names.is_empty() {
+        headers.push("climbers".into());
+        headers.push("climbers kg".into());
+    }
     headers.push("total kg".into());
+    if any_cost(r) {
+        headers.push("fleet cost".into());
+    }
     if !names.is_empty() {
         headers.push("payload/segment".into());
     }
@@ -161,6 +220,14 @@ pub fn sweep_table(r: &SweepResult, full: bool) -> Table {
                 .map(|l| l.to_string())
                 .unwrap_or_else(|| "-".into()),
         );
+        if r.target_rel_error.is_some() {
+            row.push(
+                p.histories_run
+                    .map(|h| h.to_string())
+                    .unwrap_or_else(|| "-".into()),
+            );
+        }
+        row.push(indistinct(r, p, " "));
         row.push(opt(p.cuts_per_year.map(|c| c.estimate), 3));
         if !names.is_empty() {
             row.push(per_station(p, &names, |s| {
@@ -177,12 +244,23 @@ pub fn sweep_table(r: &SweepResult, full: bool) -> Table {
             row.push(opt(m.map(|m| m.spare_stock_kg), 4));
             row.push(opt(m.map(|m| m.counterweight_kg), 4));
         }
-        row.push(opt(m.map(|m| m.total_kg), 4));
+        if !names.is_empty() {
+            row.push(
+                p.climbers
+                    .map(|c| c.to_string())
+                    .unwrap_or_else(|| "-".into()),
+            );
+            row.push(kg(m.map(|m| m.climbers_kg)));
+        }
+        row.push(kg(m.map(|m| m.total_kg)));
+        if any_cost(r) {
+            row.push(opt(p.fleet_cost, 4));
+        }
         if !names.is_empty() {
             row.push(opt(p.payload_to_heaviest_segment, 3));
         }
         row.push(opt(p.min_intact_margin, 3));
-        row.push(if p.on_pareto_front { "*" } else { "" }.into());
+        row.push(front_mark(p).into());
         t.push(row);
     }
     t
@@ -213,6 +291,11 @@ pub fn sweep_csv(r: &SweepResult) -> String {
             "confidence",
             "losses",
             "histories",
+            "relative_error",
+            "target_met",
+            "loss_known",
+            "unknown_reason",
+            "not_distinguishable_from",
             "cuts_per_year",
         ]
         .map(String::from),
@@ -228,7 +311,10 @@ pub fn sweep_csv(r: &SweepResult) -> String {
             "cross_links_kg",
             "spare_stock_kg",
             "counterweight_kg",
+            "climbers",
+            "climbers_kg",
             "total_kg",
+            "fleet_cost",
             "recommended_spare_stock_kg",
             "heaviest_segment_kg",
             "climber_payload_kg",
@@ -256,10 +342,30 @@ pub fn sweep_csv(r: &SweepResult) -> String {
         row.push(f(l.map(|l| l.confidence)));
         row.push(u(p.losses));
         row.push(if p.losses.is_some() {
-            r.histories.to_string()
+            p.histories_run.unwrap_or(r.histories).to_string()
         } else {
             String::new()
         });
+        row.push(f(p.relative_error));
+        row.push(if p.losses.is_some() {
+            p.target_met.to_string()
+        } else {
+            String::new()
+        });
+        row.push(if p.losses.is_some() {
+            p.loss_known.to_string()
+        } else {
+            String::new()
+        });
+        row.push(p.unknown_reason.clone().unwrap_or_default());
+        // Indices separated by spaces: one CSV cell.
+        row.push(
+            p.not_distinguishable_from
+                .iter()
+                .map(|i| i.to_string())
+                .collect::<Vec<_>>()
+                .join(" "),
+        );
         row.push(f(p.cuts_per_year.map(|c| c.estimate)));
         for n in &names {
             let s = p.stations.iter().find(|s| &s.station == n);
@@ -272,7 +378,10 @@ pub fn sweep_csv(r: &SweepResult) -> String {
         row.push(f(m.map(|m| m.cross_links_kg)));
         row.push(f(m.map(|m| m.spare_stock_kg)));
         row.push(f(m.map(|m| m.counterweight_kg)));
+        row.push(u(p.climbers.map(u64::from)));
+        row.push(f(m.map(|m| m.climbers_kg)));
         row.push(f(m.map(|m| m.total_kg)));
+        row.push(f(p.fleet_cost));
         row.push(f(m.and_then(|m| m.recommended_spare_stock_kg)));
         row.push(f(p.heaviest_segment_kg));
         row.push(f(p.climber_payload_kg));
@@ -300,26 +409,153 @@ fn notes(r: &SweepResult, bullet: &str) -> String {
             ));
         }
     }
-    o.push_str("\nPareto front (feasible designs not beaten on both total mass and loss probability; by increasing mass):\n");
-    if r.pareto_front.is_empty() {
-        o.push_str(&format!(
-            "{bullet}none (no feasible design was simulated)\n"
-        ));
-    }
-    for &i in &r.pareto_front {
-        let p = &r.points[i];
-        o.push_str(&format!(
-            "{bullet}#{i} {}: total {} kg, P(loss) {}\n",
-            p.label,
-            opt(p.masses.map(|m| m.total_kg), 4),
-            opt(p.loss_probability.as_ref().map(|l| l.estimate), 3)
-        ));
+    o.push_str("\nPareto front (designs with a known loss probability not beaten on both total mass and loss probability; by increasing mass):\n");
+    for line in recommendation(r) {
+        o.push_str(&format!("{bullet}{line}\n"));
     }
     o.push_str(&format!(
         "\n{} histories per point, seed {} for every point. {}\nMasses: {}\nMargins: min margin = smallest intact allowable-over-actual tension over all bays; payload/segment = climber payload over the heaviest spare segment's mass (below 1 no climber can carry a spare). Stock columns list the stations in the order of the header.\n\n{}\n",
         r.histories, r.seed, r.common_random_numbers, r.spare_stock_basis, r.caution
     ));
     o
+}
+
+/// The Pareto front, the designs that cannot be ranked and what the run allows one to
+/// conclude, one sentence per line. Points with no known loss probability are listed as
+/// unknown, never ranked as safe; front designs whose intervals overlap are said to be not
+/// distinguishable.
+pub fn recommendation(r: &SweepResult) -> Vec<String> {
+    let mut out = Vec::new();
+    let label = |i: usize| format!("#{i} {}", r.points[i].label);
+    let unknown = r.unknown_points();
+    for &i in &r.pareto_front {
+        let p = &r.points[i];
+        let iv = p
+            .loss_probability
+            .as_ref()
+            .and_then(|l| l.interval())
+            .map(|(lo, hi)| format!(" ({} .. {})", sig(lo, 3), sig(hi, 3)))
+            .unwrap_or_default();
+        out.push(format!(
+            "{}: total {} kg, P(loss) {}{iv}",
+            label(i),
+            kg(p.masses.map(|m| m.total_kg)),
+            opt(p.loss_probability.as_ref().map(|l| l.estimate), 3)
+        ));
+    }
+    if r.pareto_front.is_empty() {
+        if unknown.is_empty() {
+            out.push("none (no feasible design was simulated)".into());
+        } else {
+            out.push(format!(
+                "none: no design has a known loss probability ({} simulated, all unknown). The designs cannot be ranked by safety, and the lightest is not thereby the best: run more histories (--histories, --target-rel-error) or the rare-event estimator (--rare-event) before choosing.",
+                unknown.len()
+            ));
+        }
+    } else {
+        let front = &r.pareto_front;
+        // Pairs on the front that this run cannot tell apart.
+        let mut pairs = Vec::new();
+        for (k, &i) in front.iter().enumerate() {
+            for &j in &front[k + 1..] {
+                if r.points[i].not_distinguishable_from.contains(&j) {
+                    pairs.push((i, j));
+                }
+            }
+        }
+        let lightest = front[0];
+        let mass = |i: usize| r.points[i].masses.map_or(f64::NAN, |m| m.total_kg);
+        let lighter_unknown: Vec<usize> = unknown
+            .iter()
+            .copied()
+            .filter(|&i| mass(i) < mass(lightest))
+            .collect();
+        if !lighter_unknown.is_empty() {
+            out.push(format!(
+                "No recommendation yet: {} lighter than the front's lightest design ({}) {} no known loss probability and may be as safe; resolve {} first (more histories, --target-rel-error or --rare-event).",
+                if lighter_unknown.len() == 1 { "a design" } else { "designs" },
+                label(lightest),
+                if lighter_unknown.len() == 1 { "has" } else { "have" },
+                lighter_unknown
+                    .iter()
+                    .map(|&i| format!("#{i}"))
+                    .collect::<Vec<_>>()
+                    .join(", ")
+            ));
+        } else if front.len() == 1 {
+            out.push(format!(
+                "Recommendation on this evidence: {} (the only design on the front).",
+                label(lightest)
+            ));
+        } else if pairs.len() == front.len() * (front.len() - 1) / 2 {
+            out.push(format!(
+                "The front's designs are not distinguishable in loss probability (their intervals overlap): within this run the lightest, {}, is as safe as the heavier ones; more histories are needed to show that a heavier design is safer.",
+                label(lightest)
+            ));
+        } else {
+            out.push(format!(
+                "Lightest design on the front: {}; a heavier front design is worth its mass only where its interval lies below the lighter one's.",
+                label(lightest)
+            ));
+            if !pairs.is_empty() {
+                out.push(format!(
+                    "Not distinguishable on the front (intervals overlap): {}.",
+                    pairs
+                        .iter()
+                        .map(|(i, j)| format!("#{i} and #{j}"))
+                        .collect::<Vec<_>>()
+                        .join("; ")
+                ));
+            }
+        }
+    }
+    if !unknown.is_empty() && !r.pareto_front.is_empty() {
+        out.push(format!(
+            "Unknown, not ranked ({} design(s) without a known loss probability; one of them may belong on the front):",
+            unknown.len()
+        ));
+    }
+    if !unknown.is_empty() {
+        for &i in unknown.iter().take(20) {
+            out.push(format!(
+                "  {}: {}",
+                label(i),
+                r.points[i].unknown_reason.as_deref().unwrap_or("unknown")
+            ));
+        }
+        if unknown.len() > 20 {
+            out.push(format!(
+                "  ... and {} more (see sweep.csv)",
+                unknown.len() - 20
+            ));
+        }
+    }
+    for f in &r.fleet_recommendations {
+        let at = if f.other_values.is_empty() {
+            String::new()
+        } else {
+            format!(" at {}", f.other_values)
+        };
+        out.push(match (f.recommended_point, f.recommended_climbers) {
+            (Some(i), Some(c)) => format!(
+                "Fleet at {}{at}: {c} climber(s) (#{i}); {}{}.",
+                f.station,
+                f.basis,
+                match f.not_distinguishable_from_reference {
+                    Some(true) => "; not distinguishable from it in this run",
+                    _ => "",
+                }
+            ),
+            _ => format!("Fleet at {}{at}: {}.", f.station, f.basis),
+        });
+    }
+    if let Some(t) = r.target_rel_error {
+        out.push(format!(
+            "Each design stopped once its relative standard error reached {t} (at most {} histories); the histories column gives each design's count.",
+            r.histories
+        ));
+    }
+    out
 }
 
 fn heading(r: &SweepResult) -> String {
@@ -427,13 +663,16 @@ pub fn heatmap_figures(r: &SweepResult) -> Result<Vec<(String, Figure)>, PlotErr
     Ok(out)
 }
 
-/// Total mass against loss probability for the feasible designs, the non-dominated ones
-/// marked. Labels are the varied values in axis order.
+/// Total mass against loss probability for the feasible designs whose loss probability is
+/// known, the non-dominated ones marked (the same front as the table's). Designs without a
+/// known probability cannot be placed on the loss axis: the title counts them. Labels are the
+/// varied values in axis order.
 pub fn pareto_figure(r: &SweepResult) -> Result<Figure, PlotError> {
+    let unknown = r.unknown_points().len();
     let pts: Vec<ParetoPoint> = r
         .points
         .iter()
-        .filter(|p| p.feasible)
+        .filter(|p| p.feasible && p.loss_known)
         .filter_map(|p| {
             Some(ParetoPoint {
                 label: r
@@ -449,12 +688,17 @@ pub fn pareto_figure(r: &SweepResult) -> Result<Figure, PlotError> {
         })
         .collect();
     let names: Vec<&str> = r.axes.iter().map(|a| a.name.as_str()).collect();
+    let unknown_note = match unknown {
+        0 => String::new(),
+        1 => "; 1 design with no known loss probability not drawn".into(),
+        n => format!("; {n} designs with no known loss probability not drawn"),
+    };
     let spec = ChartSpec::new(
         format!(
-            "Mass against loss probability (labels: {})",
+            "Mass against loss probability (labels: {}{unknown_note})",
             names.join("/")
         ),
-        "Total mass: ribbons + cross-links + spares + counterweight (kg)",
+        "Total mass: ribbons + cross-links + spares + climbers + counterweight (kg)",
         "Probability of system loss by mission end (-)",
     );
     pareto_chart(&pts, &spec)

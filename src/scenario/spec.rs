@@ -414,6 +414,10 @@ pub struct ClimberSpec {
     /// (mass_kg + payload_kg) x local effective gravity.
     #[serde(default = "default_climber_mass")]
     pub mass_kg: f64,
+    /// Cost of one climber in the user's own cost unit (any currency or index); optional. When
+    /// given, trade studies report the fleet cost (climbers x unit cost) beside its mass.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub unit_cost: Option<f64>,
 }
 
 fn default_climber_mass() -> f64 {

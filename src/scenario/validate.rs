@@ -784,6 +784,15 @@ fn validate_repair(r: &RepairSpec, top_altitude_m: f64) -> Result<RepairSettings
         "kg",
         "own mass of an empty climber",
     )?;
+    if let Some(cost) = c.unit_cost {
+        check(
+            "repair.climber.unit_cost",
+            cost,
+            Range::closed(0.0, 1e15),
+            "cost units",
+            "cost of one climber in the scenario's own cost unit",
+        )?;
+    }
     match &r.detection {
         DetectionSpec::Fixed { delay_hours } => {
             check(

@@ -228,6 +228,9 @@ pub struct SweepSettings {
     pub threads: usize,
     /// Rare-event boost factor (1: plain Monte Carlo); see [`Engine::with_rare_event`].
     pub rare_event_factor: f64,
+    /// Stop each point once its loss probability's relative standard error is at most this;
+    /// `histories` is then a ceiling per point (see [`RunOptions::target_rel_error`]).
+    pub target_rel_error: Option<f64>,
     /// Largest acceptable stock-out probability, for the recommended initial stock.
     pub stockout_target: f64,
     /// Text of the flux table file when the base scenario names one.
@@ -245,6 +248,7 @@ impl Default for SweepSettings {
             seed: None,
             threads: 0,
             rare_event_factor: 1.0,
+            target_rel_error: None,
             stockout_target: 0.05,
             flux_table_json: None,
             sampler: crate::engine::Sampler::OnDemand,
@@ -292,6 +296,10 @@ pub struct MassBreakdown {
     pub spare_stock_kg: f64,
     /// Counterweight, kg.
     pub counterweight_kg: f64,
+    /// Repair climbers: the climbers of all stations times `repair.climber.mass_kg`, kg (0
+    /// without repair).
+    #[serde(default)]
+    pub climbers_kg: f64,
     /// Sum of the above, kg.
     pub total_kg: f64,
     /// Recommended initial stock (all stations) times the heaviest segment's mass, kg; absent
@@ -323,6 +331,30 @@ pub struct PointResult {
     pub losses: Option<u64>,
     /// Cut segments per year, whole tether, with a normal interval.
     pub cuts_per_year: Option<Interval>,
+    /// Histories this point ran: the sweep's `histories`, or fewer when `target_rel_error` was
+    /// met earlier (absent when not simulated).
+    #[serde(default)]
+    pub histories_run: Option<u64>,
+    /// Relative standard error of the loss probability reached (absent before a loss).
+    #[serde(default)]
+    pub relative_error: Option<f64>,
+    /// True when the point stopped early because `target_rel_error` was met.
+    #[serde(default)]
+    pub target_met: bool,
+    /// True when the point has a loss probability that can be ranked: simulated, with an
+    /// interval (weighted estimates: resolved) and at least one loss. Points without one are
+    /// unknown: they are left off the Pareto front and out of the recommendation, never
+    /// treated as a zero probability.
+    #[serde(default)]
+    pub loss_known: bool,
+    /// Why the loss probability is unknown (absent when known or not simulated).
+    #[serde(default)]
+    pub unknown_reason: Option<String>,
+    /// Indices of the other simulated points that this run cannot tell apart from this one in
+    /// loss probability: their intervals overlap this point's (a point with no interval is
+    /// not distinguishable from any simulated point).
+    #[serde(default)]
+    pub not_distinguishable_from: Vec<usize>,
     /// Spares per repair station (empty without repair).
     pub stations: Vec<StationResult>,
     /// Masses (absent when the tether profile cannot be built).
@@ -331,6 +363,13 @@ pub struct PointResult {
     pub heaviest_segment_kg: Option<f64>,
     /// Climber payload, kg (absent without repair).
     pub climber_payload_kg: Option<f64>,
+    /// Climbers of all stations (absent without repair).
+    #[serde(default)]
+    pub climbers: Option<u32>,
+    /// Climbers times `repair.climber.unit_cost` (absent without repair or without a unit
+    /// cost), in the scenario's cost unit.
+    #[serde(default)]
+    pub fleet_cost: Option<f64>,
     /// Climber payload over the heaviest segment's mass; below 1 a climber cannot carry a spare.
     pub payload_to_heaviest_segment: Option<f64>,
     /// Smallest intact strength margin over all bays (allowable over actual tension); below 1
@@ -358,6 +397,10 @@ pub struct SweepResult {
     pub histories: u64,
     /// Rare-event boost factor (1: plain Monte Carlo).
     pub rare_event_factor: f64,
+    /// Relative standard error at which each point stopped early (absent: every point ran
+    /// `histories`).
+    #[serde(default)]
+    pub target_rel_error: Option<f64>,
     /// Stock-out target used for the recommended initial stock.
     pub stockout_target: f64,
     /// How the loss-probability interval was formed.
@@ -374,10 +417,44 @@ pub struct SweepResult {
     pub points: Vec<PointResult>,
     /// Indices of the non-dominated feasible points, by increasing total mass.
     pub pareto_front: Vec<usize>,
+    /// Fleet sizing, when an axis varies `repair.stations[i].climbers`: per combination of
+    /// the other axes, the smallest fleet whose loss probability is within
+    /// [`FLEET_TOLERANCE`] of the largest fleet swept.
+    #[serde(default)]
+    pub fleet_recommendations: Vec<FleetRecommendation>,
     /// The engineering caution.
     pub caution: String,
 }
 
+/// Relative tolerance of the fleet recommendation: a fleet qualifies when its loss probability
+/// is at most (1 + this) times the largest fleet's. A stated engineering choice, not a
+/// standard.
+pub const FLEET_TOLERANCE: f64 = 0.1;
+
+/// The smallest adequate fleet at one station for one combination of the other axes.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct FleetRecommendation {
+    /// The varied field, e.g. `repair.stations[0].climbers`.
+    pub path: String,
+    /// The station's name.
+    pub station: String,
+    /// The other axes' values, e.g. `cross_link_spacing_km=25` (empty with one axis).
+    pub other_values: String,
+    /// Relative tolerance used ([`FLEET_TOLERANCE`]).
+    pub tolerance: f64,
+    /// The point with the largest fleet swept (the stand-in for an unlimited fleet).
+    pub reference_point: usize,
+    /// The smallest fleet that qualifies (absent when the reference's loss probability is
+    /// unknown).
+    pub recommended_point: Option<usize>,
+    /// Climbers at the station in the recommended point.
+    pub recommended_climbers: Option<u64>,
+    /// True when the recommended point's interval overlaps the reference's (the run cannot
+    /// tell them apart); false means it is known to be worse but within the tolerance.
+    pub not_distinguishable_from_reference: Option<bool>,
+    /// How the recommendation was made, or why there is none.
+    pub basis: String,
+}
 /// Text recorded in every sweep about common random numbers.
 pub const CRN_NOTE: &str = "Every point uses the same seed and number of histories: history i of \
 every design draws its strikes from the same random-number stream (common random numbers), so \
@@ -388,11 +465,14 @@ those numbers produce still depend on the design (bays, widths, strike rates).";
 pub const SPARE_BASIS_NOTE: &str = "spare_stock_kg = initial stock of all stations (from the \
 scenario) x mass of the heaviest segment (conservative: any bay's segment can be cut from a \
 spare of that size). recommended_spare_stock_kg uses the recommended initial stock instead and \
-is not part of total_kg. total_kg = ribbons + cross-links + spare stock + counterweight.";
+is not part of total_kg. climbers_kg = climbers of all stations x repair.climber.mass_kg. \
+total_kg = ribbons + cross-links + spare stock + climbers + counterweight.";
 
 /// Caution specific to trade studies, shown with [`crate::CAUTION`].
-pub const PARETO_NOTE: &str = "The Pareto front uses point estimates of the loss probability; \
-designs whose intervals overlap are not distinguished by this run.";
+pub const PARETO_NOTE: &str = "The Pareto front uses point estimates of the loss probability \
+of the designs whose probability is known (an interval and at least one loss); designs with \
+no resolved probability are unknown and are not ranked, and designs whose intervals overlap \
+are marked as not distinguishable by this run.";
 
 impl SweepResult {
     /// The point at these axis coordinates.
@@ -400,9 +480,45 @@ impl SweepResult {
         self.points.iter().find(|p| p.coordinates == coordinates)
     }
 
-    /// Recompute [`PointResult::on_pareto_front`] and [`SweepResult::pareto_front`] from the
-    /// feasible points' total masses and estimated loss probabilities (both minimised).
+    /// Recompute [`PointResult::loss_known`], [`PointResult::unknown_reason`],
+    /// [`PointResult::not_distinguishable_from`], [`PointResult::on_pareto_front`] and
+    /// [`SweepResult::pareto_front`].
+    ///
+    /// Only points whose loss probability is known enter the front (both total mass and
+    /// estimated loss probability minimised): a point with zero losses has only an upper
+    /// bound and an unresolved weighted estimate has none, so neither can be placed on the
+    /// loss axis, and treating them as zero would let the lightest unknown design win.
     pub fn mark_pareto_front(&mut self) {
+        for p in &mut self.points {
+            let (known, reason) = loss_status(p);
+            p.loss_known = known;
+            p.unknown_reason = reason;
+        }
+        let intervals: Vec<Option<Option<(f64, f64)>>> = self
+            .points
+            .iter()
+            .map(|p| p.loss_probability.as_ref().map(|l| l.interval()))
+            .collect();
+        for i in 0..self.points.len() {
+            let Some(own) = intervals[i] else {
+                self.points[i].not_distinguishable_from = Vec::new();
+                continue;
+            };
+            self.points[i].not_distinguishable_from = intervals
+                .iter()
+                .enumerate()
+                .filter(|&(j, other)| {
+                    j != i
+                        && match (own, other) {
+                            (_, None) => false,
+                            (Some((a0, a1)), Some(Some((b0, b1)))) => a0 <= *b1 && *b0 <= a1,
+                            // No interval on either side: nothing tells them apart.
+                            (None, Some(_)) | (Some(_), Some(None)) => true,
+                        }
+                })
+                .map(|(j, _)| j)
+                .collect();
+        }
         let candidates: Vec<(usize, (f64, f64))> = self
             .points
             .iter()
@@ -410,7 +526,7 @@ impl SweepResult {
             .filter_map(|(i, p)| {
                 let m = p.masses.as_ref()?.total_kg;
                 let l = p.loss_probability.as_ref()?.estimate;
-                p.feasible.then_some((i, (m, l)))
+                (p.feasible && p.loss_known).then_some((i, (m, l)))
             })
             .collect();
         let xy: Vec<(f64, f64)> = candidates.iter().map(|c| c.1).collect();
@@ -422,6 +538,140 @@ impl SweepResult {
             p.on_pareto_front = front.contains(&i);
         }
         self.pareto_front = front;
+    }
+
+    /// Fleet recommendations (see [`FleetRecommendation`]); empty unless an axis varies a
+    /// station's `climbers`.
+    pub fn recommend_fleets(&self) -> Vec<FleetRecommendation> {
+        let mut out = Vec::new();
+        for (k, axis) in self.axes.iter().enumerate() {
+            let Some(station_path) = axis.path.strip_suffix(".climbers") else {
+                continue;
+            };
+            if !station_path.starts_with("repair.stations[") {
+                continue;
+            }
+            let station = axis
+                .name
+                .strip_suffix(" climbers")
+                .unwrap_or(station_path)
+                .to_string();
+            // Group by the other axes' coordinates.
+            let mut groups: Vec<(Vec<usize>, Vec<usize>)> = Vec::new();
+            for (i, p) in self.points.iter().enumerate() {
+                let mut key = p.coordinates.clone();
+                key.remove(k);
+                match groups.iter_mut().find(|g| g.0 == key) {
+                    Some(g) => g.1.push(i),
+                    None => groups.push((key, vec![i])),
+                }
+            }
+            for (key, members) in groups {
+                let climbers = |i: usize| axis.values[self.points[i].coordinates[k]].as_u64();
+                let mut sim: Vec<usize> = members
+                    .into_iter()
+                    .filter(|&i| {
+                        self.points[i].feasible
+                            && self.points[i].loss_probability.is_some()
+                            && climbers(i).is_some()
+                    })
+                    .collect();
+                sim.sort_by_key(|&i| climbers(i));
+                let Some(&reference) = sim.last() else {
+                    continue;
+                };
+                let other_values = self
+                    .axes
+                    .iter()
+                    .enumerate()
+                    .filter(|(a, _)| *a != k)
+                    .zip(&key)
+                    .map(|((_, a), &c)| format!("{}={}", a.name, a.labels[c]))
+                    .collect::<Vec<_>>()
+                    .join(", ");
+                let mut rec = FleetRecommendation {
+                    path: axis.path.clone(),
+                    station: station.clone(),
+                    other_values,
+                    tolerance: FLEET_TOLERANCE,
+                    reference_point: reference,
+                    recommended_point: None,
+                    recommended_climbers: None,
+                    not_distinguishable_from_reference: None,
+                    basis: String::new(),
+                };
+                let r = &self.points[reference];
+                if !r.loss_known {
+                    rec.basis = format!(
+                        "no recommendation: the largest fleet swept ({} climbers) has no known loss probability ({})",
+                        climbers(reference).unwrap_or(0),
+                        r.unknown_reason.as_deref().unwrap_or("unknown")
+                    );
+                    out.push(rec);
+                    continue;
+                }
+                let p_ref = r.loss_probability.as_ref().map_or(f64::NAN, |l| l.estimate);
+                let limit = p_ref * (1.0 + FLEET_TOLERANCE);
+                let pick = sim.iter().copied().find(|&i| {
+                    let p = &self.points[i];
+                    p.loss_known
+                        && p.loss_probability
+                            .as_ref()
+                            .is_some_and(|l| l.estimate <= limit)
+                });
+                if let Some(i) = pick {
+                    rec.recommended_point = Some(i);
+                    rec.recommended_climbers = climbers(i);
+                    rec.not_distinguishable_from_reference = Some(
+                        i == reference
+                            || self.points[i].not_distinguishable_from.contains(&reference),
+                    );
+                    rec.basis = format!(
+                        "smallest fleet with a known loss probability at most {} x that of the largest fleet swept ({} climbers, P = {}), which stands in for an unlimited fleet",
+                        1.0 + FLEET_TOLERANCE,
+                        climbers(reference).unwrap_or(0),
+                        crate::report::table::sig(p_ref, 3)
+                    );
+                }
+                out.push(rec);
+            }
+        }
+        out
+    }
+
+    /// Indices of the simulated points whose loss probability is unknown, in grid order.
+    pub fn unknown_points(&self) -> Vec<usize> {
+        self.points
+            .iter()
+            .enumerate()
+            .filter(|(_, p)| p.loss_probability.is_some() && !p.loss_known)
+            .map(|(i, _)| i)
+            .collect()
+    }
+}
+
+/// Whether a point's loss probability can be ranked, and why not.
+fn loss_status(p: &PointResult) -> (bool, Option<String>) {
+    let Some(l) = &p.loss_probability else {
+        return (false, None);
+    };
+    match l.interval() {
+        None => (
+            false,
+            Some(format!(
+                "weighted estimate not resolved: {}",
+                l.unresolved_reason.as_deref().unwrap_or("no interval")
+            )),
+        ),
+        Some((_, hi)) if l.effective_sample_size <= 0.0 || l.estimate <= 0.0 => (
+            false,
+            Some(format!(
+                "no loss seen: only an upper bound ({} at {} % confidence)",
+                crate::report::table::sig(hi, 3),
+                l.confidence * 100.0
+            )),
+        ),
+        Some(_) => (true, None),
     }
 }
 
@@ -445,7 +695,15 @@ pub fn run_sweep_with_progress(
         progress(p, n);
         Ok(())
     };
-    match run_sweep_resumable(base_json, spec, settings, Vec::new(), &mut on_point, None)? {
+    match run_sweep_resumable(
+        base_json,
+        spec,
+        settings,
+        Vec::new(),
+        &mut on_point,
+        None,
+        &|_, _| {},
+    )? {
         SweepOutcome::Complete(r) => Ok(*r),
         SweepOutcome::Interrupted { .. } => Err(SweepError::Settings(
             "the sweep stopped without a stop request".into(),
@@ -473,6 +731,8 @@ pub enum SweepOutcome {
 /// after each newly finished point (to save it), and `stop` is checked before each point and
 /// inside each point's run; a point whose run was stopped is not kept. Because every point is
 /// deterministic given the seed, continuing gives exactly the uninterrupted result.
+/// `point_progress(done, histories)` reports the histories done inside the running point
+/// (about 5 times a second, from a helper thread).
 ///
 /// # Errors
 /// As [`run_sweep`]; [`SweepError::Spec`] when a point in `done` does not belong to the grid,
@@ -484,6 +744,7 @@ pub fn run_sweep_resumable(
     done: Vec<PointResult>,
     on_point: &mut dyn FnMut(&PointResult, usize) -> Result<(), SweepError>,
     stop: Option<&AtomicBool>,
+    point_progress: &(dyn Fn(u64, u64) + Sync),
 ) -> Result<SweepOutcome, SweepError> {
     spec.check_size()?;
     check_settings(settings)?;
@@ -558,6 +819,7 @@ pub fn run_sweep_resumable(
             seed,
             settings,
             stop,
+            point_progress,
         )?
         else {
             break;
@@ -581,11 +843,15 @@ pub fn run_sweep_resumable(
         seed,
         histories,
         rare_event_factor: settings.rare_event_factor,
+        target_rel_error: settings.target_rel_error,
         stockout_target: settings.stockout_target,
         loss_probability_method: if settings.rare_event_factor > 1.0 {
-            "rare-event weighted estimate, normal interval".into()
+            format!(
+                "rare-event weighted estimate; {} when resolved, no interval otherwise",
+                crate::engine::WEIGHTED_INTERVAL_METHOD
+            )
         } else {
-            "Clopper–Pearson".into()
+            crate::engine::PLAIN_INTERVAL_METHOD.into()
         },
         axes,
         point_order: "grid order, first axis varying slowest".into(),
@@ -593,9 +859,11 @@ pub fn run_sweep_resumable(
         spare_stock_basis: SPARE_BASIS_NOTE.into(),
         points,
         pareto_front: Vec::new(),
+        fleet_recommendations: Vec::new(),
         caution: format!("{} {PARETO_NOTE}", crate::CAUTION),
     };
     result.mark_pareto_front();
+    result.fleet_recommendations = result.recommend_fleets();
     Ok(SweepOutcome::Complete(Box::new(result)))
 }
 
@@ -615,6 +883,13 @@ fn check_settings(s: &SweepSettings) -> Result<(), SweepError> {
             s.stockout_target
         )));
     }
+    if let Some(t) = s.target_rel_error {
+        if !(t > 0.0 && t < 1.0) {
+            return Err(SweepError::Settings(format!(
+                "--target-rel-error = {t} is out of range: allowed (0, 1) (relative standard error)"
+            )));
+        }
+    }
     let f = s.rare_event_factor;
     if !(f.is_finite() && (1.0..=1e6).contains(&f)) {
         return Err(SweepError::Settings(format!(
@@ -624,12 +899,24 @@ fn check_settings(s: &SweepSettings) -> Result<(), SweepError> {
     Ok(())
 }
 
-/// A short name for a path: its last field, with the indexed parent when there is one
-/// (`repair.stations[0].climbers` -> `stations[0].climbers`).
-fn short_name(path: &str) -> String {
+/// A short name for a path: its last field, with the indexed parent when there is one. An
+/// element that has a `name` (a repair station) is called by it: `repair.stations[0].climbers`
+/// -> `base climbers` when station 0 is named `base`, `stations[0].climbers` otherwise.
+fn short_name(canonical: &Value, path: &str) -> String {
     let parts: Vec<&str> = path.split('.').collect();
     match parts.as_slice() {
-        [.., parent, last] if parent.contains('[') => format!("{parent}.{last}"),
+        [.., parent, last] if parent.contains('[') => {
+            let parent_path = &path[..path.len() - last.len() - 1];
+            match path::get(canonical, parent_path)
+                .and_then(|v| v.get("name"))
+                .and_then(Value::as_str)
+                .map(str::trim)
+                .filter(|n| !n.is_empty())
+            {
+                Some(name) => format!("{name} {last}"),
+                None => format!("{parent}.{last}"),
+            }
+        }
         [.., last] => (*last).to_string(),
         [] => path.to_string(),
     }
@@ -692,7 +979,7 @@ fn resolve_axes(
         }
         out.push(AxisResult {
             path: axis.path.clone(),
-            name: short_name(&axis.path),
+            name: short_name(canonical, &axis.path),
             labels: axis.values.clone(),
             values,
         });
@@ -728,6 +1015,7 @@ fn evaluate_point(
     seed: u64,
     settings: &SweepSettings,
     stop: Option<&AtomicBool>,
+    progress: &(dyn Fn(u64, u64) + Sync),
 ) -> Result<Option<PointResult>, SweepError> {
     let mut doc = canonical.clone();
     let mut values = Vec::with_capacity(axes.len());
@@ -755,6 +1043,12 @@ fn evaluate_point(
         loss_probability: None,
         losses: None,
         cuts_per_year: None,
+        histories_run: None,
+        relative_error: None,
+        target_met: false,
+        loss_known: false,
+        unknown_reason: None,
+        not_distinguishable_from: Vec::new(),
         stations: spec
             .repair
             .as_ref()
@@ -773,6 +1067,14 @@ fn evaluate_point(
         masses: None,
         heaviest_segment_kg: None,
         climber_payload_kg: spec.repair.as_ref().map(|r| r.climber.payload_kg),
+        climbers: spec
+            .repair
+            .as_ref()
+            .map(|r| r.stations.iter().map(|s| s.climbers).sum()),
+        fleet_cost: spec.repair.as_ref().and_then(|r| {
+            let n: u32 = r.stations.iter().map(|s| s.climbers).sum();
+            r.climber.unit_cost.map(|c| f64::from(n) * c)
+        }),
         payload_to_heaviest_segment: None,
         min_intact_margin: None,
         on_pareto_front: false,
@@ -796,14 +1098,20 @@ fn evaluate_point(
         .map(|s| u64::from(s.initial_stock_segments))
         .sum();
     let spare = stock as f64 * heaviest;
+    let climbers_kg = scenario.repair.as_ref().map_or(0.0, |r| {
+        let n: u32 = r.stations.iter().map(|s| s.climbers).sum();
+        f64::from(n) * r.climber_mass_kg
+    });
     p.masses = Some(MassBreakdown {
         ribbon_kg: profile.ribbon_mass_kg,
         cross_links_kg: profile.cross_links_mass_kg,
         spare_stock_kg: spare,
         counterweight_kg: profile.counterweight_kg,
+        climbers_kg,
         total_kg: profile.ribbon_mass_kg
             + profile.cross_links_mass_kg
             + spare
+            + climbers_kg
             + profile.counterweight_kg,
         recommended_spare_stock_kg: None,
     });
@@ -825,7 +1133,8 @@ fn evaluate_point(
     let engine = match Engine::with_sampler(&model, 1.0, settings.sampler)
         .and_then(|e| e.with_rare_event(settings.rare_event_factor))
         .and_then(|e| {
-            if !settings.force_work {
+            // With a target error the history count is only a ceiling (as in `simulate`).
+            if !settings.force_work && settings.target_rel_error.is_none() {
                 e.check_work_budget(histories, 1.0)?;
             }
             Ok(e)
@@ -850,10 +1159,10 @@ fn evaluate_point(
         threads: settings.threads,
         floor_fraction: 1.0,
         shard: None,
-        target_rel_error: None,
+        target_rel_error: settings.target_rel_error,
     };
     let outcome = engine
-        .run_resumable(&opts, None, &|_| {}, stop)
+        .run_resumable(&opts, None, &|done| progress(done, histories), stop)
         .map_err(|e| SweepError::Run {
             label: label.clone(),
             message: e.to_string(),
@@ -863,14 +1172,19 @@ fn evaluate_point(
         return Ok(None);
     }
     let tally = outcome.tally;
-    let s = RunSummary::from_tally(
+    let s = RunSummary::from_outcome(
         &engine,
         tally,
         histories,
         seed,
         None,
         settings.stockout_target,
+        outcome.status,
+        settings.target_rel_error,
     );
+    p.histories_run = Some(s.tally.histories);
+    p.relative_error = s.relative_error;
+    p.target_met = outcome.status == crate::engine::RunStatus::TargetMet;
     p.loss_probability = Some(s.loss_probability);
     p.losses = Some(s.tally.losses);
     p.cuts_per_year = Some(s.cuts_per_year);
@@ -932,10 +1246,18 @@ mod tests {
         assert_eq!(coordinates_of(0, &axes), vec![0, 0]);
         assert_eq!(coordinates_of(1, &axes), vec![0, 1]);
         assert_eq!(coordinates_of(5, &axes), vec![2, 1]);
+        let doc = serde_json::json!({
+            "repair": { "stations": [{ "name": "base", "climbers": 2 }, { "climbers": 1 }] },
+            "tether": { "ribbon_count": 4 }
+        });
         assert_eq!(
-            short_name("repair.stations[0].climbers"),
-            "stations[0].climbers"
+            short_name(&doc, "repair.stations[0].climbers"),
+            "base climbers"
         );
-        assert_eq!(short_name("tether.ribbon_count"), "ribbon_count");
+        assert_eq!(
+            short_name(&doc, "repair.stations[1].climbers"),
+            "stations[1].climbers"
+        );
+        assert_eq!(short_name(&doc, "tether.ribbon_count"), "ribbon_count");
     }
 }

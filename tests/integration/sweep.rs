@@ -96,6 +96,7 @@ fn two_by_two_demo_sweep_writes_every_file_and_is_reproducible() {
             "ribbon_kg",
             "cross_links_kg",
             "spare_stock_kg",
+            "climbers_kg",
             "counterweight_kg",
         ]
         .iter()
@@ -311,7 +312,8 @@ fn pareto_front_marks_hand_checked_points() {
     // Source: hand-made case, checked by the definition of dominance (both minimised).
     // (mass kg, loss): #0 (10, 0.5) front; #1 (20, 0.1) front; #2 (15, 0.6) dominated by #0;
     // #3 (30, 0.1) dominated by #1 (same loss, heavier); #4 (5, 0.0) would dominate all but is
-    // infeasible, so it is ignored; #5 (40, 0.0) front.
+    // infeasible, so it is ignored; #5 (40, 0.0) saw no loss: its probability is unknown (only
+    // an upper bound), so it is not ranked at all rather than put on the front as zero.
     let mut r = sweep_lib(&demo_value(), &["run.confidence=0.95"], 100);
     let template = r.points[0].clone();
     let cases = [
@@ -330,12 +332,281 @@ fn pareto_front_marks_hand_checked_points() {
             p.index = i;
             p.feasible = feasible;
             p.masses.as_mut().unwrap().total_kg = m;
-            p.loss_probability.as_mut().unwrap().estimate = l;
+            let lp = p.loss_probability.as_mut().unwrap();
+            lp.estimate = l;
+            lp.effective_sample_size = if l > 0.0 { 10.0 } else { 0.0 };
             p
         })
         .collect();
     r.mark_pareto_front();
-    assert_eq!(r.pareto_front, vec![0, 1, 5]);
+    assert_eq!(r.pareto_front, vec![0, 1]);
     let marked: Vec<bool> = r.points.iter().map(|p| p.on_pareto_front).collect();
-    assert_eq!(marked, vec![true, true, false, false, false, true]);
+    assert_eq!(marked, vec![true, true, false, false, false, false]);
+    assert_eq!(r.unknown_points(), vec![4, 5]);
+    assert!(r.points[5]
+        .unknown_reason
+        .as_deref()
+        .unwrap()
+        .contains("no loss"));
+}
+
+fn sweep_json(args: &[&str]) -> Value {
+    let o = run(args);
+    assert!(o.status.success(), "{}", stderr(&o));
+    serde_json::from_str(&stdout(&o)).unwrap()
+}
+
+/// Check `not_distinguishable_from` against the intervals themselves: j is listed for i exactly
+/// when both are simulated and their intervals overlap (or one has no interval).
+fn check_distinguishability(v: &Value) {
+    let pts = v["points"].as_array().unwrap();
+    let iv = |p: &Value| -> Option<Option<(f64, f64)>> {
+        let l = p.get("loss_probability").filter(|l| !l.is_null())?;
+        Some(
+            match (
+                l["ci_low"].as_f64(),
+                l["ci_high"].as_f64(),
+                l["resolved"].as_bool(),
+            ) {
+                (Some(a), Some(b), Some(true)) => Some((a, b)),
+                _ => None,
+            },
+        )
+    };
+    for (i, p) in pts.iter().enumerate() {
+        let listed: Vec<usize> = p["not_distinguishable_from"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .map(|x| x.as_u64().unwrap() as usize)
+            .collect();
+        for (j, q) in pts.iter().enumerate() {
+            if i == j {
+                continue;
+            }
+            let expect = match (iv(p), iv(q)) {
+                (Some(Some((a0, a1))), Some(Some((b0, b1)))) => a0 <= b1 && b0 <= a1,
+                (Some(_), Some(_)) => true,
+                _ => false,
+            };
+            assert_eq!(listed.contains(&j), expect, "points {i} and {j}: {p} {q}");
+        }
+    }
+}
+
+#[test]
+fn sweep_without_losses_ranks_nothing_and_says_so() {
+    // 150 demo histories per design: with a loss probability near 4e-4 both designs almost
+    // surely see no loss. A zero count is not a zero probability: the Clopper–Pearson upper
+    // bound for 0 events in n trials is 1 - (alpha/2)^(1/n) (Clopper & Pearson 1934, the
+    // closed form of the zero-event case), and the designs must be reported as unknown, the
+    // front empty, and no design recommended.
+    let dir = temp_dir("sweep-unknown");
+    let out = dir.join("out");
+    let v = sweep_json(&[
+        "sweep",
+        "demo",
+        "--vary",
+        "tether.cross_link_spacing_km=25,50",
+        "--histories",
+        "150",
+        "--out",
+        out.to_str().unwrap(),
+        "--format",
+        "json",
+    ]);
+    let pts = v["points"].as_array().unwrap();
+    assert!(
+        pts.iter().all(|p| p["losses"] == 0),
+        "the check needs zero losses: {v}"
+    );
+    let bound = 1.0 - 0.025f64.powf(1.0 / 150.0);
+    for p in pts {
+        assert_eq!(p["loss_known"], false, "{p}");
+        assert_eq!(p["on_pareto_front"], false, "{p}");
+        assert!(
+            p["unknown_reason"]
+                .as_str()
+                .unwrap()
+                .contains("no loss seen"),
+            "{p}"
+        );
+        let hi = p["loss_probability"]["ci_high"].as_f64().unwrap();
+        assert!((hi - bound).abs() < 1e-9, "{hi} vs {bound}");
+    }
+    assert_eq!(v["pareto_front"].as_array().unwrap().len(), 0);
+    check_distinguishability(&v);
+    // Two zero-loss designs share the interval [0, bound]: not distinguishable.
+    assert_eq!(pts[0]["not_distinguishable_from"], serde_json::json!([1]));
+    let md = std::fs::read_to_string(out.join("sweep.md")).unwrap();
+    assert!(
+        md.contains("no design has a known loss probability"),
+        "{md}"
+    );
+    assert!(md.contains("not distinguishable from"), "{md}");
+    assert!(md.contains("unknown"), "{md}");
+    let csv = std::fs::read_to_string(out.join("sweep.csv")).unwrap();
+    let header: Vec<&str> = csv.lines().next().unwrap().split(',').collect();
+    let col = |name: &str| header.iter().position(|h| *h == name).unwrap();
+    let row: Vec<&str> = csv.lines().nth(1).unwrap().split(',').collect();
+    assert_eq!(row[col("loss_known")], "false");
+    assert_eq!(row[col("not_distinguishable_from")], "1");
+    let html = std::fs::read_to_string(out.join("report.html")).unwrap();
+    assert!(html.contains("no design has a known loss probability"));
+}
+
+#[test]
+fn sweep_honours_target_relative_error_per_point() {
+    // With --target-rel-error each design stops at the first chunk boundary where the
+    // relative standard error of its loss probability is at most the target. For plain
+    // Monte Carlo that error is sqrt((1 - p) / (n p)) with p = k / n (binomial standard error
+    // over the estimate), recomputed here from each point's own counts.
+    let v = sweep_json(&[
+        "sweep",
+        "demo",
+        "--vary",
+        "environment.flux_scale_factor=20,60",
+        "--histories",
+        "200000",
+        "--target-rel-error",
+        "0.2",
+        "--threads",
+        "2",
+        "--out",
+        temp_dir("sweep-target").join("out").to_str().unwrap(),
+        "--format",
+        "json",
+    ]);
+    assert_eq!(v["target_rel_error"], 0.2);
+    for p in v["points"].as_array().unwrap() {
+        let n = p["histories_run"].as_u64().unwrap();
+        let k = p["losses"].as_u64().unwrap();
+        assert!(n < 200_000, "the target should stop the point early: {p}");
+        assert_eq!(p["target_met"], true, "{p}");
+        let est = k as f64 / n as f64;
+        assert!((p["loss_probability"]["estimate"].as_f64().unwrap() - est).abs() < 1e-15);
+        let rel = ((1.0 - est) / (n as f64 * est)).sqrt();
+        let reported = p["relative_error"].as_f64().unwrap();
+        assert!(reported <= 0.2, "{p}");
+        assert!((reported - rel).abs() <= 1e-9 * rel, "{reported} vs {rel}");
+        assert_eq!(p["loss_known"], true, "{p}");
+    }
+    check_distinguishability(&v);
+}
+
+#[test]
+fn weighted_sweep_points_without_resolution_are_unknown() {
+    // A rare-event sweep with few histories: the weighted estimates are not resolved (ESS
+    // under 100), so no interval, no Clopper–Pearson label, and no ranking.
+    let dir = temp_dir("sweep-weighted");
+    let out = dir.join("out");
+    let o = run(&[
+        "sweep",
+        "demo",
+        "--vary",
+        "tether.ribbon_count=4,6",
+        "--histories",
+        "300",
+        "--rare-event",
+        "30",
+        "--out",
+        out.to_str().unwrap(),
+    ]);
+    assert!(o.status.success(), "{}", stderr(&o));
+    let text = stdout(&o);
+    assert!(!text.contains("Clopper"), "{text}");
+    let v: Value =
+        serde_json::from_str(&std::fs::read_to_string(out.join("sweep.json")).unwrap()).unwrap();
+    for p in v["points"].as_array().unwrap() {
+        let l = &p["loss_probability"];
+        assert_eq!(l["method"], "weighted", "{p}");
+        if l["resolved"] == false {
+            assert_eq!(p["loss_known"], false, "{p}");
+            assert_eq!(p["on_pareto_front"], false, "{p}");
+            assert!(
+                p["unknown_reason"]
+                    .as_str()
+                    .unwrap()
+                    .contains("not resolved"),
+                "{p}"
+            );
+            assert!(text.contains("not resolved"), "{text}");
+        }
+    }
+    check_distinguishability(&v);
+}
+
+#[test]
+fn climber_sweep_shows_fleet_mass_and_cost_under_the_station_name() {
+    // Climbers carry mass: total_kg differs between fleets by (difference in climbers) x
+    // repair.climber.mass_kg, and fleet_cost = climbers x unit_cost (arithmetic of the
+    // definitions; 300 kg is the documented default climber mass, an engineering assumption).
+    let p = scenario_with("sweep-climbers", |v| {
+        v["repair"]["climber"]["unit_cost"] = serde_json::json!(2.5);
+    });
+    let dir = temp_dir("sweep-climbers-out");
+    let v = sweep_json(&[
+        "sweep",
+        p.to_str().unwrap(),
+        "--vary",
+        "repair.stations[0].climbers=1,3",
+        "--histories",
+        "200",
+        "--out",
+        dir.join("out").to_str().unwrap(),
+        "--format",
+        "json",
+    ]);
+    assert_eq!(v["axes"][0]["name"], "base climbers");
+    let pts = v["points"].as_array().unwrap();
+    assert_eq!(pts[0]["label"], "base climbers=1");
+    // Station 1 (l1-station) keeps its 1 climber.
+    assert_eq!(pts[0]["climbers"], 2);
+    assert_eq!(pts[1]["climbers"], 4);
+    let m = |i: usize, k: &str| pts[i]["masses"][k].as_f64().unwrap();
+    assert_eq!(m(0, "climbers_kg"), 600.0);
+    assert_eq!(m(1, "climbers_kg"), 1200.0);
+    assert!((m(1, "total_kg") - m(0, "total_kg") - 600.0).abs() < 1e-6);
+    assert_eq!(pts[0]["fleet_cost"], 5.0);
+    assert_eq!(pts[1]["fleet_cost"], 10.0);
+    let md = std::fs::read_to_string(dir.join("out").join("sweep.md")).unwrap();
+    assert!(md.contains("base climbers"), "{md}");
+    assert!(md.contains("fleet cost"), "{md}");
+    assert!(!md.contains("stations[0]"), "{md}");
+}
+
+#[test]
+fn fleet_recommendation_is_the_smallest_fleet_within_tolerance_of_the_largest() {
+    // Definition (stated in the sweep documentation): the smallest fleet whose known loss
+    // probability is at most 1.1 x that of the largest fleet swept. Recomputed here from the
+    // points' own estimates. High flux so that every fleet sees losses.
+    let p = scenario_with("sweep-fleet", |v| {
+        v["environment"]["flux_scale_factor"] = serde_json::json!(40.0);
+    });
+    let v = sweep_json(&[
+        "sweep",
+        p.to_str().unwrap(),
+        "--vary",
+        "repair.stations[0].climbers=1,2,4",
+        "--histories",
+        "2000",
+        "--out",
+        temp_dir("sweep-fleet-out").join("out").to_str().unwrap(),
+        "--format",
+        "json",
+    ]);
+    let pts = v["points"].as_array().unwrap();
+    let est = |i: usize| pts[i]["loss_probability"]["estimate"].as_f64().unwrap();
+    assert!(
+        pts.iter().all(|p| p["loss_known"] == true),
+        "needs losses: {v}"
+    );
+    let recs = v["fleet_recommendations"].as_array().unwrap();
+    assert_eq!(recs.len(), 1);
+    let r = &recs[0];
+    assert_eq!(r["station"], "base");
+    assert_eq!(r["reference_point"], 2);
+    let expect = (0..3).find(|&i| est(i) <= 1.1 * est(2)).unwrap();
+    assert_eq!(r["recommended_point"], expect);
+    assert_eq!(r["recommended_climbers"], [1, 2, 4][expect]);
 }
