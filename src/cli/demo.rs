@@ -119,7 +119,15 @@ fn sweep_spacing(
         let _ = print(&format!("  point {}/{n}: {}\n", p.index + 1, p.label));
         Ok(())
     };
-    let result = match run_sweep_resumable(&base, &spec, &settings, Vec::new(), &mut on_point, Some(stop))? {
+    let result = match run_sweep_resumable(
+        &base,
+        &spec,
+        &settings,
+        Vec::new(),
+        &mut on_point,
+        Some(stop),
+        &|_, _| {},
+    )? {
         SweepOutcome::Complete(r) => *r,
         SweepOutcome::Interrupted { done, total } => {
             return Err(super::interrupt::Stopped(format!(
