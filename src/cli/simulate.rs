@@ -549,8 +549,11 @@ pub fn execute(
     if s.shard.is_none() {
         // Optional inputs of the report (checked by their own scenario hash), not listed.
         write_design_and_estimate(model, out_dir)?;
-        // A finished (or interrupted) whole run is a report by itself.
-        super::report::render_run(out_dir)?;
+        // A finished (or interrupted) whole run is a report by itself; a run stopped before
+        // its first batch has nothing to report yet (its checkpoint is what it keeps).
+        if summary.histories > 0 {
+            super::report::render_run(out_dir)?;
+        }
     }
     write_manifest(out_dir, &manifest, &names).map_err(io)?;
     Ok(summary)
@@ -749,6 +752,8 @@ fn check_checkpoint(
 }
 
 pub fn run(a: Args) -> anyhow::Result<()> {
+    // The signal handler first: a Ctrl-C at any point after start-up is a clean stop.
+    let stop = super::interrupt::flag();
     let (model, settings, out_dir, start, _lock) = if let Some(dir) = &a.resume {
         if !dir.join("checkpoint.json").exists() {
             return Err(InputError(format!(
@@ -803,7 +808,6 @@ pub fn run(a: Args) -> anyhow::Result<()> {
         let lock = prepare_out_dir(&out_dir, a.force)?;
         (model, settings, out_dir, None, lock)
     };
-    let stop = super::interrupt::flag();
     let summary = execute(
         &model,
         &settings,

@@ -198,6 +198,8 @@ fn read_points(dir: &Path) -> anyhow::Result<Vec<PointResult>> {
 }
 
 pub fn run(a: Args) -> anyhow::Result<()> {
+    // The signal handler first: a Ctrl-C at any point after start-up is a clean stop.
+    let stop = super::interrupt::flag();
     let (plan, out_dir, _lock) = match &a.resume {
         Some(dir) => {
             let lock = lock_folder(dir)?;
@@ -350,7 +352,6 @@ pub fn run(a: Args) -> anyhow::Result<()> {
             message: format!("cannot write {}: {e}", path.display()),
         })
     };
-    let stop = super::interrupt::flag();
     // Two bars on stderr (hidden off a terminal): the points, and the histories of the point
     // that is running (a single point can take minutes).
     let bars = indicatif::MultiProgress::new();

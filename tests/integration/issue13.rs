@@ -819,6 +819,14 @@ fn stops_cleanly_on(args: &[&str], out: &Path, sig: &str, after_ms: u64) -> Stri
         .stderr(Stdio::piped())
         .spawn()
         .unwrap();
+    // The output folder appears once the command runs (after its signal handler is set up);
+    // only then does the wait start. Not a timing assertion: it only waits.
+    for _ in 0..6000 {
+        if out.exists() {
+            break;
+        }
+        std::thread::sleep(std::time::Duration::from_millis(10));
+    }
     std::thread::sleep(std::time::Duration::from_millis(after_ms));
     let st = Command::new("kill")
         .args([sig, &child.id().to_string()])
@@ -860,7 +868,7 @@ fn stops_cleanly_on(args: &[&str], out: &Path, sig: &str, after_ms: u64) -> Stri
 fn demo_stops_on_sigterm_and_leaves_no_lock_or_temp_files() {
     let out = temp_dir("demo-sigterm").join("demo");
     let o = out.to_str().unwrap();
-    stops_cleanly_on(&["demo", "--threads", "1", "--out", o], &out, "-TERM", 1500);
+    stops_cleanly_on(&["demo", "--threads", "1", "--out", o], &out, "-TERM", 300);
 }
 
 #[cfg(unix)]
