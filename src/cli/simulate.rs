@@ -30,7 +30,7 @@ pub struct Args {
     #[arg(required_unless_present = "resume")]
     pub file: Option<String>,
     /// Number of histories (default: the scenario's run.histories).
-    #[arg(long)]
+    #[arg(long, value_parser = super::output::parse_count)]
     pub histories: Option<u64>,
     /// Master seed (default: the scenario's run.seed).
     #[arg(long)]
