@@ -33,7 +33,11 @@ pub fn report_error(e: &anyhow::Error) -> i32 {
         || e.chain().any(|c| c.downcast_ref::<InputError>().is_some());
     let mut msg = format!("error: {e}");
     for cause in e.chain().skip(1) {
-        msg.push_str(&format!("\n  caused by: {cause}"));
+        // A message that already quotes its cause (most of ours do) says it once.
+        let c = cause.to_string();
+        if !msg.contains(&c) {
+            msg.push_str(&format!("\n  caused by: {c}"));
+        }
     }
     eprintln!("{msg}");
     if e.chain().any(|c| {

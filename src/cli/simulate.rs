@@ -789,7 +789,9 @@ pub fn run(a: Args) -> anyhow::Result<()> {
     )?;
     match a.format {
         Format::Json => print(&(serde_json::to_string_pretty(&summary)? + "\n"))?,
-        Format::Text | Format::Csv => print(&format!(
+        // CSV: the survival-by-year table (as survival_by_year.csv in the folder).
+        Format::Csv => print(&tether_risk::report::run::survival_table(&summary).to_csv())?,
+        Format::Text => print(&format!(
             "{}\nResults written to {}\n",
             run_text(&summary),
             out_dir.display()

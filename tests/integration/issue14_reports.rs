@@ -292,3 +292,123 @@ fn issue14_histories_in_scientific_and_k_notation() {
     let o = run(&["check", p.to_str().unwrap(), "--format", "json"]);
     assert!(o.status.success(), "{}", stderr(&o));
 }
+
+/// `--format csv` emits CSV on simulate and check; terminal tables use words with units and
+/// whole years; error paths never show `?:` or `.:`, and a cause is not printed twice.
+#[test]
+fn issue14_formats_tables_and_error_wording() {
+    let out = temp_dir("formats").join("run");
+    let o = run(&[
+        "simulate",
+        "demo",
+        "--histories",
+        "300",
+        "--threads",
+        "2",
+        "--out",
+        out.to_str().unwrap(),
+        "--format",
+        "csv",
+    ]);
+    assert!(o.status.success(), "{}", stderr(&o));
+    let csv = stdout(&o);
+    assert!(csv.starts_with("year,survival,ci_low,ci_high,"), "{csv}");
+    assert!(csv.lines().nth(1).unwrap().starts_with("1,"), "{csv}");
+    let o = run(&["check", "demo", "--format", "csv"]);
+    assert!(
+        stdout(&o).starts_with("quantity,value,unit\n"),
+        "{}",
+        stdout(&o)
+    );
+    let o = run(&[
+        "simulate",
+        "demo",
+        "--histories",
+        "300",
+        "--threads",
+        "2",
+        "--out",
+        out.to_str().unwrap(),
+        "--force",
+    ]);
+    let text = stdout(&o);
+    for words in [
+        "mission year",
+        "upper 95 % bound",
+        "altitude band (km)",
+        "year 1 ",
+        "recommended initial stock (segments)",
+    ] {
+        assert!(
+            text.contains(words),
+            "terminal text lacks {words:?}:\n{text}"
+        );
+    }
+    assert!(
+        !text.contains("band_km") && !text.contains("1.000  "),
+        "{text}"
+    );
+    assert!(!text.contains("1 losses"));
+    // Error paths.
+    let o = run_stdin(&["check", "-"], "{");
+    let e = stderr(&o);
+    assert!(
+        !e.contains("?:") && !e.contains(".:") && e.contains("scenario file"),
+        "{e}"
+    );
+    let o = run(&["check", "/nonexistent/x.json"]);
+    let e = stderr(&o);
+    assert_eq!(e.matches("No such file").count(), 1, "{e}");
+    assert!(!e.contains("caused by"), "{e}");
+}
+
+/// A missing flux-model file is reported as such (not as an unreadable scenario), and
+/// `env FILE` tabulates a scenario's own environment at its bays. Independent answer for
+/// the shielding column: the same factor `profile` reports for bay 0 (the model's own table).
+#[test]
+fn issue14_flux_file_and_env_of_a_scenario() {
+    let p = scenario_with("missing-flux", |v| {
+        v["environment"]["flux_model"] = json!({"table_file": "no-such-flux.json"});
+    });
+    let o = run(&["check", p.to_str().unwrap()]);
+    assert_eq!(o.status.code(), Some(2));
+    let e = stderr(&o);
+    assert!(
+        e.contains("flux-model file")
+            && e.contains("no-such-flux.json")
+            && !e.contains("cannot read scenario file"),
+        "{e}"
+    );
+    let o = run(&["env", "demo", "--mass-g", "1e-3", "--format", "json"]);
+    assert!(o.status.success(), "{}", stderr(&o));
+    let rows: Value = serde_json::from_str(&stdout(&o)).unwrap();
+    let prof: Value =
+        serde_json::from_str(&stdout(&run(&["profile", "demo", "--format", "json"]))).unwrap();
+    let bay0 = &prof["bays"][0];
+    assert!(
+        (rows[0]["altitude_km"].as_f64().unwrap() - 25.0).abs() < 1e-9,
+        "{}",
+        rows[0]
+    );
+    let a = rows[0]["shielding_factor"].as_f64().unwrap();
+    let b = bay0["shielding_factor"].as_f64().unwrap();
+    assert!((a - b).abs() < 1e-9, "{a} vs {b}");
+    // A scale factor in the scenario scales the local flux.
+    let scaled = scenario_with("env-scaled", |v| {
+        v["environment"]["flux_scale_factor"] = json!(3.0)
+    });
+    let o = run(&[
+        "env",
+        scaled.to_str().unwrap(),
+        "--mass-g",
+        "1e-3",
+        "--altitude-km",
+        "25",
+        "--format",
+        "json",
+    ]);
+    let r2: Value = serde_json::from_str(&stdout(&o)).unwrap();
+    let ratio = r2[0]["local_flux_per_m2_per_year"].as_f64().unwrap()
+        / rows[0]["local_flux_per_m2_per_year"].as_f64().unwrap();
+    assert!((ratio - 3.0).abs() < 1e-9, "{ratio}");
+}
