@@ -155,7 +155,19 @@ pub fn run(a: Args) -> anyhow::Result<()> {
             }
             print(&(serde_json::to_string_pretty(&v)? + "\n"))
         }
-        Format::Text | Format::Csv => {
+        // CSV: the design quantities (quantity, value, unit) and one row per warning.
+        Format::Csv => {
+            let mut t = s.quantity_table();
+            for w in &warnings {
+                t.push([
+                    format!("warning {}", w.code),
+                    w.message.clone(),
+                    String::new(),
+                ]);
+            }
+            print(&t.to_csv())
+        }
+        Format::Text => {
             let mut text = s.to_text();
             if let Some(w) = &work {
                 text.push_str(&work_text(w));

@@ -3,8 +3,17 @@
 
 use tether_risk::environment::FluxModel;
 use tether_risk::environment::{
-    diameter_from_mass_m, local_factors, mass_from_diameter_kg, Grun1985, VelocityDistribution,
+    diameter_from_mass_m, local_factors, local_factors_for, mass_from_diameter_kg, Grun1985,
+    ShieldingGeometry, VelocityDistribution,
 };
+
+fn on(b: bool) -> &'static str {
+    if b {
+        "on"
+    } else {
+        "off"
+    }
+}
 use tether_risk::orbit::{EarthMoon, Side};
 use tether_risk::report::env::{env_table, EnvRow};
 
@@ -14,11 +23,14 @@ use super::Format;
 /// Arguments of `env`.
 #[derive(clap::Args, Debug)]
 #[command(
-    after_help = "Examples:\n  tether-risk env --altitude-km 0,100,1000,56000 --mass-g 1e-6,1e-3,1\n  tether-risk env --altitude-km 100 --diameter-mm 1 --format json"
+    after_help = "Examples:\n  tether-risk env --altitude-km 0,100,1000,56000 --mass-g 1e-6,1e-3,1\n  tether-risk env --altitude-km 100 --diameter-mm 1 --format json\n  tether-risk env my-tether.json            # its flux model, switches, density, side and bays\n  tether-risk env demo --altitude-km 250\n\nWithout FILE: the built-in Grün et al. (1985) model with focusing and shielding on and\n--side/--density-g-per-cm3 as given. With a scenario FILE: its environment section (flux model\nor table file, flux scale factor, focusing and shielding switches and geometry, particle\ndensity), its side, and the mid altitudes of up to 12 of its bays spread from anchor to top\n(or --altitude-km)."
 )]
 pub struct Args {
-    /// Altitudes above the lunar surface, km (several: comma separated or repeated).
-    #[arg(long = "altitude-km", value_delimiter = ',', num_args = 1.., default_values_t = vec![0.0, 100.0, 1000.0, 10000.0, 56000.0])]
+    /// Scenario file (JSON) whose environment and bays to tabulate; `demo` is the built-in one.
+    file: Option<String>,
+    /// Altitudes above the lunar surface, km (several: comma separated or repeated). Default
+    /// 0, 100, 1000, 10000, 56000; with FILE, the mid altitudes of up to 12 of its bays.
+    #[arg(long = "altitude-km", value_delimiter = ',', num_args = 1..)]
     altitude_km: Vec<f64>,
     /// Mass thresholds, g.
     #[arg(long = "mass-g", value_delimiter = ',', num_args = 1..)]
@@ -51,7 +63,13 @@ pub fn run(a: Args) -> anyhow::Result<()> {
             a.density_g_per_cm3
         )));
     }
-    let rho = a.density_g_per_cm3 * 1e3;
+    let model = match &a.file {
+        Some(f) => Some(super::output::load_model(f)?),
+        None => None,
+    };
+    let rho = model.as_ref().map_or(a.density_g_per_cm3 * 1e3, |m| {
+        m.scenario.environment.particle_density_kg_per_m3
+    });
     let mut masses_kg: Vec<(f64, f64)> = Vec::new(); // (as given in g, kg)
     for &m in &a.mass_g {
         if !(m.is_finite() && m > 0.0) {
@@ -73,26 +91,108 @@ pub fn run(a: Args) -> anyhow::Result<()> {
     if masses_kg.is_empty() {
         masses_kg = [1e-6, 1e-3, 1.0].iter().map(|&g| (g, g * 1e-3)).collect();
     }
-    for &h in &a.altitude_km {
+    let mut altitude_km = a.altitude_km.clone();
+    let mut bay_note = String::new();
+    if altitude_km.is_empty() {
+        match &model {
+            Some(m) => {
+                let bays = &m.profile.bays;
+                let n = bays.len();
+                let mut picked: Vec<usize> = (0..12usize.min(n))
+                    .map(|i| {
+                        // Spread on a log scale of altitude, so the low bays (where shielding
+                        // and ejecta change fast) are not skipped.
+                        let top = bays[n - 1].mid_altitude_m().max(1.0);
+                        let lo = bays[0].mid_altitude_m().max(1.0);
+                        let f = if n > 1 {
+                            i as f64 / (12usize.min(n) - 1).max(1) as f64
+                        } else {
+                            0.0
+                        };
+                        let target = lo * (top / lo).powf(f);
+                        bays.iter()
+                            .enumerate()
+                            .min_by(|x, y| {
+                                (x.1.mid_altitude_m() - target)
+                                    .abs()
+                                    .total_cmp(&(y.1.mid_altitude_m() - target).abs())
+                            })
+                            .map_or(0, |b| b.0)
+                    })
+                    .collect();
+                picked.dedup();
+                bay_note = format!(
+                    "Bays {} of {} (mid altitudes).\n",
+                    picked
+                        .iter()
+                        .map(|b| b.to_string())
+                        .collect::<Vec<_>>()
+                        .join(", "),
+                    n
+                );
+                altitude_km = picked
+                    .iter()
+                    .map(|&b| bays[b].mid_altitude_m() / 1e3)
+                    .collect();
+            }
+            None => altitude_km = vec![0.0, 100.0, 1000.0, 10000.0, 56000.0],
+        }
+    }
+    for &h in &altitude_km {
         if !(h.is_finite() && (0.0..=300_000.0).contains(&h)) {
             return Err(bad(format!(
                 "--altitude-km = {h} is out of range: allowed [0, 300000] km"
             )));
         }
     }
-    let side = match a.side {
-        SideArg::Near => Side::Near,
-        SideArg::Far => Side::Far,
+    let side = match (&model, a.side) {
+        (Some(m), _) => m.scenario.tether.side,
+        (None, SideArg::Near) => Side::Near,
+        (None, SideArg::Far) => Side::Far,
     };
     let orbit = EarthMoon::standard();
-    let flux = Grun1985::standard()?;
-    let velocity = VelocityDistribution::ecss_table_c1()?;
+    let builtin: Box<dyn FluxModel> = Box::new(Grun1985::standard()?);
+    let default_velocity = VelocityDistribution::ecss_table_c1()?;
+    let (flux, velocity): (&dyn FluxModel, &VelocityDistribution) = match &model {
+        Some(m) => (m.flux.as_ref(), &m.velocity),
+        None => (builtin.as_ref(), &default_velocity),
+    };
+    let (switches, geometry, scale) = match &model {
+        Some(m) => {
+            let e = &m.scenario.environment;
+            (
+                (e.moon_focusing, e.earth_focusing, e.moon_shielding),
+                match e.moon_shielding_geometry {
+                    tether_risk::scenario::ShieldingGeometrySpec::RibbonFace => {
+                        ShieldingGeometry::HangingRibbonFace
+                    }
+                    tether_risk::scenario::ShieldingGeometrySpec::RandomPlate => {
+                        ShieldingGeometry::RandomPlate
+                    }
+                },
+                e.flux_scale_factor,
+            )
+        }
+        None => ((true, true, true), ShieldingGeometry::RandomPlate, 1.0),
+    };
     let mut rows = Vec::new();
-    for &h in &a.altitude_km {
-        let f = local_factors(&orbit, side, h * 1e3, &velocity, true, true, true)?;
-        let mean_speed = f.local_velocity(&velocity)?.mean_speed_m_per_s() / 1e3;
+    for &h in &altitude_km {
+        let f = match &model {
+            Some(_) => local_factors_for(
+                &orbit,
+                side,
+                h * 1e3,
+                velocity,
+                switches.0,
+                switches.1,
+                switches.2,
+                geometry,
+            )?,
+            None => local_factors(&orbit, side, h * 1e3, velocity, true, true, true)?,
+        };
+        let mean_speed = f.local_velocity(velocity)?.mean_speed_m_per_s() / 1e3;
         for &(g, m) in &masses_kg {
-            let model = flux.cumulative_flux_per_m2_per_year(m);
+            let model = scale * flux.cumulative_flux_per_m2_per_year(m);
             rows.push(EnvRow {
                 altitude_km: h,
                 mass_g: g,
@@ -110,11 +210,45 @@ pub fn run(a: Args) -> anyhow::Result<()> {
         Format::Json => print(&(serde_json::to_string_pretty(&rows)? + "\n")),
         Format::Csv => print(&env_table(&rows).to_csv()),
         Format::Text => print(&format!(
-            "Meteoroid environment, Grün et al. (1985) in the ECSS-E-ST-10-04C form, {} side, density {} g/cm^3\n\
-             Flux: particles of at least the given mass per m^2 per year onto one face of a randomly tumbling plate.\n\n{}",
+            "Meteoroid environment, {}{}, {} side, density {} g/cm^3\n{}\
+             Flux: particles of at least the given mass per m^2 per year onto one face of a randomly tumbling plate{}.\n{bay_note}\n{}",
+            match &model {
+                Some(m) => format!("scenario \"{}\": {}", m.scenario.spec.name, flux.name()),
+                None => "Grün et al. (1985) in the ECSS-E-ST-10-04C form".into(),
+            },
+            if scale != 1.0 { format!(", flux scale factor {scale}") } else { String::new() },
             format!("{:?}", side).to_lowercase(),
-            a.density_g_per_cm3,
-            env_table(&rows).to_text()
+            rho / 1e3,
+            if model.is_some() {
+                format!(
+                    "Switches: Moon focusing {}, Earth focusing {}, Moon shielding {}.\n",
+                    on(switches.0),
+                    on(switches.1),
+                    on(switches.2)
+                )
+            } else {
+                String::new()
+            },
+            if scale != 1.0 { ", times the scale factor" } else { "" },
+            {
+                // Words with units on a terminal; CSV and JSON keep the field names.
+                let mut t = env_table(&rows);
+                t.headers = [
+                    "altitude (km)",
+                    "mass (g)",
+                    "diameter (mm)",
+                    "model flux (per m^2 per year)",
+                    "Moon shielding",
+                    "Earth shielding",
+                    "focusing",
+                    "mean speed (km/s)",
+                    "local flux (per m^2 per year)",
+                ]
+                .iter()
+                .map(|h| h.to_string())
+                .collect();
+                t.to_text()
+            }
         )),
     }
 }

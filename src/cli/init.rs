@@ -47,7 +47,12 @@ pub fn run(a: Args) -> anyhow::Result<()> {
         ))
         .into());
     }
-    write_atomic(&a.file, DEMO_SCENARIO_JSON.as_bytes())
+    // Every section with its defaults written out (damage, lunar ejecta, notch model,
+    // dispatch, resupply...), so the options can be found by reading the file: the demo as the
+    // program reads it, serialised back. It is the same scenario (same hash) as `demo`.
+    let spec = tether_risk::scenario::parse_spec(DEMO_SCENARIO_JSON)?;
+    let text = serde_json::to_string_pretty(&spec)? + "\n";
+    write_atomic(&a.file, text.as_bytes())
         .map_err(|e| anyhow::anyhow!("cannot write {}: {e}", a.file.display()))?;
     print(&format!(
         "wrote the demo scenario to {}; edit it, then run: tether-risk check {}\n",

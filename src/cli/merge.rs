@@ -365,7 +365,8 @@ pub fn run(a: Args) -> anyhow::Result<()> {
     write_manifest(&a.out, &manifest, &names).map_err(io)?;
     match a.format {
         Format::Json => print(&(serde_json::to_string_pretty(&summary)? + "\n")),
-        _ => print(&format!(
+        Format::Csv => print(&tether_risk::report::run::survival_table(&summary).to_csv()),
+        Format::Text => print(&format!(
             "{}\nMerged {} shards into {}\n",
             run_text(&summary),
             count,

@@ -33,7 +33,11 @@ pub fn report_error(e: &anyhow::Error) -> i32 {
         || e.chain().any(|c| c.downcast_ref::<InputError>().is_some());
     let mut msg = format!("error: {e}");
     for cause in e.chain().skip(1) {
-        msg.push_str(&format!("\n  caused by: {cause}"));
+        // A message that already quotes its cause (most of ours do) says it once.
+        let c = cause.to_string();
+        if !msg.contains(&c) {
+            msg.push_str(&format!("\n  caused by: {c}"));
+        }
     }
     eprintln!("{msg}");
     if e.chain().any(|c| {
@@ -73,4 +77,35 @@ pub fn command_line() -> Vec<String> {
     std::env::args_os()
         .map(|a| a.to_string_lossy().into_owned())
         .collect()
+}
+
+/// A count as typed on the command line: `20000`, `20_000`, `2e4`, `1.5e5`, `20k`, `2M`
+/// (k = 1000, M = 10^6, G = 10^9). Anything that is not a whole number of at least 1 is
+/// refused with the accepted forms.
+pub fn parse_count(s: &str) -> Result<u64, String> {
+    let hint = || {
+        format!("`{s}` is not a whole number of at least 1: write for example 20000, 20_000, 2e4 or 20k")
+    };
+    let t: String = s.trim().chars().filter(|&c| c != '_').collect();
+    let (num, mult) = match t.chars().last() {
+        Some('k' | 'K') => (&t[..t.len() - 1], 1e3),
+        Some('M') => (&t[..t.len() - 1], 1e6),
+        Some('G') => (&t[..t.len() - 1], 1e9),
+        _ => (t.as_str(), 1.0),
+    };
+    if let Ok(n) = num.parse::<u64>() {
+        let v = n as f64 * mult;
+        return if n >= 1 && v <= u64::MAX as f64 {
+            Ok(n.saturating_mul(mult as u64))
+        } else {
+            Err(hint())
+        };
+    }
+    let x: f64 = num.parse().map_err(|_| hint())?;
+    let v = x * mult;
+    if v.is_finite() && v >= 1.0 && v.fract() == 0.0 && v < 1.8e19 {
+        Ok(v as u64)
+    } else {
+        Err(hint())
+    }
 }

@@ -20,7 +20,7 @@ pub struct Args {
     /// Base scenario file (JSON); `-` reads standard input; `demo` is the built-in scenario.
     pub file: String,
     /// Histories per run (default: the base scenario's run.histories).
-    #[arg(long)]
+    #[arg(long, value_parser = super::output::parse_count)]
     pub histories: Option<u64>,
     /// Master seed shared by every run (default: the base scenario's run.seed).
     #[arg(long)]

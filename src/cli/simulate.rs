@@ -30,7 +30,7 @@ pub struct Args {
     #[arg(required_unless_present = "resume")]
     pub file: Option<String>,
     /// Number of histories (default: the scenario's run.histories).
-    #[arg(long)]
+    #[arg(long, value_parser = super::output::parse_count)]
     pub histories: Option<u64>,
     /// Master seed (default: the scenario's run.seed).
     #[arg(long)]
@@ -819,7 +819,9 @@ pub fn run(a: Args) -> anyhow::Result<()> {
     )?;
     match a.format {
         Format::Json => print(&(serde_json::to_string_pretty(&summary)? + "\n"))?,
-        Format::Text | Format::Csv => print(&format!(
+        // CSV: the survival-by-year table (as survival_by_year.csv in the folder).
+        Format::Csv => print(&tether_risk::report::run::survival_table(&summary).to_csv())?,
+        Format::Text => print(&format!(
             "{}\nResults written to {}\n",
             run_text(&summary),
             out_dir.display()

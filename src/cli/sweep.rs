@@ -33,7 +33,7 @@ pub struct Args {
     )]
     pub vary: Vec<String>,
     /// Histories per design (default: the base scenario's run.histories).
-    #[arg(long)]
+    #[arg(long, value_parser = super::output::parse_count)]
     pub histories: Option<u64>,
     /// Master seed shared by every design (default: the base scenario's run.seed).
     #[arg(long)]

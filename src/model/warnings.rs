@@ -78,5 +78,146 @@ pub fn design_warnings(model: &Model) -> Vec<DesignWarning> {
                 .into(),
         });
     }
+    out.extend(unit_slip_warnings(&model.scenario));
+    out
+}
+
+/// A value that passes validation but lies outside the range usual for its quantity: most
+/// likely a unit slip (micrometres given as millimetres, kilometres as metres). The usual
+/// ranges are engineering judgement for tethers of this kind, not taken from a standard.
+struct Usual {
+    code: &'static str,
+    path: &'static str,
+    value: f64,
+    low: f64,
+    high: f64,
+    unit: &'static str,
+    hint: &'static str,
+}
+
+/// A value converted back to the user's unit, without the conversion's last-bit noise
+/// (0.02e-6 m * 1e6 prints as 0.02, not 0.020000000000000004).
+fn tidy(v: f64) -> String {
+    let r: f64 = format!("{v:.9e}").parse().unwrap_or(v);
+    format!("{r}")
+}
+
+/// Warnings (codes `unit.*`) for values physically odd for their unit. Silent on the demo.
+pub fn unit_slip_warnings(sc: &crate::scenario::Scenario) -> Vec<DesignWarning> {
+    let t = &sc.tether;
+    let e = &sc.environment;
+    let mut checks = vec![
+        Usual {
+            code: "unit.ribbon_thickness",
+            path: "tether.ribbon_thickness_um",
+            value: t.thickness_m * 1e6,
+            low: 1.0,
+            high: 500.0,
+            unit: "um",
+            hint: "the thickness is in micrometres, 1 mm = 1000 um",
+        },
+        Usual {
+            code: "unit.ribbon_width",
+            path: "tether.ribbon_width_mm",
+            value: t.anchor_width_m * 1e3,
+            low: 1.0,
+            high: 1000.0,
+            unit: "mm",
+            hint: "the width is in millimetres, 1 cm = 10 mm",
+        },
+        Usual {
+            code: "unit.cross_link_spacing",
+            path: "tether.cross_link_spacing_km",
+            value: t.cross_link_spacing_m / 1e3,
+            low: 0.1,
+            high: 5000.0,
+            unit: "km",
+            hint: "the spacing is in kilometres, 1 km = 1000 m",
+        },
+        Usual {
+            code: "unit.ultimate_strength",
+            path: "tether.material.ultimate_strength_gpa",
+            value: t.ultimate_strength_pa / 1e9,
+            low: 0.1,
+            high: 100.0,
+            unit: "GPa",
+            hint: "the strength is in gigapascals, 1 GPa = 1000 MPa",
+        },
+        Usual {
+            code: "unit.material_density",
+            path: "tether.material.density_g_per_cm3",
+            value: t.material_density_kg_per_m3 / 1e3,
+            low: 0.8,
+            high: 8.0,
+            unit: "g/cm^3",
+            hint: "the density is in g/cm^3, 1000 kg/m^3 = 1 g/cm^3",
+        },
+        Usual {
+            code: "unit.particle_density",
+            path: "environment.particle_density_g_per_cm3",
+            value: e.particle_density_kg_per_m3 / 1e3,
+            low: 0.5,
+            high: 8.0,
+            unit: "g/cm^3",
+            hint: "meteoroid densities are about 0.5 to 8 g/cm^3",
+        },
+        Usual {
+            code: "unit.mission_length",
+            path: "run.mission_years",
+            value: sc.run.mission_years,
+            low: 1.0,
+            high: 100.0,
+            unit: "years",
+            hint: "the mission is in years",
+        },
+    ];
+    if let Some(r) = &sc.repair {
+        for (path, v) in [
+            ("repair.climber.speed_up_m_per_s", r.speed_up_m_per_s),
+            ("repair.climber.speed_down_m_per_s", r.speed_down_m_per_s),
+        ] {
+            checks.push(Usual {
+                code: "unit.climber_speed",
+                path,
+                value: v,
+                low: 0.1,
+                high: 500.0,
+                unit: "m/s",
+                hint: "the speed is in metres per second, 100 km/h = 27.8 m/s",
+            });
+        }
+        checks.push(Usual {
+            code: "unit.splice_time",
+            path: "repair.climber.splice_hours",
+            value: r.splice_s / 3600.0,
+            low: 0.1,
+            high: 200.0,
+            unit: "h",
+            hint: "the splice time is in hours per segment",
+        });
+    }
+    let mut out: Vec<DesignWarning> = checks
+        .into_iter()
+        .filter(|u| u.value < u.low || u.value > u.high)
+        .map(|u| DesignWarning {
+            code: u.code,
+            message: format!(
+                "{} = {} {} is outside the usual {} to {} {}; check the unit: {}. The value is used as given",
+                u.path,
+                tidy(u.value),
+                u.unit,
+                u.low,
+                u.high,
+                u.unit,
+                u.hint
+            ),
+        })
+        .collect();
+    if t.traffic_load_n == 0.0 {
+        out.push(DesignWarning {
+            code: "unit.traffic_load_zero",
+            message: "tether.traffic_load_n = 0 N: no climber or payload load is carried in any bay's tension (the usual envelope is the weight of a loaded climber, hundreds to thousands of N); give the traffic load in newtons".into(),
+        });
+    }
     out
 }

@@ -819,7 +819,13 @@ fn key_section(folder: &RunFolder) -> Section {
         });
     }
     if let Some(e) = &folder.estimate {
-        let ratio = if e.loss_probability > 0.0 {
+        // A ratio of 0 from a run that saw no loss says nothing: give the bound instead.
+        let ratio = if lp.estimate == 0.0 {
+            format!(
+                "no loss seen in the Monte Carlo (upper bound {}), so no ratio",
+                lp.ci_high.map_or("not resolved".into(), |h| sig(h, 2))
+            )
+        } else if e.loss_probability > 0.0 {
             format!(
                 "Monte Carlo / Markov = {}",
                 sig(lp.estimate / e.loss_probability, 2)

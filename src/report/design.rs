@@ -257,14 +257,9 @@ impl DesignSummary {
         }
     }
 
-    /// Human-readable text.
-    pub fn to_text(&self) -> String {
-        let mut o = String::new();
+    /// The design quantities as (quantity, value, unit) rows.
+    pub fn quantity_table(&self) -> Table {
         let lp = &self.lagrange_point;
-        o.push_str(&format!(
-            "Design check: scenario \"{}\" (hash {}), tether-risk {}\n\n",
-            self.scenario, self.scenario_hash, self.version
-        ));
         let mut t = Table::new(["quantity", "value", "unit"]);
         let mut row = |q: &str, v: String, u: &str| t.push([q.to_string(), v, u.to_string()]);
         row(
@@ -368,6 +363,17 @@ impl DesignSummary {
             Some(p) => row("climber payload", sig(p, 4), "kg"),
             None => row("climber payload", "no repair".into(), ""),
         }
+        t
+    }
+
+    /// Human-readable text.
+    pub fn to_text(&self) -> String {
+        let mut o = String::new();
+        o.push_str(&format!(
+            "Design check: scenario \"{}\" (hash {}), tether-risk {}\n\n",
+            self.scenario, self.scenario_hash, self.version
+        ));
+        let t = self.quantity_table();
         o.push_str(&t.to_text());
         for w in &self.model_statement.overridden_settings {
             o.push_str(&format!("Overridden setting: {w}.\n"));

@@ -154,13 +154,13 @@ pub fn survival_figure(
         (
             ProbabilityAxis::LossLog,
             "How likely is the tether to be lost by each mission year?",
-            "Probability of system loss by then (-, log scale)",
+            "Probability of system loss by then (log scale)",
         )
     } else {
         (
             ProbabilityAxis::Survival,
             "How likely is the tether to survive each mission year?",
-            "Probability of survival (-)",
+            "Probability of survival",
         )
     };
     let spec = ChartSpec::new(title, "Time since mission start (years)", y_label);
@@ -211,20 +211,23 @@ pub fn cuts_figure(s: &RunSummary) -> Result<NamedFigure, FigureError> {
         .map(|(b, row)| {
             let k = s.tally.cuts_by_band.get(b).copied().unwrap_or(0);
             let (lo, hi) = poisson_interval(k, conf);
+            // Bands differ in length (100 km near the anchor, 10 000 km higher up): per
+            // 1000 km of tether, so the bars compare like with like.
+            let per = 1000.0 / (row.top_altitude_km - row.bottom_altitude_km).max(1e-9);
             Bar::new(
                 band_label(row.bottom_altitude_km, row.top_altitude_km),
-                scale(k as f64),
+                scale(k as f64) * per,
             )
-            .with_error(scale(lo), scale(hi))
+            .with_error(scale(lo) * per, scale(hi) * per)
         })
         .collect();
     let spec = ChartSpec::new(
         "Where along the tether are ribbon segments cut?",
         "Altitude band above the lunar surface (km)",
-        "Cut segments per year in the band (1/year)",
+        "Cut segments per year per 1000 km of tether (1/(year·1000 km))",
     );
     let mut caption = format!(
-        "Cut segments per year in each altitude band (all ribbons), from {} histories; error bars are exact {:.0} % Poisson intervals on the band's cut count.",
+        "Cut segments per year in each altitude band (all ribbons) per 1000 km of the band's length, because the bands differ in length; from {} histories; error bars are exact {:.0} % Poisson intervals on the band's cut count. The tables give the band totals.",
         s.histories,
         100.0 * conf
     );
@@ -260,9 +263,9 @@ pub fn losses_figure(s: &RunSummary) -> Result<NamedFigure, FigureError> {
         "Where along the tether is it severed?",
         "Altitude band above the lunar surface (km)",
         if rare {
-            "Share of the losses seen, biased measure (-)"
+            "Share of the losses seen, biased measure"
         } else {
-            "Probability of loss in the band over the mission (-)"
+            "Probability of loss in the band over the mission"
         },
     );
     let caption = if rare {

@@ -93,14 +93,15 @@ pub fn run_text(s: &RunSummary) -> String {
     ));
     match &s.rare_event {
         Some(r) => o.push_str(&format!(
-            "  {} losses seen under the biased measure (boost factor {}) in {} histories.\n",
-            r.losses_observed,
+            "  {} seen under the biased measure (boost factor {}) in {} histories.\n",
+            count_noun(r.losses_observed, "loss", "losses"),
             sig(r.boost_factor, 3),
             s.histories
         )),
         None => o.push_str(&format!(
-            "  {} losses in {} histories.\n",
-            s.tally.losses, s.histories
+            "  {} in {} histories.\n",
+            count_noun(s.tally.losses, "loss", "losses"),
+            s.histories
         )),
     }
     if !lp.resolved {
@@ -149,20 +150,96 @@ pub fn run_text(s: &RunSummary) -> String {
             sig(r.queue.arrival_rate_per_hour, 3),
             sig(r.queue.mean_wait_hours, 3)
         ));
-        o.push_str(&stock_table(r, sp).to_text());
+        o.push_str(&terminal_stock_table(r, sp, s.loss_probability.confidence).to_text());
         o.push_str(&format!(
             "  recommended initial stock: smallest stock whose chance of being exceeded by one interval's demand is below {}\n\n",
             pct(r.stockout_target)
         ));
     }
     o.push_str("Survival by mission year\n");
-    o.push_str(&survival_table(s).to_text());
+    o.push_str(&terminal_survival_table(s).to_text());
     o.push_str("\nCuts and losses by altitude band\n");
-    o.push_str(&band_table(s).to_text());
+    o.push_str(&terminal_band_table(s).to_text());
     o.push('\n');
     o.push_str(&s.caution);
     o.push('\n');
     o
+}
+
+/// "1 loss", "2 losses".
+pub fn count_noun(n: u64, one: &str, many: &str) -> String {
+    format!("{n} {}", if n == 1 { one } else { many })
+}
+
+/// A machine table with words and units for a terminal instead of its snake_case headers.
+fn with_headers(mut t: Table, headers: Vec<String>) -> Table {
+    t.headers = headers;
+    t
+}
+
+/// Survival by year for a terminal: words with units, "year 1", "yes"/"no".
+pub fn terminal_survival_table(s: &RunSummary) -> Table {
+    let pct = format!("{:.0} %", 100.0 * s.loss_probability.confidence);
+    let mut t = with_headers(
+        survival_table(s),
+        vec![
+            "mission year".into(),
+            "survival".into(),
+            format!("lower {pct} bound"),
+            format!("upper {pct} bound"),
+            "loss probability by then".into(),
+            "standard error".into(),
+            "estimator".into(),
+            "resolved".into(),
+            "interval method".into(),
+        ],
+    );
+    for r in &mut t.rows {
+        r[0] = format!("year {}", r[0]);
+        r[7] = if r[7] == "true" { "yes" } else { "no" }.into();
+    }
+    t.align[0] = super::table::Align::Left;
+    t.align[8] = super::table::Align::Left;
+    t
+}
+
+/// Cuts and losses by altitude band for a terminal.
+pub fn terminal_band_table(s: &RunSummary) -> Table {
+    let pct = format!("{:.0} %", 100.0 * s.loss_probability.confidence);
+    with_headers(
+        band_table(s),
+        vec![
+            "altitude band (km)".into(),
+            "cuts per year".into(),
+            "losses".into(),
+            "loss probability in band".into(),
+            format!("upper {pct} bound"),
+        ],
+    )
+}
+
+/// Spare demand and stock per station for a terminal.
+pub fn terminal_stock_table(
+    r: &crate::engine::RepairSummary,
+    sp: &crate::engine::SpareSummary,
+    confidence: f64,
+) -> Table {
+    let pct = format!("{:.0} %", 100.0 * confidence);
+    with_headers(
+        stock_table(r, sp),
+        vec![
+            "station".into(),
+            "mission demand P50 (segments)".into(),
+            "P90".into(),
+            "P95".into(),
+            "P99".into(),
+            "one interval P95 (segments)".into(),
+            "interval (days)".into(),
+            "stock-out probability".into(),
+            format!("upper {pct} bound"),
+            "recommended initial stock (segments)".into(),
+        ],
+    )
 }
 
 /// Survival by year as a table.
@@ -181,7 +258,7 @@ pub fn survival_table(s: &RunSummary) -> Table {
     for p in &s.survival_by_year {
         let opt = |v: Option<f64>| v.map_or(String::new(), |x| sig(x, 6));
         t.push([
-            sig(p.year, 4),
+            super::failure::year_label(p.year),
             sig(p.estimate, 6),
             opt(p.ci_low),
             opt(p.ci_high),

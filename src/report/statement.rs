@@ -41,7 +41,7 @@ pub fn monte_carlo_assumptions(s: &RunSummary, scenario: Option<&Value>) -> Vec<
                 None => " and count equally".to_string(),
             }
         ),
-        "strikes on each bay arrive as a Poisson process whose rate (flux model x scale factor x shielding x focusing x exposed ribbon area) is constant over the mission".into(),
+        "strikes on each bay arrive as a Poisson process whose rate (flux model × scale factor × shielding × focusing × exposed ribbon area) is constant over the mission".into(),
         if s.sampler == "every-strike" {
             "every strike above the sampling floor is drawn (the reference sampler)".into()
         } else {
@@ -58,7 +58,7 @@ pub fn monte_carlo_assumptions(s: &RunSummary, scenario: Option<&Value>) -> Vec<
         Some(r) => a.push(format!(
             "cut segments are detected ({} detection), dispatched by the {} rule from the nearest station with a free climber and a spare segment, and spliced back to intact strength",
             text(r.get("detection"), "kind").unwrap_or("scenario's"),
-            r.get("dispatch").and_then(Value::as_str).unwrap_or("scenario's")
+            r.get("dispatch").and_then(Value::as_str).unwrap_or("scenario's").replace('_', " ")
         )),
         None => a.push("no repair: cuts accumulate over the mission".into()),
     }

@@ -14,6 +14,16 @@ pub enum ScenarioError {
         /// Underlying error.
         source: std::io::Error,
     },
+    /// The flux-model table file a scenario names could not be read.
+    #[error("cannot read the flux-model file {path} named by environment.flux_model.table_file = \"{table_file}\" (a path relative to the scenario file's folder): {source}; the file format is described in the README section \"Flux-model files\"")]
+    FluxFile {
+        /// The path as resolved.
+        path: String,
+        /// The path as written in the scenario.
+        table_file: String,
+        /// Underlying error.
+        source: std::io::Error,
+    },
     /// The text is not valid JSON, or a value has the wrong type.
     #[error("{path}: {message} (line {line}, column {column})")]
     Syntax {

@@ -36,6 +36,14 @@ pub fn parse_spec(text: &str) -> Result<ScenarioSpec, ScenarioError> {
 
 /// Turn a serde error into one of ours, recognising unknown fields and variants.
 fn describe_serde_error(path: &str, err: &serde_json::Error) -> ScenarioError {
+    // serde_path_to_error writes `?` for a position it cannot name and `.` for the root;
+    // neither means anything to a user.
+    let named: Vec<&str> = path
+        .split('.')
+        .filter(|p| !p.is_empty() && *p != "?")
+        .collect();
+    let path = named.join(".");
+    let path = path.as_str();
     let msg = err.to_string();
     // serde's wording: "unknown field `x`, expected one of `a`, `b` at line 1 column 2"
     // or "unknown field `x`, expected `a` or `b`"; the same shapes for variants.
@@ -80,7 +88,7 @@ fn describe_serde_error(path: &str, err: &serde_json::Error) -> ScenarioError {
     };
     ScenarioError::Syntax {
         path: if path.is_empty() {
-            ".".into()
+            "scenario file".into()
         } else {
             path.to_string()
         },
@@ -144,8 +152,9 @@ pub fn load(path: &str) -> Result<Scenario, ScenarioError> {
             let p = base.join(table_file);
             Some(
                 read_text_capped(&p, MAX_INPUT_BYTES, "a flux table").map_err(|source| {
-                    ScenarioError::Io {
+                    ScenarioError::FluxFile {
                         path: p.display().to_string(),
+                        table_file: table_file.clone(),
                         source,
                     }
                 })?,

@@ -503,13 +503,33 @@ pub struct RepairSpec {
 pub struct RunSpec {
     /// Mission length, years (Julian, 365.25 d).
     pub mission_years: f64,
-    /// Number of Monte Carlo histories.
+    /// Number of Monte Carlo histories (a whole number; `1e4` and `20000.0` are accepted).
+    #[serde(deserialize_with = "whole_count")]
     pub histories: u64,
     /// Master seed.
     pub seed: u64,
     /// Confidence level of reported intervals, dimensionless.
     #[serde(default = "default_confidence")]
     pub confidence: f64,
+}
+
+/// A count written as an integer or as a whole floating-point number (`1e4`).
+fn whole_count<'de, D: serde::Deserializer<'de>>(d: D) -> Result<u64, D::Error> {
+    #[derive(Deserialize)]
+    #[serde(untagged)]
+    enum Count {
+        Int(u64),
+        Float(f64),
+    }
+    match Count::deserialize(d)? {
+        Count::Int(n) => Ok(n),
+        Count::Float(x) if x.is_finite() && x >= 0.0 && x.fract() == 0.0 && x < 1.8e19 => {
+            Ok(x as u64)
+        }
+        Count::Float(x) => Err(serde::de::Error::custom(format!(
+            "{x} is not a whole number of histories: write for example 20000 or 2e4"
+        ))),
+    }
 }
 
 fn default_particle_density() -> f64 {

@@ -7,6 +7,7 @@ use super::layout::{
 use super::{check_finite, draw_err, render, Chart, ChartSpec, Figure, PlotError};
 use plotters::coord::Shift;
 use plotters::prelude::*;
+use plotters::style::text_anchor::{HPos, Pos, VPos};
 
 /// One bar: a category label, its value and an optional interval.
 #[derive(Clone, Debug, PartialEq)]
@@ -75,30 +76,32 @@ impl Chart for BarChart<'_> {
         }
 
         let area = frame(root, &self.spec.title, &[])?;
+        // Every category is labelled: labels too wide for their slot are staggered over as
+        // many rows as needed instead of being thinned out (a thinned label could be the band
+        // that holds the losses).
+        let mut widest = 0;
+        let mut tall = 0;
+        for b in self.bars {
+            let (w, h) = text_size(root, &b.label, &text(TICK_SIZE))?;
+            widest = widest.max(w);
+            tall = tall.max(h);
+        }
+        let width_px = root.dim_in_pixel().0 as f64;
+        let slot_guess = (width_px - 16.0 - 30.0 - 86.0) / n.max(1) as f64;
+        let rows = ((widest as f64 + 10.0) / slot_guess.max(1.0))
+            .ceil()
+            .clamp(1.0, 6.0) as usize;
+        let row_h = tall + 4;
         let mut chart = ChartBuilder::on(&area)
             .margin(16)
             .margin_right(30)
-            .x_label_area_size(56)
+            .x_label_area_size(40 + rows as i32 * row_h)
             .y_label_area_size(86)
             .build_cartesian_2d((0..n.max(1) as i32 - 1).into_segmented(), y0..y1)
             .map_err(draw_err)?;
-
-        // Write every k-th category label so neighbours do not overlap.
-        let ((px0, _), (px1, _)) = plot_rect(&chart);
+        let ((px0, _), (px1, py1)) = plot_rect(&chart);
         let slot = (px1 - px0) as f64 / n.max(1) as f64;
-        let mut widest = 0;
-        for b in self.bars {
-            widest = widest.max(text_size(root, &b.label, &text(TICK_SIZE))?.0);
-        }
-        let every = ((widest as f64 + 12.0) / slot).ceil().max(1.0) as usize;
-        let xfmt = |v: &SegmentValue<i32>| match v {
-            SegmentValue::CenterOf(i)
-                if *i >= 0 && (*i as usize) < n && (*i as usize) % every == 0 =>
-            {
-                self.bars[*i as usize].label.clone()
-            }
-            _ => String::new(),
-        };
+        let xfmt = |_: &SegmentValue<i32>| String::new();
         let ydec = decimals_for(y1 - y0);
         let yfmt = |v: &f64| fmt_linear(*v, ydec);
         chart
@@ -159,6 +162,21 @@ impl Chart for BarChart<'_> {
                     ],
                     BLACK.stroke_width(1),
                 ))
+                .map_err(draw_err)?;
+        }
+        let style = text(TICK_SIZE).pos(Pos::new(HPos::Center, VPos::Top));
+        for (i, b) in self.bars.iter().enumerate() {
+            let x = px0 + ((i as f64 + 0.5) * slot) as i32;
+            let y = py1 + 8 + (i % rows) as i32 * row_h;
+            if rows > 1 && i % rows > 0 {
+                // A short tick leads the eye from a lower row to its bar.
+                root.draw(&PathElement::new(
+                    vec![(x, py1 + 2), (x, y - 2)],
+                    GRID.stroke_width(1),
+                ))
+                .map_err(draw_err)?;
+            }
+            root.draw(&Text::new(b.label.clone(), (x, y), style.clone()))
                 .map_err(draw_err)?;
         }
         if let Some(msg) = &empty {
