@@ -282,8 +282,21 @@ impl StrikeSource for PrimaryMeteoroids<'_> {
 /// rule, turned into a hole width, m. The sampling floor is a fraction of it.
 pub fn smallest_severing_hole_m(model: &Model, j: usize) -> f64 {
     let p = &model.profile;
+    let t0 = p.bays[j].max_tension_n;
+    // With climber loads the bay may carry up to its largest climber extra: the floor must be
+    // the smallest severing hole under either tension.
+    let extra = super::climber::max_extra_tension_n(model, j);
+    let a = smallest_severing_hole_at_tension_m(model, j, t0);
+    if extra > 0.0 {
+        a.min(smallest_severing_hole_at_tension_m(model, j, t0 + extra))
+    } else {
+        a
+    }
+}
+
+fn smallest_severing_hole_at_tension_m(model: &Model, j: usize, t: f64) -> f64 {
+    let p = &model.profile;
     let n = p.design.ribbon_count;
-    let t = p.bays[j].max_tension_n;
     let w = p.bays[j].width_m;
     let per_width = p.design.thickness_m * p.design.allowable_stress_pa;
     let capacity = w * per_width;
