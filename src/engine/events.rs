@@ -1108,3 +1108,152 @@ impl Engine<'_> {
         (out, end, segs)
     }
 }
+
+#[cfg(test)]
+mod tests {
+    //! The climber-load and preventive-replacement state changes on constructed bays. Expected
+    //! outcomes are worked by hand from the net-section rule (the demo's notch model):
+    //! capacity(h) = (w - h) t sigma_allow (Daniels equal sharing of the bay tension among the
+    //! survivors; REFERENCES-damage.md §2.1 net section), not from the engine's own functions.
+    use super::*;
+    use crate::model::Model;
+    use crate::scenario::{parse_spec, Scenario, DEMO_SCENARIO_JSON};
+
+    fn demo_model(edit: impl FnOnce(&mut serde_json::Value)) -> Model {
+        let mut v: serde_json::Value = serde_json::from_str(DEMO_SCENARIO_JSON).unwrap();
+        edit(&mut v);
+        let sc = Scenario::from_spec(parse_spec(&v.to_string()).unwrap(), None).unwrap();
+        Model::build(sc).unwrap()
+    }
+
+    /// Bay 0 of the demo with ribbon 0 cut and a hole `hole_m` in ribbon 1.
+    fn weakened_bay(run: &mut HistoryRun<'_, '_>, hole_m: f64) {
+        let n = run.e.ribbons;
+        let slot = run.scratch.slot(0, n);
+        run.scratch.intact[slot * n] = false;
+        run.scratch.add_cuts(slot, n, 1, 0.0, 1e-12);
+        run.scratch.worst_hole_m[slot * n + 1] = hole_m;
+    }
+
+    #[test]
+    fn a_climbers_weight_breaks_a_holed_segment_it_would_not_break_alone() {
+        let model = demo_model(|_| {});
+        let e = Engine::with_sampler(&model, 1.0, Sampler::EveryStrike).unwrap();
+        let p = &model.profile;
+        let (w, t_m) = (p.bays[0].width_m, p.design.thickness_m);
+        let sigma = p.design.allowable_stress_pa;
+        let tension = p.bays[0].max_tension_n;
+        // The loaded climber: 300 kg own mass + 400 kg payload; its weight at the anchor bay is
+        // checked against an independent CR3BP gradient in model::climber's tests.
+        let weight = e.climber_load.as_ref().unwrap().weight_n[0];
+        let extra = weight - 300.0; // less the 300 N traffic envelope of the demo
+        assert!(extra > 500.0, "{extra}");
+        // Holes at which a survivor of five fails: h = w - load / (t sigma).
+        let h_alone = w - tension / 5.0 / (t_m * sigma);
+        let h_loaded = w - (tension + extra) / 5.0 / (t_m * sigma);
+        assert!(0.0 < h_loaded && h_loaded < h_alone, "{h_loaded} {h_alone}");
+        // Four intact survivors then carry (T + extra)/4 each against w t sigma.
+        let four_fail = (tension + extra) / 4.0 > w * t_m * sigma * (1.0 - CAPACITY_TOL);
+        for (hole, cut) in [
+            (0.5 * (h_loaded + h_alone), true),
+            (0.999 * h_loaded, false),
+        ] {
+            let mut scratch = e.new_scratch();
+            let mut tally = e.empty_tally();
+            let mut run = HistoryRun::new(&e, 0, 1, &mut scratch, &mut tally, None, None);
+            weakened_bay(&mut run, hole);
+            // Without the climber the bay is stable with this hole (a survivor of five).
+            assert!(tension / 5.0 < (w - hole) * t_m * sigma);
+            let flow = run.on_climber_load(3600.0, 0, true);
+            let n = run.e.ribbons;
+            let intact1 = run.scratch.intact[1];
+            let loss = run.out.loss;
+            let cuts = run.tally.climber_load_cuts;
+            if cut {
+                assert!(!intact1, "the climber's weight must cut the holed segment");
+                if four_fail {
+                    assert_eq!(cuts, 5);
+                    assert_eq!(flow, Flow::End);
+                    assert_eq!(loss.unwrap().cause, LossCause::ClimberLoad);
+                } else {
+                    assert_eq!(cuts, 1);
+                    assert!(loss.is_none());
+                }
+            } else {
+                assert!(
+                    intact1,
+                    "hole {hole} below the loaded critical width {h_loaded}"
+                );
+                assert_eq!(cuts, 0);
+                assert_eq!(flow, Flow::Go);
+                // Leaving again changes nothing and the bay carries its design tension.
+                assert_eq!(run.on_climber_load(7200.0, 0, false), Flow::Go);
+                assert_eq!(run.scratch.climbers_on_bay[0], 0);
+                assert_eq!(e.bay_tension_n(0, run.scratch), tension);
+                assert_eq!(run.scratch.cuts_in(0), 1);
+                assert_eq!(n, 6);
+            }
+        }
+    }
+
+    const CAPACITY_TOL: f64 = crate::structure::load_sharing::CAPACITY_TOLERANCE;
+
+    #[test]
+    fn zero_threshold_replaces_every_intact_segment_of_a_visited_bay() {
+        let model = demo_model(|v| {
+            v["repair"]["climber"]["payload_kg"] = serde_json::json!(4000.0);
+            v["repair"]["preventive_replacement"] = serde_json::json!({
+                "threshold": {"kind": "fraction_of_width", "fraction": 0.0},
+                "extra_spares_per_trip": 6
+            });
+        });
+        for sampler in [Sampler::EveryStrike, Sampler::OnDemand] {
+            let e = Engine::with_sampler(&model, 1.0, sampler).unwrap();
+            let mut scratch = e.new_scratch();
+            let mut tally = e.empty_tally();
+            let mut run = HistoryRun::new(&e, 0, 1, &mut scratch, &mut tally, None, None);
+            let n = e.ribbons;
+            weakened_bay(&mut run, 1e-4);
+            let slot = run.scratch.slot_of(0).unwrap();
+            run.loads_changed(slot, 0.0);
+            let mut fleet = run.fleet.take().unwrap();
+            let plan = e.repair.as_ref().unwrap();
+            let replaced = run.on_splice(&mut fleet, plan, 86_400.0, 0, 0, 1);
+            assert_eq!(replaced as usize, n - 1, "{sampler:?}");
+            assert!(run.scratch.intact[..n].iter().all(|&ok| ok));
+            assert!(run.scratch.worst_hole_m[..n].iter().all(|&h| h == 0.0));
+            assert_eq!(run.tally.repair.preventive_at_visits, (n - 1) as u64);
+            assert_eq!(run.tally.repair.preventive_short_of_spares, 0);
+            // Stock was debited: 20 at the base less the five replacements.
+            assert_eq!(fleet.stock(0), 20 - (n as u32 - 1));
+        }
+    }
+
+    #[test]
+    fn a_threshold_above_every_critical_width_draws_nothing_and_replaces_nothing() {
+        let model = demo_model(|v| {
+            v["repair"]["preventive_replacement"] = serde_json::json!({
+                "threshold": {"kind": "fraction_of_width", "fraction": 1.0}
+            });
+        });
+        let e = Engine::new(&model, 1.0).unwrap();
+        let mut scratch = e.new_scratch();
+        let mut tally = e.empty_tally();
+        let mut run = HistoryRun::new(&e, 0, 1, &mut scratch, &mut tally, None, None);
+        weakened_bay(&mut run, 1e-3);
+        let slot = run.scratch.slot_of(0).unwrap();
+        run.loads_changed(slot, 0.0);
+        let before = run.damage.clone();
+        let (r, short) = run.inspect_bay(86_400.0, 0, 6);
+        assert_eq!((r, short), (0, 0));
+        // The damage stream is untouched: the history goes on as without the policy.
+        let mut a = before;
+        assert_eq!(
+            rand::Rng::next_u64(&mut a),
+            rand::Rng::next_u64(&mut run.damage)
+        );
+        // An untouched bay is not set up either.
+        assert_eq!(run.inspect_bay(86_400.0, 7, 6), (0, 0));
+        assert!(run.scratch.slot_of(7).is_none());
+    }
+}

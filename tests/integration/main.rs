@@ -12,6 +12,7 @@ mod hole_rate;
 mod issue13;
 mod ondemand;
 mod physics;
+mod policy;
 mod rare_event;
 mod repair;
 mod report;
