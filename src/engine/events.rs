@@ -1121,6 +1121,7 @@ mod tests {
 
     fn demo_model(edit: impl FnOnce(&mut serde_json::Value)) -> Model {
         let mut v: serde_json::Value = serde_json::from_str(DEMO_SCENARIO_JSON).unwrap();
+        v["repair"]["climber"]["load_on_bays"] = serde_json::json!(true);
         edit(&mut v);
         let sc = Scenario::from_spec(parse_spec(&v.to_string()).unwrap(), None).unwrap();
         Model::build(sc).unwrap()

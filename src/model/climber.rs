@@ -105,6 +105,18 @@ pub fn max_extra_tension_n(model: &Model, j: usize) -> f64 {
     }
 }
 
+/// The extra tension one loaded climber puts on bay `j`, N; 0 without repair, with
+/// `repair.climber.load_on_bays` off, or where the envelope covers it. The sampling floor
+/// includes it.
+pub fn single_climber_extra_tension_n(model: &Model, j: usize) -> f64 {
+    match model.scenario.repair.as_ref() {
+        Some(r) if r.climber_load_on_bays => (loaded_climber_weight_in_bay_n(model, j)
+            - model.scenario.tether.traffic_load_n)
+            .max(0.0),
+        _ => 0.0,
+    }
+}
+
 /// The climber loads the history loop puts on bays (see the module notes).
 #[derive(Clone, Debug, PartialEq)]
 pub struct ClimberLoadTable {

@@ -9,9 +9,11 @@ use tether_risk::model::Model;
 
 use crate::util::model_of;
 
+/// The demo with climber loads on the bays (`repair.climber.load_on_bays`).
 fn demo() -> Value {
     let mut v: Value = serde_json::from_str(tether_risk::scenario::DEMO_SCENARIO_JSON).unwrap();
     v["run"]["mission_years"] = json!(15.0);
+    v["repair"]["climber"]["load_on_bays"] = json!(true);
     v
 }
 
