@@ -84,6 +84,11 @@ pub struct Args {
     /// Continue an interrupted run from its output folder.
     #[arg(long, value_name = "DIR", conflicts_with_all = ["file", "histories", "seed", "shard", "rare_event", "latent_bias", "target_rel_error", "floor_fraction", "sampler"])]
     pub resume: Option<PathBuf>,
+    /// With a `repair.preventive_replacement` policy: run the same histories a second time
+    /// without the policy (same seed, same per-history random streams: common random numbers)
+    /// and print both loss probabilities. The folder holds the run with the policy.
+    #[arg(long, conflicts_with_all = ["resume", "shard", "rare_event", "target_rel_error"])]
+    pub compare_policy: bool,
     /// Output format on stdout.
     #[arg(long, value_enum, default_value_t)]
     pub format: Format,
@@ -559,6 +564,67 @@ pub fn execute(
     Ok(summary)
 }
 
+/// The `--compare-policy` pass: the same histories without the preventive-replacement policy,
+/// as text lines to print beside the run's summary.
+fn compare_policy(
+    model: &Model,
+    s: &RunSettingsFile,
+    threads: usize,
+    with: &RunSummary,
+) -> anyhow::Result<String> {
+    if model
+        .scenario
+        .repair
+        .as_ref()
+        .and_then(|r| r.preventive.as_ref())
+        .is_none()
+    {
+        return Err(InputError(
+            "--compare-policy needs a repair.preventive_replacement section in the scenario".into(),
+        )
+        .into());
+    }
+    let engine = engine_for(model, s)?.without_preventive_policy();
+    let opts = RunOptions {
+        histories: s.histories,
+        seed: s.seed,
+        threads,
+        floor_fraction: s.floor_fraction,
+        shard: None,
+        target_rel_error: None,
+    };
+    let tally = engine.run(&opts, &|_| {})?;
+    let without = RunSummary::from_outcome(
+        &engine,
+        tally,
+        s.histories,
+        s.seed,
+        None,
+        s.stockout_target,
+        RunStatus::Complete,
+        None,
+    );
+    let line = |name: &str, r: &RunSummary| {
+        let lp = &r.loss_probability;
+        let c = &r.losses_by_cause;
+        let losses = c.direct_cut + c.cascade + c.stockout_delay + c.climber_load;
+        format!(
+            "  {name}: {} ({} % interval {} .. {}), {} losses in {} histories\n",
+            tether_risk::report::table::sig(lp.estimate, 4),
+            (lp.confidence * 100.0).round(),
+            tether_risk::report::table::sig(lp.ci_low.unwrap_or(f64::NAN), 4),
+            tether_risk::report::table::sig(lp.ci_high.unwrap_or(f64::NAN), 4),
+            losses,
+            r.histories
+        )
+    };
+    Ok(format!(
+        "Preventive-replacement policy, same seed and random streams per history (common random numbers):\n{}{}",
+        line("with the policy   ", with),
+        line("without the policy", &without)
+    ))
+}
+
 /// Write `design.json` and, where the fast Markov estimate applies, `estimate.json` into a run
 /// folder (the report reads both); returns the names written.
 pub fn write_design_and_estimate(model: &Model, dir: &Path) -> anyhow::Result<Vec<String>> {
@@ -817,13 +883,19 @@ pub fn run(a: Args) -> anyhow::Result<()> {
         Some(stop),
         a.force || a.resume.is_some(),
     )?;
+    let comparison = if a.compare_policy && summary.status != RunStatus::Interrupted {
+        Some(compare_policy(&model, &settings, a.threads, &summary)?)
+    } else {
+        None
+    };
     match a.format {
         Format::Json => print(&(serde_json::to_string_pretty(&summary)? + "\n"))?,
         // CSV: the survival-by-year table (as survival_by_year.csv in the folder).
         Format::Csv => print(&tether_risk::report::run::survival_table(&summary).to_csv())?,
         Format::Text => print(&format!(
-            "{}\nResults written to {}\n",
+            "{}\n{}Results written to {}\n",
             run_text(&summary),
+            comparison.unwrap_or_default(),
             out_dir.display()
         ))?,
     }

@@ -26,9 +26,9 @@
 //! 3. follow the cascade with the new loads and score the cuts;
 //! 4. compute the new critical widths and cut rates of the bay.
 //!
-//! A new kind of state change (climber arrival, inspection) is a new [`Event`] variant and a
-//! handler that follows these four steps; [`HistoryRun::on_inspection`] is written that way and
-//! waits for an inspection event in the repair model.
+//! The climber-load changes (`ClimberIn`/`ClimberOut` repair events: [`HistoryRun::on_climber_load`])
+//! and inspections with preventive replacement (at a repair visit inside the splice, or a
+//! periodic inspection step: [`HistoryRun::inspect_bay`]) follow these four steps too.
 //!
 //! Ties: repair events first, then extra (rare-event) strikes or cuts in touched bays, then the
 //! natural strike or untouched-bay cut. Gaps are exponential, so drawing the next damage time
@@ -40,7 +40,8 @@ use std::sync::atomic::{AtomicBool, Ordering};
 
 use rand_pcg::Pcg64Mcg;
 
-use crate::repair::{EventKind, Fleet, RepairPlan};
+use crate::repair::{EventKind, Fleet, PreventivePlan, RepairPlan};
+use crate::scenario::ReplacementThresholdSpec;
 use crate::structure::load_sharing::{settle_bay, MAX_RIBBONS};
 
 use super::history::{HistoryOutcome, LogEvent, Scratch};
@@ -206,6 +207,8 @@ pub(crate) struct HistoryRun<'a, 'm> {
     next_cut_s: f64,
     events: u64,
     stop: Option<&'a AtomicBool>,
+    /// Segments replaced in the inspection being handled (bit i: ribbon i).
+    replaced_mask: u64,
 }
 
 impl<'a, 'm> HistoryRun<'a, 'm> {
@@ -250,6 +253,7 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
             next_cut_s: f64::INFINITY,
             events: 0,
             stop,
+            replaced_mask: 0,
         }
     }
 
@@ -369,14 +373,46 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
                 bay,
                 segments,
             } => {
-                self.on_splice(t, bay, segments);
-                fleet.on_splice_done(plan, station, bay, t);
+                let replaced = self.on_splice(&mut fleet, plan, t, station, bay, segments);
+                let done = t + f64::from(replaced) * plan.splice_s;
+                fleet.on_splice_done(plan, station, bay, done);
             }
             EventKind::Return { station } => {
                 fleet.on_return(station, t);
                 fleet.dispatch(plan, policy, t, &mut self.tally.repair);
             }
             EventKind::Resupply { station } => self.on_resupply(&mut fleet, plan, station, t),
+            EventKind::ClimberIn { bay } | EventKind::ClimberOut { bay } => {
+                // May cut segments: the fleet must be in place to schedule their detection.
+                self.fleet = Some(fleet);
+                let up = matches!(ev.kind, EventKind::ClimberIn { .. });
+                let flow = self.on_climber_load(t, bay, up);
+                if flow == Flow::Go && self.e.strict {
+                    if let Some(a) = self.e.check_invariants(self.scratch, Some(bay)) {
+                        self.out.anomaly = Some(a);
+                        return Flow::End;
+                    }
+                }
+                return flow;
+            }
+            EventKind::InspectionDue => fleet.on_inspection_due(plan, t, &mut self.tally.repair),
+            EventKind::InspectStep {
+                station,
+                bay,
+                up,
+                spares,
+            } => {
+                let budget = spares.min(fleet.stock(station));
+                let (replaced, short) = self.inspect_bay(t, bay, budget);
+                fleet.take_stock(plan, station, replaced, t);
+                let rt = &mut self.tally.repair;
+                rt.bays_inspected += 1;
+                rt.preventive_replacements += u64::from(replaced);
+                rt.preventive_at_inspections += u64::from(replaced);
+                rt.preventive_short_of_spares += u64::from(short);
+                let done = t + f64::from(replaced) * plan.splice_s;
+                fleet.on_inspect_step_done(plan, station, bay, up, spares - replaced, done);
+            }
         }
         let flow = if self.e.strict {
             let bay = match ev.kind {
@@ -413,40 +449,236 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
         fleet.dispatch(plan, self.e.policy.as_ref(), t, &mut self.tally.repair);
     }
 
-    /// A splice is done: a bay state change (segments replaced, loads fall).
-    fn on_splice(&mut self, t: f64, bay: u32, segments: u32) {
+    /// A splice is done: a bay state change (segments replaced, loads fall). With a
+    /// preventive-replacement policy acting at visits, the climber first replaces the intact
+    /// segments whose worst hole is at least the threshold (spares beyond the cuts, within its
+    /// capacity, the policy's extra spares and the station's stock), in the same state change.
+    /// Returns the segments replaced preventively (each takes one more splice time).
+    fn on_splice(
+        &mut self,
+        fleet: &mut Fleet,
+        plan: &RepairPlan,
+        t: f64,
+        station: u32,
+        bay: u32,
+        segments: u32,
+    ) -> u32 {
         let n = self.e.ribbons;
+        let mut replaced = 0;
+        if let Some(p) = plan.preventive.as_ref().filter(|p| p.at_visits) {
+            let cap = plan.capacity_per_trip[bay as usize].saturating_sub(segments);
+            let budget = cap.min(p.extra_spares).min(fleet.stock(station));
+            let (r, short) = self.inspect_bay(t, bay, budget);
+            fleet.take_stock(plan, station, r, t);
+            let rt = &mut self.tally.repair;
+            rt.bays_inspected += 1;
+            rt.preventive_replacements += u64::from(r);
+            rt.preventive_at_visits += u64::from(r);
+            rt.preventive_short_of_spares += u64::from(short);
+            replaced = r;
+        }
         let slot = self.scratch.slot(bay, n);
         self.bring_up_to_date(slot, t);
         self.e
             .splice(t, bay, segments, self.scratch, &mut self.tally.repair);
         // More survivors carry less each: nothing can fail, so no cascade to follow.
         self.loads_changed(slot, t);
+        replaced
     }
 
-    /// Hook for an inspection that replaces the holed segments of `bay` whose worst hole is at
-    /// least `replace_above_m` (no inspection event exists in the repair model yet). It follows
-    /// the state-change recipe: bring the worst holes up to date (the inspection sees them),
-    /// replace, settle (a replacement only lowers loads), new rates.
-    #[allow(dead_code)]
-    pub(crate) fn on_inspection(&mut self, t: f64, bay: u32, replace_above_m: f64) -> u32 {
-        let n = self.e.ribbons;
-        let Some(slot) = self.scratch.slot_of(bay) else {
-            return 0; // never touched: on-demand has no hole to show; nothing to replace
+    /// The replacement threshold for the intact segments of the bay in `slot` (or of an
+    /// untouched bay `j` when `slot` is None), m.
+    fn replacement_threshold_m(&self, p: &PreventivePlan, j: usize, slot: Option<usize>) -> f64 {
+        let e = self.e;
+        match p.threshold {
+            ReplacementThresholdSpec::FractionOfWidth { fraction } => {
+                fraction * e.model.profile.bays[j].width_m
+            }
+            ReplacementThresholdSpec::FractionOfNextCritical { fraction } => {
+                let cuts = slot.map_or(0, |s| self.scratch.cuts_in_bay[s]) as usize;
+                let left = e.ribbons.saturating_sub(cuts + 1);
+                if left == 0 {
+                    return 0.0; // the next cut loses the bay
+                }
+                let load = e.bay_tension_n(j, self.scratch) / left as f64;
+                fraction * critical_width_m(&e.model.profile, j, load).max(0.0)
+            }
+        }
+    }
+
+    /// Inspect `bay` at `t` and replace up to `budget` intact segments whose worst hole is at
+    /// least the policy's threshold, worst first. A state change (bring up to date, replace,
+    /// new rates), except that a threshold no intact segment can reach (at least every intact
+    /// segment's critical width: its worst hole is below it) returns at once without drawing
+    /// anything, so such a policy leaves the history bit for bit as without it. An untouched
+    /// bay is set up like a first cut (intact loads since mission start). Returns (replaced,
+    /// qualifying segments left for want of spares).
+    pub(crate) fn inspect_bay(&mut self, t: f64, bay: u32, budget: u32) -> (u32, u32) {
+        let e = self.e;
+        let Some(p) = e.repair.as_ref().and_then(|r| r.preventive.as_ref()) else {
+            return (0, 0);
+        };
+        let n = e.ribbons;
+        let j = bay as usize;
+        let slot = self.scratch.slot_of(bay);
+        let threshold = self.replacement_threshold_m(p, j, slot);
+        // Can any intact segment hold a hole at least the threshold?
+        let reachable = match (slot, e.sampler_kind, e.on_demand.as_ref()) {
+            (Some(s), Sampler::OnDemand, Some(_)) => (0..n).any(|i| {
+                self.scratch.intact[s * n + i] && threshold < self.scratch.critical_m[s * n + i]
+            }),
+            (None, Sampler::OnDemand, Some(od)) => {
+                // Untouched: intact loads, no climber (a climber's extra would have touched it).
+                threshold < od.intact_critical_width_m(j)
+            }
+            (Some(s), _, _) => (0..n).any(|i| {
+                self.scratch.intact[s * n + i] && self.scratch.worst_hole_m[s * n + i] >= threshold
+            }),
+            (None, _, _) => threshold <= 0.0,
+        };
+        if !reachable {
+            return (0, 0);
+        }
+        let slot = match slot {
+            Some(s) => s,
+            None => {
+                let s = self.scratch.slot(bay, n);
+                self.loads_changed(s, 0.0); // intact loads since mission start
+                s
+            }
         };
         self.bring_up_to_date(slot, t);
         let base = slot * n;
         let mut replaced = 0;
-        for i in 0..n {
-            if self.scratch.intact[base + i]
-                && self.scratch.worst_hole_m[base + i] >= replace_above_m
-            {
-                self.scratch.worst_hole_m[base + i] = 0.0;
-                replaced += 1;
+        let mut short = 0;
+        loop {
+            // Worst qualifying segment first (deterministic: lowest index among equals).
+            let mut pick: Option<usize> = None;
+            for i in 0..n {
+                let h = self.scratch.worst_hole_m[base + i];
+                if self.scratch.intact[base + i]
+                    && h >= threshold
+                    && !self.replaced_now(i)
+                    && pick.is_none_or(|k| h > self.scratch.worst_hole_m[base + k])
+                {
+                    pick = Some(i);
+                }
+            }
+            let Some(i) = pick else { break };
+            if replaced == budget {
+                short = (0..n)
+                    .filter(|&k| {
+                        self.scratch.intact[base + k]
+                            && self.scratch.worst_hole_m[base + k] >= threshold
+                            && !self.replaced_now(k)
+                    })
+                    .count() as u32;
+                break;
+            }
+            self.scratch.worst_hole_m[base + i] = 0.0;
+            self.mark_replaced(i);
+            replaced += 1;
+        }
+        self.replaced_mask = 0;
+        // New ribbon only raises capacities: nothing can fail; rates change.
+        self.loads_changed(slot, t);
+        (replaced, short)
+    }
+
+    #[inline]
+    fn replaced_now(&self, i: usize) -> bool {
+        self.replaced_mask & (1u64 << i) != 0
+    }
+
+    #[inline]
+    fn mark_replaced(&mut self, i: usize) {
+        self.replaced_mask |= 1u64 << i;
+    }
+
+    /// A climber crosses into (`arrives`) or out of `bay` at `t`. When the bay's climber extra
+    /// changes, a state change: bring the worst holes up to date under the old load (an
+    /// untouched bay is set up like a first cut), change the tension, follow the cascade with
+    /// the new loads (cuts and a loss scored as caused by the climber's load), new rates.
+    fn on_climber_load(&mut self, t: f64, bay: u32, arrives: bool) -> Flow {
+        let e = self.e;
+        let Some(cl) = e.climber_load.as_ref() else {
+            return Flow::Go;
+        };
+        if self.advance_clock(t, "time went backwards at a climber load change") == Flow::End {
+            return Flow::End;
+        }
+        let j = bay as usize;
+        let n = e.ribbons;
+        let before = self.scratch.climbers_on_bay[j];
+        let after = if arrives {
+            before.saturating_add(1)
+        } else {
+            before.saturating_sub(1)
+        };
+        if before == 0 && after > 0 {
+            self.scratch.climber_bays.push(bay);
+        }
+        let changed = cl.extra_n(j, u32::from(before)) != cl.extra_n(j, u32::from(after));
+        if !changed {
+            self.scratch.climbers_on_bay[j] = after;
+            return Flow::Go; // the envelope covers it: no state change, nothing drawn
+        }
+        let slot = match self.scratch.slot_of(bay) {
+            Some(s) => s,
+            None => {
+                let s = self.scratch.slot(bay, n);
+                self.loads_changed(s, 0.0); // intact loads since mission start
+                s
+            }
+        };
+        self.bring_up_to_date(slot, t);
+        self.scratch.climbers_on_bay[j] = after;
+        if !arrives {
+            // Less load: nothing can fail.
+            self.loads_changed(slot, t);
+            return Flow::Go;
+        }
+        let base = slot * n;
+        let mut capacity = [0.0f64; MAX_RIBBONS];
+        for (cap, hole) in capacity
+            .iter_mut()
+            .zip(&self.scratch.worst_hole_m[base..base + n])
+        {
+            *cap = e.model.profile.ribbon_capacity_n(j, *hole);
+        }
+        let tension = e.bay_tension_n(j, self.scratch);
+        let damaged_before = self.scratch.damaged.len();
+        let intact = &mut self.scratch.intact[base..base + n];
+        let Ok(cascade) = settle_bay(e.sharing.as_ref(), intact, &capacity[..n], tension) else {
+            self.out.anomaly = Some("too many ribbons for the cascade");
+            return Flow::End;
+        };
+        let newly = cascade.newly_cut;
+        let mut loss = None;
+        if newly > 0 {
+            self.tally.climber_load_cuts += u64::from(newly);
+            loss = e.record_cuts(
+                t,
+                bay,
+                slot,
+                newly,
+                newly,
+                cascade.survivors,
+                self.scratch,
+                self.tally,
+                &mut self.out,
+                self.log.as_deref_mut(),
+            );
+            if let Some(l) = loss.as_mut() {
+                l.cause = LossCause::ClimberLoad;
             }
         }
         self.loads_changed(slot, t);
-        replaced
+        if e.sampler_kind == Sampler::EveryStrike && self.scratch.damaged.len() != damaged_before {
+            let r = self.scratch.damaged_rate();
+            self.rare.strikes_changed(t, r);
+        }
+        self.after_cuts(t, bay, newly, loss)
     }
 
     // ---------------------------------------------------------------------------------------
@@ -619,7 +851,7 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
         {
             *cap = e.model.profile.ribbon_capacity_n(j, *hole);
         }
-        let tension = e.model.profile.bays[j].max_tension_n;
+        let tension = e.bay_tension_n(j, self.scratch);
         let intact = &mut self.scratch.intact[base..base + n];
         let Ok(cascade) = settle_bay(e.sharing.as_ref(), intact, &capacity[..n], tension) else {
             self.out.anomaly = Some("too many ribbons for the cascade");
@@ -808,11 +1040,9 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
         let j = s.touched[slot] as usize;
         let hr = od.holes.bay(j);
         let mut loads = [0.0f64; MAX_RIBBONS];
-        e.sharing.distribute(
-            &s.intact[base..base + n],
-            e.model.profile.bays[j].max_tension_n,
-            &mut loads[..n],
-        );
+        let tension = e.bay_tension_n(j, s);
+        e.sharing
+            .distribute(&s.intact[base..base + n], tension, &mut loads[..n]);
         let mut total = 0.0;
         // Segments with the same load (all of a bay under equal sharing) have the same critical
         // width and rate: computed once per distinct load (same bits in, same bits out).
@@ -875,10 +1105,11 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
         }
         match loss {
             Some(mut loss) => {
-                if self
-                    .fleet
-                    .as_ref()
-                    .is_some_and(|f| f.bay_waits_for_stock(loss.bay))
+                if loss.cause != LossCause::ClimberLoad
+                    && self
+                        .fleet
+                        .as_ref()
+                        .is_some_and(|f| f.bay_waits_for_stock(loss.bay))
                 {
                     loss.cause = LossCause::StockoutDelay;
                 }
@@ -1009,5 +1240,155 @@ impl Engine<'_> {
         let segs = run.segments_at(end);
         let out = run.out;
         (out, end, segs)
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    //! The climber-load and preventive-replacement state changes on constructed bays. Expected
+    //! outcomes are worked by hand from the net-section rule (the demo's notch model):
+    //! capacity(h) = (w - h) t sigma_allow (Daniels equal sharing of the bay tension among the
+    //! survivors; REFERENCES-damage.md §2.1 net section), not from the engine's own functions.
+    use super::*;
+    use crate::model::Model;
+    use crate::scenario::{parse_spec, Scenario, DEMO_SCENARIO_JSON};
+
+    fn demo_model(edit: impl FnOnce(&mut serde_json::Value)) -> Model {
+        let mut v: serde_json::Value = serde_json::from_str(DEMO_SCENARIO_JSON).unwrap();
+        v["repair"]["climber"]["load_on_bays"] = serde_json::json!(true);
+        edit(&mut v);
+        let sc = Scenario::from_spec(parse_spec(&v.to_string()).unwrap(), None).unwrap();
+        Model::build(sc).unwrap()
+    }
+
+    /// Bay 0 of the demo with ribbon 0 cut and a hole `hole_m` in ribbon 1.
+    fn weakened_bay(run: &mut HistoryRun<'_, '_>, hole_m: f64) {
+        let n = run.e.ribbons;
+        let slot = run.scratch.slot(0, n);
+        run.scratch.intact[slot * n] = false;
+        run.scratch.add_cuts(slot, n, 1, 0.0, 1e-12);
+        run.scratch.worst_hole_m[slot * n + 1] = hole_m;
+    }
+
+    #[test]
+    fn a_climbers_weight_breaks_a_holed_segment_it_would_not_break_alone() {
+        let model = demo_model(|_| {});
+        let e = Engine::with_sampler(&model, 1.0, Sampler::EveryStrike).unwrap();
+        let p = &model.profile;
+        let (w, t_m) = (p.bays[0].width_m, p.design.thickness_m);
+        let sigma = p.design.allowable_stress_pa;
+        let tension = p.bays[0].max_tension_n;
+        // The loaded climber: 300 kg own mass + 400 kg payload; its weight at the anchor bay is
+        // checked against an independent CR3BP gradient in model::climber's tests.
+        let weight = e.climber_load.as_ref().unwrap().weight_n[0];
+        let extra = weight - 300.0; // less the 300 N traffic envelope of the demo
+        assert!(extra > 500.0, "{extra}");
+        // Holes at which a survivor of five fails: h = w - load / (t sigma).
+        let h_alone = w - tension / 5.0 / (t_m * sigma);
+        let h_loaded = w - (tension + extra) / 5.0 / (t_m * sigma);
+        assert!(0.0 < h_loaded && h_loaded < h_alone, "{h_loaded} {h_alone}");
+        // Four intact survivors then carry (T + extra)/4 each against w t sigma.
+        let four_fail = (tension + extra) / 4.0 > w * t_m * sigma * (1.0 - CAPACITY_TOL);
+        for (hole, cut) in [
+            (0.5 * (h_loaded + h_alone), true),
+            (0.999 * h_loaded, false),
+        ] {
+            let mut scratch = e.new_scratch();
+            let mut tally = e.empty_tally();
+            let mut run = HistoryRun::new(&e, 0, 1, &mut scratch, &mut tally, None, None);
+            weakened_bay(&mut run, hole);
+            // Without the climber the bay is stable with this hole (a survivor of five).
+            assert!(tension / 5.0 < (w - hole) * t_m * sigma);
+            let flow = run.on_climber_load(3600.0, 0, true);
+            let n = run.e.ribbons;
+            let intact1 = run.scratch.intact[1];
+            let loss = run.out.loss;
+            let cuts = run.tally.climber_load_cuts;
+            if cut {
+                assert!(!intact1, "the climber's weight must cut the holed segment");
+                if four_fail {
+                    assert_eq!(cuts, 5);
+                    assert_eq!(flow, Flow::End);
+                    assert_eq!(loss.unwrap().cause, LossCause::ClimberLoad);
+                } else {
+                    assert_eq!(cuts, 1);
+                    assert!(loss.is_none());
+                }
+            } else {
+                assert!(
+                    intact1,
+                    "hole {hole} below the loaded critical width {h_loaded}"
+                );
+                assert_eq!(cuts, 0);
+                assert_eq!(flow, Flow::Go);
+                // Leaving again changes nothing and the bay carries its design tension.
+                assert_eq!(run.on_climber_load(7200.0, 0, false), Flow::Go);
+                assert_eq!(run.scratch.climbers_on_bay[0], 0);
+                assert_eq!(e.bay_tension_n(0, run.scratch), tension);
+                assert_eq!(run.scratch.cuts_in(0), 1);
+                assert_eq!(n, 6);
+            }
+        }
+    }
+
+    const CAPACITY_TOL: f64 = crate::structure::load_sharing::CAPACITY_TOLERANCE;
+
+    #[test]
+    fn zero_threshold_replaces_every_intact_segment_of_a_visited_bay() {
+        let model = demo_model(|v| {
+            v["repair"]["climber"]["payload_kg"] = serde_json::json!(4000.0);
+            v["repair"]["preventive_replacement"] = serde_json::json!({
+                "threshold": {"kind": "fraction_of_width", "fraction": 0.0},
+                "extra_spares_per_trip": 6
+            });
+        });
+        for sampler in [Sampler::EveryStrike, Sampler::OnDemand] {
+            let e = Engine::with_sampler(&model, 1.0, sampler).unwrap();
+            let mut scratch = e.new_scratch();
+            let mut tally = e.empty_tally();
+            let mut run = HistoryRun::new(&e, 0, 1, &mut scratch, &mut tally, None, None);
+            let n = e.ribbons;
+            weakened_bay(&mut run, 1e-4);
+            let slot = run.scratch.slot_of(0).unwrap();
+            run.loads_changed(slot, 0.0);
+            let mut fleet = run.fleet.take().unwrap();
+            let plan = e.repair.as_ref().unwrap();
+            let replaced = run.on_splice(&mut fleet, plan, 86_400.0, 0, 0, 1);
+            assert_eq!(replaced as usize, n - 1, "{sampler:?}");
+            assert!(run.scratch.intact[..n].iter().all(|&ok| ok));
+            assert!(run.scratch.worst_hole_m[..n].iter().all(|&h| h == 0.0));
+            assert_eq!(run.tally.repair.preventive_at_visits, (n - 1) as u64);
+            assert_eq!(run.tally.repair.preventive_short_of_spares, 0);
+            // Stock was debited: 20 at the base less the five replacements.
+            assert_eq!(fleet.stock(0), 20 - (n as u32 - 1));
+        }
+    }
+
+    #[test]
+    fn a_threshold_above_every_critical_width_draws_nothing_and_replaces_nothing() {
+        let model = demo_model(|v| {
+            v["repair"]["preventive_replacement"] = serde_json::json!({
+                "threshold": {"kind": "fraction_of_width", "fraction": 1.0}
+            });
+        });
+        let e = Engine::new(&model, 1.0).unwrap();
+        let mut scratch = e.new_scratch();
+        let mut tally = e.empty_tally();
+        let mut run = HistoryRun::new(&e, 0, 1, &mut scratch, &mut tally, None, None);
+        weakened_bay(&mut run, 1e-3);
+        let slot = run.scratch.slot_of(0).unwrap();
+        run.loads_changed(slot, 0.0);
+        let before = run.damage.clone();
+        let (r, short) = run.inspect_bay(86_400.0, 0, 6);
+        assert_eq!((r, short), (0, 0));
+        // The damage stream is untouched: the history goes on as without the policy.
+        let mut a = before;
+        assert_eq!(
+            rand::Rng::next_u64(&mut a),
+            rand::Rng::next_u64(&mut run.damage)
+        );
+        // An untouched bay is not set up either.
+        assert_eq!(run.inspect_bay(86_400.0, 7, 6), (0, 0));
+        assert!(run.scratch.slot_of(7).is_none());
     }
 }

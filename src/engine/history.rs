@@ -44,6 +44,10 @@ pub struct Scratch {
     pub(crate) bay_cut_rate_s: Vec<f64>,
     /// On-demand: time up to which the bay's worst holes are drawn, s.
     pub(crate) updated_s: Vec<f64>,
+    /// Climbers standing in each bay now (every bay).
+    pub(crate) climbers_on_bay: Vec<u16>,
+    /// Bays with a climber count changed in this history (for the reset).
+    pub(crate) climber_bays: Vec<u32>,
 }
 
 impl Scratch {
@@ -51,6 +55,8 @@ impl Scratch {
     pub fn new(bays: usize, ribbons: usize, plan: Option<(&RepairPlan, f64)>) -> Self {
         Scratch {
             slot_of_bay: vec![UNTOUCHED; bays],
+            climbers_on_bay: vec![0; bays],
+            climber_bays: Vec::with_capacity(64),
             touched: Vec::with_capacity(64),
             worst_hole_m: Vec::with_capacity(64 * ribbons),
             intact: Vec::with_capacity(64 * ribbons),
@@ -62,6 +68,10 @@ impl Scratch {
     }
 
     pub(crate) fn reset(&mut self) {
+        for &b in &self.climber_bays {
+            self.climbers_on_bay[b as usize] = 0;
+        }
+        self.climber_bays.clear();
         for &b in &self.touched {
             self.slot_of_bay[b as usize] = UNTOUCHED;
         }
@@ -320,7 +330,7 @@ impl Engine<'_> {
                 continue; // a lost bay ends the history
             }
             let mut loads = [0.0f64; MAX_RIBBONS];
-            let tension = self.model.profile.bays[bay as usize].max_tension_n;
+            let tension = self.bay_tension_n(bay as usize, scratch);
             if !tension.is_finite() {
                 return Some("non-finite tension");
             }
@@ -460,7 +470,7 @@ impl Engine<'_> {
             LoadSharingSpec::Local => None,
         };
         if let Some(k) = survivors {
-            let load = bay.max_tension_n / k;
+            let load = self.bay_tension_n(j, scratch) / k;
             if load <= self.model.profile.ribbon_capacity_n(j, removed) * (1.0 - CAPACITY_TOLERANCE)
             {
                 tally.subcritical_holes += 1;
@@ -474,14 +484,10 @@ impl Engine<'_> {
         {
             *c = self.model.profile.ribbon_capacity_n(j, *hole);
         }
-        let intact = &mut scratch.intact[base..base + n];
         // Slices have N <= MAX_RIBBONS entries by construction, so settle_bay cannot fail here.
-        let Ok(outcome) = settle_bay(
-            self.sharing.as_ref(),
-            intact,
-            &capacity[..n],
-            bay.max_tension_n,
-        ) else {
+        let tension = self.bay_tension_n(j, scratch);
+        let intact = &mut scratch.intact[base..base + n];
+        let Ok(outcome) = settle_bay(self.sharing.as_ref(), intact, &capacity[..n], tension) else {
             return (0, None);
         };
         if outcome.newly_cut == 0 {

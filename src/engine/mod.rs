@@ -27,7 +27,7 @@ pub use summary::{
     LossProbability, RepairSummary, RunSummary, SpareSummary, StationDemand, StationProbability,
     StationStock, SurvivalPoint, YearCuts, PLAIN_INTERVAL_METHOD, WEIGHTED_INTERVAL_METHOD,
 };
-pub use tally::{Loss, LossCause, Tally, WeightedBatch, ANOMALY_EXAMPLES};
+pub use tally::{Loss, LossCause, Tally, WeightedBatch, ANOMALY_EXAMPLES, LOSS_CAUSES};
 
 use std::sync::atomic::{AtomicBool, AtomicU64, Ordering};
 use std::time::Duration;
@@ -267,6 +267,8 @@ pub struct Engine<'m> {
     /// Defensive-mixture probability of the latent-damage bias (0: off).
     latent_bias: f64,
     strict: bool,
+    /// Climber loads on bays (absent without repair or with them switched off).
+    climber_load: Option<crate::model::climber::ClimberLoadTable>,
 }
 
 impl<'m> Engine<'m> {
@@ -313,14 +315,23 @@ impl<'m> Engine<'m> {
                 (edges.partition_point(|&e| e <= h).saturating_sub(1)).min(edges.len() - 2) as u16
             })
             .collect();
+        let climber_load = if model.scenario.validation_mode.is_some() {
+            None
+        } else {
+            crate::model::climber::ClimberLoadTable::of(model)
+        };
         let repair = if model.scenario.validation_mode.is_some() {
             None
         } else {
-            model
-                .scenario
-                .repair
-                .as_ref()
-                .map(|r| RepairPlan::new(r, &model.profile, model.scenario.run.mission_s))
+            model.scenario.repair.as_ref().map(|r| {
+                let mut plan = RepairPlan::new(r, &model.profile, model.scenario.run.mission_s);
+                if let Some(c) = climber_load.as_ref() {
+                    plan.load_bays = (0..model.profile.bays.len())
+                        .map(|j| c.max_extra_n(j) > 0.0)
+                        .collect();
+                }
+                plan
+            })
         };
         let policy: Box<dyn DispatchPolicy> = match repair.as_ref().map(|r| r.dispatch) {
             Some(DispatchSpec::FirstCome) => Box::new(FirstCome),
@@ -345,6 +356,7 @@ impl<'m> Engine<'m> {
             bias_factor: 1.0,
             latent_bias: 0.0,
             strict: false,
+            climber_load,
         })
     }
 
@@ -765,6 +777,26 @@ impl<'m> Engine<'m> {
             self.ribbons,
             self.repair.as_ref().map(|p| (p, self.mission_s)),
         )
+    }
+
+    /// Tension of bay `j` now: the design tension plus the extra of the climbers standing in
+    /// it (see [`crate::model::climber`]), N.
+    #[inline]
+    pub(crate) fn bay_tension_n(&self, j: usize, scratch: &Scratch) -> f64 {
+        let t = self.model.profile.bays[j].max_tension_n;
+        match &self.climber_load {
+            Some(c) => t + c.extra_n(j, u32::from(scratch.climbers_on_bay[j])),
+            None => t,
+        }
+    }
+
+    /// Drop the preventive-replacement policy (the `--compare-policy` baseline pass): the same
+    /// model and streams, without inspections or preventive replacements.
+    pub fn without_preventive_policy(mut self) -> Self {
+        if let Some(p) = self.repair.as_mut() {
+            p.preventive = None;
+        }
+        self
     }
 
     /// The repair plan, when repair is simulated.

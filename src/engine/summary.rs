@@ -193,6 +193,9 @@ pub struct CauseCounts {
     pub cascade: u64,
     /// Lost while its repair waited for spare stock.
     pub stockout_delay: u64,
+    /// Overloaded by a climber's weight arriving on a weakened bay.
+    #[serde(default)]
+    pub climber_load: u64,
 }
 
 /// Everything a run reports.
@@ -442,6 +445,7 @@ impl RunSummary {
                 direct_cut: tally.losses_by_cause[0],
                 cascade: tally.losses_by_cause[1],
                 stockout_delay: tally.losses_by_cause[2],
+                climber_load: tally.losses_by_cause[3],
             },
             cascade_cut_fraction: if tally.cuts > 0 {
                 tally.cascade_cuts as f64 / tally.cuts as f64
@@ -596,6 +600,32 @@ pub struct RepairSummary {
     pub stockout_target: f64,
     /// Time-to-splice histogram as (bin centre hours, probability), for plots.
     pub time_to_splice_distribution: Vec<(f64, f64)>,
+    /// Inspection and preventive replacement tallies (absent without the policy).
+    #[serde(default)]
+    pub preventive: Option<PreventiveSummary>,
+}
+
+/// What the inspection and preventive-replacement policy did.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct PreventiveSummary {
+    /// Intact segments replaced preventively, all histories.
+    pub segments_replaced: u64,
+    /// Of those, at repair visits.
+    pub replaced_at_visits: u64,
+    /// Of those, at periodic inspections.
+    pub replaced_at_inspections: u64,
+    /// Preventive replacements per history.
+    pub replaced_per_history: f64,
+    /// Spares used, all histories: splices of cut segments plus preventive replacements.
+    pub spares_used: u64,
+    /// Qualifying segments left in place for want of a spare.
+    pub short_of_spares: u64,
+    /// Bays inspected (visits and inspection steps).
+    pub bays_inspected: u64,
+    /// Periodic inspections started and skipped (no idle climber).
+    pub inspections: u64,
+    /// Periodic inspections skipped.
+    pub inspections_skipped: u64,
 }
 
 /// Spare-ribbon demand.
@@ -774,6 +804,20 @@ impl RunSummary {
                 recommended_initial_stock: recommended,
                 stockout_target,
                 time_to_splice_distribution: splice_dist,
+                preventive: engine
+                    .repair_plan()
+                    .and_then(|p| p.preventive.as_ref())
+                    .map(|_| PreventiveSummary {
+                        segments_replaced: rt.preventive_replacements,
+                        replaced_at_visits: rt.preventive_at_visits,
+                        replaced_at_inspections: rt.preventive_at_inspections,
+                        replaced_per_history: rt.preventive_replacements as f64 / h.max(1.0),
+                        spares_used: rt.splices + rt.preventive_replacements,
+                        short_of_spares: rt.preventive_short_of_spares,
+                        bays_inspected: rt.bays_inspected,
+                        inspections: rt.inspections,
+                        inspections_skipped: rt.inspections_skipped,
+                    }),
             },
             SpareSummary {
                 demand_quantiles: demand,

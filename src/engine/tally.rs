@@ -17,6 +17,26 @@ pub enum LossCause {
     Cascade,
     /// The bay was lost while its repair waited for spare stock.
     StockoutDelay,
+    /// A climber's weight arriving on the bay (travelling or splicing) overloaded its
+    /// weakened ribbons.
+    ClimberLoad,
+}
+
+/// Number of [`LossCause`] kinds.
+pub const LOSS_CAUSES: usize = 4;
+
+/// Tallies written before the climber-load cause hold three causes: read them as four.
+fn causes_from_any<'de, D: serde::Deserializer<'de>>(d: D) -> Result<[u64; LOSS_CAUSES], D::Error> {
+    let v: Vec<u64> = Vec::deserialize(d)?;
+    if v.len() != 3 && v.len() != LOSS_CAUSES {
+        return Err(serde::de::Error::custom(format!(
+            "losses_by_cause has {} entries; expected 3 or {LOSS_CAUSES}",
+            v.len()
+        )));
+    }
+    let mut out = [0; LOSS_CAUSES];
+    out[..v.len()].copy_from_slice(&v);
+    Ok(out)
 }
 
 /// A system loss inside one history.
@@ -37,8 +57,9 @@ pub struct Tally {
     pub histories: u64,
     /// Histories that ended in system loss.
     pub losses: u64,
-    /// Losses by cause: [direct cut, cascade, stock-out delay].
-    pub losses_by_cause: [u64; 3],
+    /// Losses by cause: [direct cut, cascade, stock-out delay, climber load].
+    #[serde(deserialize_with = "causes_from_any")]
+    pub losses_by_cause: [u64; LOSS_CAUSES],
     /// Losses whose time falls in mission year y (0-based), y < years.
     pub losses_by_year: Vec<u64>,
     /// Losses by altitude band.
@@ -53,6 +74,9 @@ pub struct Tally {
     pub cuts_by_year: Vec<u64>,
     /// Cuts that were caused by load redistribution (not by a strike's own hole).
     pub cascade_cuts: u64,
+    /// Cuts caused by a climber's weight arriving on a bay (a subset of `cascade_cuts`).
+    #[serde(default)]
+    pub climber_load_cuts: u64,
     /// Strikes sampled (above the floor).
     pub strikes: u64,
     /// Strikes that made a hole but cut nothing (sub-critical damage).
@@ -133,7 +157,7 @@ impl Tally {
     pub fn merge(&mut self, o: &Tally) {
         self.histories += o.histories;
         self.losses += o.losses;
-        for i in 0..3 {
+        for i in 0..LOSS_CAUSES {
             self.losses_by_cause[i] += o.losses_by_cause[i];
         }
         add(&mut self.losses_by_year, &o.losses_by_year);
@@ -143,6 +167,7 @@ impl Tally {
         add(&mut self.cuts_by_band, &o.cuts_by_band);
         add(&mut self.cuts_by_year, &o.cuts_by_year);
         self.cascade_cuts += o.cascade_cuts;
+        self.climber_load_cuts += o.climber_load_cuts;
         self.strikes += o.strikes;
         self.subcritical_holes += o.subcritical_holes;
         self.cutting_holes += o.cutting_holes;

@@ -8,8 +8,17 @@
 //! toward the Moon; beyond L1 it is outward. Either way it adds to the tension of the bay below
 //! (resp. above) the climber; we return its magnitude.
 //!
-//! These functions are the data the history loop needs to put climber loads on bays during
-//! travel and splices (issue 10, item 3); `check` and `profile` use them now.
+//! **What the history loop applies** ([`ClimberLoadTable`]). The design tension of every bay
+//! already includes the traffic envelope `tether.traffic_load_n` at all times, so a climber
+//! (or several) standing in a bay adds only the excess of their weight over the envelope:
+//! extra tension = max(0, k W_j - envelope) for k climbers in bay j, W_j the weight of one
+//! loaded climber (own mass + full payload, taken loaded in both directions: conservative) at
+//! the end of the bay where the field is strongest. The extra acts on the bay the climber is
+//! in, while it travels through it and while it splices there, shared among the intact ribbons
+//! by the bay's load-sharing rule. Simplification, stated: a climber also loads the bays
+//! between it and the counterweight; only the bay it stands in gets the extra here (the bay
+//! whose grip and splice loads are local, and the one a repair climber visits because it is
+//! weakened). Parked climbers rest on their station, not on a bay.
 
 use crate::orbit::{EarthMoon, Side};
 
@@ -65,6 +74,89 @@ pub fn max_loaded_climber_weight(model: &Model) -> Option<(f64, f64)> {
     }
     visit(model.profile.length_m());
     Some(best)
+}
+
+/// Weight of one loaded climber in bay `j`: the larger of its weights at the bay's two ends
+/// (the field is monotone inside a bay except right at L1, where it is near zero), N.
+pub fn loaded_climber_weight_in_bay_n(model: &Model, j: usize) -> f64 {
+    loaded_climber_mass_kg(model).map_or(0.0, |m| {
+        let side = model.scenario.tether.side;
+        let b = &model.profile.bays[j];
+        climber_weight_n(&model.orbit, side, b.bottom_altitude_m, m).max(climber_weight_n(
+            &model.orbit,
+            side,
+            b.bottom_altitude_m + b.length_m(),
+            m,
+        ))
+    })
+}
+
+/// The largest extra tension climbers can put on bay `j` (the whole fleet in it), N; 0 without
+/// repair or with `repair.climber.load_on_bays` off.
+pub fn max_extra_tension_n(model: &Model, j: usize) -> f64 {
+    match model.scenario.repair.as_ref() {
+        Some(r) if r.climber_load_on_bays => {
+            let k: u32 = r.stations.iter().map(|s| s.climbers).sum();
+            (f64::from(k) * loaded_climber_weight_in_bay_n(model, j)
+                - model.scenario.tether.traffic_load_n)
+                .max(0.0)
+        }
+        _ => 0.0,
+    }
+}
+
+/// The extra tension one loaded climber puts on bay `j`, N; 0 without repair, with
+/// `repair.climber.load_on_bays` off, or where the envelope covers it. The sampling floor
+/// includes it.
+pub fn single_climber_extra_tension_n(model: &Model, j: usize) -> f64 {
+    match model.scenario.repair.as_ref() {
+        Some(r) if r.climber_load_on_bays => (loaded_climber_weight_in_bay_n(model, j)
+            - model.scenario.tether.traffic_load_n)
+            .max(0.0),
+        _ => 0.0,
+    }
+}
+
+/// The climber loads the history loop puts on bays (see the module notes).
+#[derive(Clone, Debug, PartialEq)]
+pub struct ClimberLoadTable {
+    /// Weight of one loaded climber in each bay, N.
+    pub weight_n: Vec<f64>,
+    /// The traffic envelope already in every bay's design tension, N.
+    pub envelope_n: f64,
+    /// Climbers in the whole fleet (the most that can stand in one bay).
+    pub fleet_climbers: u32,
+}
+
+impl ClimberLoadTable {
+    /// The table of a model; `None` without repair or with `repair.climber.load_on_bays` off.
+    pub fn of(model: &Model) -> Option<Self> {
+        let r = model.scenario.repair.as_ref()?;
+        if !r.climber_load_on_bays {
+            return None;
+        }
+        Some(ClimberLoadTable {
+            weight_n: (0..model.profile.bays.len())
+                .map(|j| loaded_climber_weight_in_bay_n(model, j))
+                .collect(),
+            envelope_n: model.scenario.tether.traffic_load_n,
+            fleet_climbers: r.stations.iter().map(|s| s.climbers).sum(),
+        })
+    }
+
+    /// Extra tension of bay `j` with `climbers` climbers in it, N.
+    #[inline]
+    pub fn extra_n(&self, j: usize, climbers: u32) -> f64 {
+        if climbers == 0 {
+            return 0.0;
+        }
+        (f64::from(climbers) * self.weight_n[j] - self.envelope_n).max(0.0)
+    }
+
+    /// The largest extra tension bay `j` can see (the whole fleet in it), N.
+    pub fn max_extra_n(&self, j: usize) -> f64 {
+        self.extra_n(j, self.fleet_climbers)
+    }
 }
 
 #[cfg(test)]

@@ -282,8 +282,24 @@ impl StrikeSource for PrimaryMeteoroids<'_> {
 /// rule, turned into a hole width, m. The sampling floor is a fraction of it.
 pub fn smallest_severing_hole_m(model: &Model, j: usize) -> f64 {
     let p = &model.profile;
+    let t0 = p.bays[j].max_tension_n;
+    // With climber loads the bay also carries one climber's extra: the floor is the smallest
+    // severing hole under either tension. States with two or more climbers in one bay at once
+    // (rare: trips rarely overlap in a bay) are not in the floor; holes below it are not
+    // sampled in those states (stated approximation: including them lowers the floor so far
+    // that the strike-by-strike sampler must draw thousands of times more strikes).
+    let extra = super::climber::single_climber_extra_tension_n(model, j);
+    let a = smallest_severing_hole_at_tension_m(model, j, t0);
+    if extra > 0.0 {
+        a.min(smallest_severing_hole_at_tension_m(model, j, t0 + extra))
+    } else {
+        a
+    }
+}
+
+fn smallest_severing_hole_at_tension_m(model: &Model, j: usize, t: f64) -> f64 {
+    let p = &model.profile;
     let n = p.design.ribbon_count;
-    let t = p.bays[j].max_tension_n;
     let w = p.bays[j].width_m;
     let per_width = p.design.thickness_m * p.design.allowable_stress_pa;
     let capacity = w * per_width;

@@ -771,6 +771,8 @@ mod tests {
             detection,
             resupply: crate::scenario::ResupplySpec::None,
             dispatch: crate::scenario::DispatchSpec::FirstCome,
+            climber_load_on_bays: true,
+            preventive: None,
         }
     }
 

@@ -39,8 +39,8 @@ pub fn design_warnings(model: &Model) -> Vec<DesignWarning> {
                 message: format!(
                     "tether.traffic_load_n = {traffic} N is below the weight of a loaded climber \
                      ({mass:.0} kg = repair.climber.mass_kg + payload_kg) at {:.0} km: {w:.0} N. \
-                     A climber splicing a weakened bay adds that load; raise the envelope or \
-                     check the bays' margins with it",
+                     A climber splicing a weakened bay adds that load; raise the envelope, or \
+                     simulate it with repair.climber.load_on_bays = true",
                     alt / 1e3
                 ),
             });

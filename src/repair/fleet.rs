@@ -46,6 +46,30 @@ pub enum EventKind {
         /// Station.
         station: u32,
     },
+    /// A climber crosses into `bay` (its weight starts to load the bay).
+    ClimberIn {
+        /// Bay.
+        bay: u32,
+    },
+    /// A climber crosses out of `bay`.
+    ClimberOut {
+        /// Bay.
+        bay: u32,
+    },
+    /// A periodic inspection of the lowest bays is due.
+    InspectionDue,
+    /// An inspection climber from `station` is at the middle of `bay`, sweeping up or down,
+    /// with `spares` spare segments left on board.
+    InspectStep {
+        /// Home station.
+        station: u32,
+        /// Bay.
+        bay: u32,
+        /// Sweeping away from the Moon.
+        up: bool,
+        /// Spares left on board.
+        spares: u32,
+    },
 }
 
 /// A timed event; ordered by time, then by insertion.
@@ -147,6 +171,27 @@ pub struct RepairTally {
     pub demand_interval: Vec<Vec<u64>>,
     /// Per station: histogram over histories of the largest demand in any interval.
     pub demand_max_interval: Vec<Vec<u64>>,
+    /// Intact segments replaced preventively (worst hole at least the policy's threshold).
+    #[serde(default)]
+    pub preventive_replacements: u64,
+    /// Preventive replacements at repair climbers' visits.
+    #[serde(default)]
+    pub preventive_at_visits: u64,
+    /// Preventive replacements at periodic inspections.
+    #[serde(default)]
+    pub preventive_at_inspections: u64,
+    /// Qualifying segments left in place for want of a spare on board or in stock.
+    #[serde(default)]
+    pub preventive_short_of_spares: u64,
+    /// Bays inspected (visits and periodic inspection steps).
+    #[serde(default)]
+    pub bays_inspected: u64,
+    /// Periodic inspections started.
+    #[serde(default)]
+    pub inspections: u64,
+    /// Periodic inspections skipped (no idle climber anywhere).
+    #[serde(default)]
+    pub inspections_skipped: u64,
 }
 
 impl RepairTally {
@@ -176,6 +221,13 @@ impl RepairTally {
         self.queue_area_s += o.queue_area_s;
         self.queue_area_no_climber_s += o.queue_area_no_climber_s;
         self.busy_s += o.busy_s;
+        self.preventive_replacements += o.preventive_replacements;
+        self.preventive_at_visits += o.preventive_at_visits;
+        self.preventive_at_inspections += o.preventive_at_inspections;
+        self.preventive_short_of_spares += o.preventive_short_of_spares;
+        self.bays_inspected += o.bays_inspected;
+        self.inspections += o.inspections;
+        self.inspections_skipped += o.inspections_skipped;
         add(&mut self.stockout_histories, &o.stockout_histories);
         add(&mut self.stockout_events, &o.stockout_events);
         for (a, b) in [
@@ -281,6 +333,102 @@ impl Fleet {
             for s in 0..plan.stations.len() {
                 self.queue
                     .push(interval_s, EventKind::Resupply { station: s as u32 });
+            }
+        }
+        if let Some(every) = plan.preventive.as_ref().and_then(|p| p.interval_s) {
+            self.queue.push(every, EventKind::InspectionDue);
+        }
+    }
+
+    /// Spare segments in stock at `station`.
+    pub fn stock(&self, station: u32) -> u32 {
+        self.stock[station as usize]
+    }
+
+    /// Take `n` spares from `station`'s stock at `t` for preventive replacement (counted in
+    /// the station's demand like any spare drawn).
+    pub fn take_stock(&mut self, plan: &RepairPlan, station: u32, n: u32, t: f64) {
+        let s = station as usize;
+        let n = n.min(self.stock[s]);
+        if n == 0 {
+            return; // nothing drawn: the fleet is left exactly as it was
+        }
+        self.stock[s] -= n;
+        let interval = ((t / plan.demand_interval_s) as usize).min(self.intervals - 1);
+        self.demand[s * self.intervals + interval] += n;
+        if let Resupply::ReorderPoint {
+            reorder_point,
+            lead_time_s,
+            ..
+        } = plan.resupply
+        {
+            if self.stock[s] <= reorder_point && !self.order_outstanding[s] {
+                self.order_outstanding[s] = true;
+                self.queue
+                    .push(t + lead_time_s, EventKind::Resupply { station });
+            }
+        }
+    }
+
+    /// Schedule the climber-load events of a climber moving from altitude `from_m` (leaving at
+    /// `t0_s`) to `to_m`: a `ClimberIn` when it crosses into a bay, a `ClimberOut` when it
+    /// crosses out. `from_station`: it starts at a station (not yet on any bay: the first bay
+    /// gets a `ClimberIn` at `t0_s`); otherwise it is already in the bay holding `from_m`.
+    /// `to_station`: it ends at a station (the last bay gets a `ClimberOut` on arrival);
+    /// otherwise it stays in the bay holding `to_m`. Only bays where climbers can add load are
+    /// listed (nothing is scheduled without climber loads).
+    fn push_leg(
+        &mut self,
+        plan: &RepairPlan,
+        t0_s: f64,
+        from_m: f64,
+        to_m: f64,
+        from_station: bool,
+        to_station: bool,
+    ) {
+        if plan.load_bays.is_empty() {
+            return;
+        }
+        let up = to_m >= from_m;
+        let speed = if up {
+            plan.speed_up_m_per_s
+        } else {
+            plan.speed_down_m_per_s
+        };
+        let (lo, hi) = if up { (from_m, to_m) } else { (to_m, from_m) };
+        // Bays overlapping [lo, hi] (touching at a point counts for the end bays only).
+        let first = plan.bay_top_m.partition_point(|&top| top <= lo);
+        let last = plan
+            .bay_bottom_m
+            .partition_point(|&b| b < hi)
+            .max(first + 1)
+            .min(plan.bay_top_m.len());
+        let n_bays = last.saturating_sub(first);
+        for k in 0..n_bays {
+            let j = if up { first + k } else { last - 1 - k };
+            let is_first = k == 0;
+            let is_last = k + 1 == n_bays;
+            if !plan.load_bays[j] {
+                continue;
+            }
+            let (enter_m, leave_m) = if up {
+                (
+                    plan.bay_bottom_m[j].max(from_m),
+                    plan.bay_top_m[j].min(to_m),
+                )
+            } else {
+                (
+                    plan.bay_top_m[j].min(from_m),
+                    plan.bay_bottom_m[j].max(to_m),
+                )
+            };
+            if !is_first || from_station {
+                let t = t0_s + (enter_m - from_m).abs() / speed;
+                self.queue.push(t, EventKind::ClimberIn { bay: j as u32 });
+            }
+            if !is_last || to_station {
+                let t = t0_s + (leave_m - from_m).abs() / speed;
+                self.queue.push(t, EventKind::ClimberOut { bay: j as u32 });
             }
         }
     }
@@ -405,6 +553,14 @@ impl Fleet {
                 self.jobs.swap_remove(k);
             }
             self.busy -= t;
+            self.push_leg(
+                plan,
+                t + plan.turnaround_s,
+                plan.stations[s].altitude_m,
+                plan.bay_altitude_m[bay],
+                true,
+                false,
+            );
             self.queue.push(
                 t + plan.turnaround_s + travel,
                 EventKind::Arrive {
@@ -443,7 +599,107 @@ impl Fleet {
     /// Splicing done: send the climber home.
     pub fn on_splice_done(&mut self, plan: &RepairPlan, station: u32, bay: u32, t: f64) {
         let back = plan.travel_back_s(station as usize, bay as usize);
+        self.push_leg(
+            plan,
+            t,
+            plan.bay_altitude_m[bay as usize],
+            plan.stations[station as usize].altitude_m,
+            false,
+            true,
+        );
         self.queue.push(t + back, EventKind::Return { station });
+    }
+
+    /// A periodic inspection is due at `t`: schedule the next one and send an idle climber
+    /// from the station nearest the inspected bays (none idle: skipped and counted). It sweeps
+    /// the inspected bays from the end nearer its station, stopping at each bay's middle.
+    pub fn on_inspection_due(&mut self, plan: &RepairPlan, t: f64, tally: &mut RepairTally) {
+        let Some(p) = plan.preventive.as_ref() else {
+            return;
+        };
+        if let Some(every) = p.interval_s {
+            self.queue.push(t + every, EventKind::InspectionDue);
+        }
+        if p.inspect_bays == 0 {
+            return;
+        }
+        let lo_mid = plan.bay_altitude_m[0];
+        let hi_mid = plan.bay_altitude_m[p.inspect_bays - 1];
+        let centre = 0.5 * (lo_mid + hi_mid);
+        let mut best: Option<(usize, f64)> = None;
+        for s in 0..plan.stations.len() {
+            if self.idle[s] == 0 {
+                continue;
+            }
+            let d = (plan.stations[s].altitude_m - centre).abs();
+            if best.is_none_or(|(_, b)| d < b) {
+                best = Some((s, d));
+            }
+        }
+        let Some((s, _)) = best else {
+            tally.inspections_skipped += 1;
+            return;
+        };
+        tally.inspections += 1;
+        self.idle[s] -= 1;
+        self.busy -= t;
+        let a = plan.stations[s].altitude_m;
+        let up = a <= centre;
+        let first = if up { 0 } else { p.inspect_bays - 1 };
+        let start = t + plan.turnaround_s;
+        let target = plan.bay_altitude_m[first];
+        self.push_leg(plan, start, a, target, true, false);
+        let travel = plan.travel_out_s(s, first);
+        self.queue.push(
+            start + travel,
+            EventKind::InspectStep {
+                station: s as u32,
+                bay: first as u32,
+                up,
+                spares: p.inspection_spares,
+            },
+        );
+    }
+
+    /// An inspection step is finished at `t` (after any replacements): go on to the next bay
+    /// of the sweep, or home.
+    pub fn on_inspect_step_done(
+        &mut self,
+        plan: &RepairPlan,
+        station: u32,
+        bay: u32,
+        up: bool,
+        spares: u32,
+        t: f64,
+    ) {
+        let k = plan.preventive.as_ref().map_or(0, |p| p.inspect_bays);
+        let j = bay as usize;
+        let next = if up {
+            (j + 1 < k).then_some(j + 1)
+        } else {
+            j.checked_sub(1)
+        };
+        match next {
+            Some(nj) => {
+                let (a, b) = (plan.bay_altitude_m[j], plan.bay_altitude_m[nj]);
+                self.push_leg(plan, t, a, b, false, false);
+                let speed = if b >= a {
+                    plan.speed_up_m_per_s
+                } else {
+                    plan.speed_down_m_per_s
+                };
+                self.queue.push(
+                    t + (b - a).abs() / speed,
+                    EventKind::InspectStep {
+                        station,
+                        bay: nj as u32,
+                        up,
+                        spares,
+                    },
+                );
+            }
+            None => self.on_splice_done(plan, station, bay, t),
+        }
     }
 
     /// The climber is home and free.

@@ -24,7 +24,9 @@ mod fleet;
 pub use dispatch::{DispatchPolicy, FirstCome, Job, MostEndangered};
 pub use fleet::{Event, EventKind, EventQueue, Fleet, RepairTally};
 
-use crate::scenario::{DetectionSpec, DispatchSpec, RepairSettings, ResupplySpec};
+use crate::scenario::{
+    DetectionSpec, DispatchSpec, RepairSettings, ReplacementThresholdSpec, ResupplySpec,
+};
 use crate::structure::TetherProfile;
 
 /// How cuts are detected.
@@ -101,6 +103,31 @@ pub struct RepairPlan {
     pub bay_margin: Vec<f64>,
     /// Interval over which spare demand is counted, s (resupply interval, or the mission).
     pub demand_interval_s: f64,
+    /// Bays where climbers can add load (empty without climber loads: no load events).
+    pub load_bays: Vec<bool>,
+    /// Bottom altitude of bay j, m.
+    pub bay_bottom_m: Vec<f64>,
+    /// Top altitude of bay j, m.
+    pub bay_top_m: Vec<f64>,
+    /// Inspection and preventive replacement, if any.
+    pub preventive: Option<PreventivePlan>,
+}
+
+/// Inspection and preventive replacement as the fleet and the engine need it.
+#[derive(Clone, Debug, PartialEq)]
+pub struct PreventivePlan {
+    /// The threshold.
+    pub threshold: ReplacementThresholdSpec,
+    /// Inspect at repair visits.
+    pub at_visits: bool,
+    /// Extra spares a repair climber may use at a visit.
+    pub extra_spares: u32,
+    /// Periodic inspection interval, s.
+    pub interval_s: Option<f64>,
+    /// Periodic inspections cover bays 0..inspect_bays.
+    pub inspect_bays: usize,
+    /// Spares an inspection climber takes.
+    pub inspection_spares: u32,
 }
 
 impl RepairPlan {
@@ -170,6 +197,19 @@ impl RepairPlan {
             bay_altitude_m: profile.bays.iter().map(|b| b.mid_altitude_m()).collect(),
             bay_margin: (0..profile.bays.len()).map(|j| profile.margin(j)).collect(),
             demand_interval_s,
+            load_bays: Vec::new(),
+            bay_bottom_m: profile.bays.iter().map(|b| b.bottom_altitude_m).collect(),
+            bay_top_m: profile.bays.iter().map(|b| b.top_altitude_m).collect(),
+            preventive: r.preventive.as_ref().map(|p| PreventivePlan {
+                threshold: p.threshold,
+                at_visits: p.at_climber_visits,
+                extra_spares: p.extra_spares_per_trip,
+                interval_s: p.inspection_interval_s,
+                inspect_bays: profile
+                    .bays
+                    .partition_point(|b| b.bottom_altitude_m < p.inspection_lowest_m),
+                inspection_spares: p.inspection_spares,
+            }),
         }
     }
 

@@ -892,11 +892,11 @@ fn answer_sentence(folder: &RunFolder) -> String {
             lp.unresolved_reason.as_deref().unwrap_or("too few effective losses")
         ),
     };
-    let total = c.direct_cut + c.cascade + c.stockout_delay;
+    let total = c.direct_cut + c.cascade + c.stockout_delay + c.climber_load;
     if total > 0 {
         o.push_str(&format!(
-            "Of the {total} losses seen, {} were cascades (survivors overloaded after a cut), {} direct cuts and {} losses while waiting for spare stock. ",
-            c.cascade, c.direct_cut, c.stockout_delay
+            "Of the {total} losses seen, {} were cascades (survivors overloaded after a cut), {} direct cuts, {} losses while waiting for spare stock and {} caused by a climber's weight arriving on a weakened bay. ",
+            c.cascade, c.direct_cut, c.stockout_delay, c.climber_load
         ));
     } else {
         o.push_str("No loss was seen: the upper bound is what these histories can rule out. ");

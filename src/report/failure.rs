@@ -349,7 +349,7 @@ pub fn cause_table(s: &RunSummary) -> DualTable {
     let conf = s.loss_probability.confidence;
     let n = s.histories;
     let c = &s.losses_by_cause;
-    let total = c.direct_cut + c.cascade + c.stockout_delay;
+    let total = c.direct_cut + c.cascade + c.stockout_delay + c.climber_load;
     let basis = if s.rare_event.is_some() {
         "biased-measure counts"
     } else {
@@ -383,6 +383,10 @@ pub fn cause_table(s: &RunSummary) -> DualTable {
         (
             "stock-out delay (repair waited for spare stock)",
             c.stockout_delay,
+        ),
+        (
+            "climber load (a climber's weight overloaded a weakened bay)",
+            c.climber_load,
         ),
         ("all causes", total),
     ];

@@ -117,10 +117,11 @@ pub fn run_text(s: &RunSummary) -> String {
         sig(s.mean_cuts, 4)
     ));
     o.push_str(&format!(
-        "Losses by cause: {} direct cut, {} cascade, {} while waiting for spare stock; {} of cuts came from load redistribution\n",
+        "Losses by cause: {} direct cut, {} cascade, {} while waiting for spare stock, {} climber load; {} of cuts came from load redistribution\n",
         s.losses_by_cause.direct_cut,
         s.losses_by_cause.cascade,
         s.losses_by_cause.stockout_delay,
+        s.losses_by_cause.climber_load,
         pct(s.cascade_cut_fraction)
     ));
     o.push_str(&format!(
@@ -150,6 +151,20 @@ pub fn run_text(s: &RunSummary) -> String {
             sig(r.queue.arrival_rate_per_hour, 3),
             sig(r.queue.mean_wait_hours, 3)
         ));
+        if let Some(p) = &r.preventive {
+            o.push_str(&format!(
+                "  preventive replacement: {} segments replaced ({} at repair visits, {} at periodic inspections; {} per history), {} spares used in all (splices + preventive), {} qualifying segments left for want of a spare; {} bays inspected, {} periodic inspections ({} skipped: no idle climber)\n",
+                p.segments_replaced,
+                p.replaced_at_visits,
+                p.replaced_at_inspections,
+                sig(p.replaced_per_history, 3),
+                p.spares_used,
+                p.short_of_spares,
+                p.bays_inspected,
+                p.inspections,
+                p.inspections_skipped
+            ));
+        }
         o.push_str(&terminal_stock_table(r, sp, s.loss_probability.confidence).to_text());
         o.push_str(&format!(
             "  recommended initial stock: smallest stock whose chance of being exceeded by one interval's demand is below {}\n\n",

@@ -418,6 +418,13 @@ pub struct ClimberSpec {
     /// given, trade studies report the fleet cost (climbers x unit cost) beside its mass.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub unit_cost: Option<f64>,
+    /// Whether a climber's weight loads the bays it is in while travelling and splicing
+    /// (the excess of the weight over `tether.traffic_load_n`, which the design tension already
+    /// carries everywhere). Default false for now (see the README: it moves the demo's answer
+    /// about 80x on unsourced assumptions, and the strike-by-strike reference sampler cannot
+    /// check it at practical cost); `check` warns whenever the envelope is below the weight.
+    #[serde(default)]
+    pub load_on_bays: bool,
 }
 
 fn default_climber_mass() -> f64 {
@@ -495,6 +502,62 @@ pub struct RepairSpec {
     /// Dispatch policy.
     #[serde(default = "default_dispatch")]
     pub dispatch: DispatchSpec,
+    /// Inspection and preventive replacement of holed intact segments (none by default).
+    #[serde(default)]
+    pub preventive_replacement: Option<PreventiveReplacementSpec>,
+}
+
+/// When a holed intact segment counts as worth replacing before it is cut.
+#[derive(Clone, Copy, Debug, Serialize, Deserialize, PartialEq)]
+#[serde(tag = "kind", rename_all = "snake_case", deny_unknown_fields)]
+pub enum ReplacementThresholdSpec {
+    /// Worst hole at least this fraction of the ribbon width.
+    FractionOfWidth {
+        /// Threshold / ribbon width, dimensionless, in [0, 1].
+        fraction: f64,
+    },
+    /// Worst hole at least this fraction of the critical width the segment would have with one
+    /// more ribbon of its bay cut (the next cut level; equal sharing of the bay's tension).
+    FractionOfNextCritical {
+        /// Threshold / critical width at the next cut level, dimensionless, >= 0.
+        fraction: f64,
+    },
+}
+
+/// Inspection and preventive replacement: an intact segment whose worst hole is at least the
+/// threshold is replaced with a spare, at every climber visit to a bay, at periodic
+/// inspections of the lowest bays, or both.
+#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+#[serde(deny_unknown_fields)]
+pub struct PreventiveReplacementSpec {
+    /// The replacement threshold.
+    pub threshold: ReplacementThresholdSpec,
+    /// Inspect the bay a repair climber splices, after splicing.
+    #[serde(default = "yes")]
+    pub at_climber_visits: bool,
+    /// Extra spare segments a repair climber takes beyond the cuts it is sent for (within its
+    /// capacity and the station's stock); unused ones return to stock.
+    #[serde(default = "default_extra_spares")]
+    pub extra_spares_per_trip: u32,
+    /// Time between periodic inspections, days (none when absent).
+    #[serde(default)]
+    pub inspection_interval_days: Option<f64>,
+    /// Periodic inspections cover the bays whose bottom lies below this altitude, km.
+    #[serde(default = "default_inspection_km")]
+    pub inspection_lowest_km: f64,
+    /// Spare segments an inspection climber takes (within capacity and stock).
+    #[serde(default = "default_inspection_spares")]
+    pub inspection_spares: u32,
+}
+
+fn default_extra_spares() -> u32 {
+    2
+}
+fn default_inspection_km() -> f64 {
+    500.0
+}
+fn default_inspection_spares() -> u32 {
+    6
 }
 
 /// The run section.

@@ -117,6 +117,27 @@ pub struct RepairSettings {
     pub resupply: ResupplySpec,
     /// Dispatch policy.
     pub dispatch: DispatchSpec,
+    /// Climber weights load the bays they are in (`repair.climber.load_on_bays`).
+    pub climber_load_on_bays: bool,
+    /// Inspection and preventive replacement, if any.
+    pub preventive: Option<PreventiveSettings>,
+}
+
+/// Inspection and preventive replacement in SI units.
+#[derive(Clone, Debug, PartialEq)]
+pub struct PreventiveSettings {
+    /// The threshold as written (fractions are dimensionless).
+    pub threshold: ReplacementThresholdSpec,
+    /// Inspect at every repair climber's visit to its bay.
+    pub at_climber_visits: bool,
+    /// Extra spares a repair climber takes.
+    pub extra_spares_per_trip: u32,
+    /// Periodic inspection interval, s (none when absent).
+    pub inspection_interval_s: Option<f64>,
+    /// Periodic inspections cover bays whose bottom is below this altitude, m.
+    pub inspection_lowest_m: f64,
+    /// Spares an inspection climber takes.
+    pub inspection_spares: u32,
 }
 
 /// The run section in SI units.
@@ -871,6 +892,10 @@ fn validate_repair(r: &RepairSpec, top_altitude_m: f64) -> Result<RepairSettings
             )?;
         }
     }
+    let preventive = match &r.preventive_replacement {
+        None => None,
+        Some(p) => Some(validate_preventive(p, top_altitude_m)?),
+    };
     Ok(RepairSettings {
         stations,
         speed_up_m_per_s: up,
@@ -882,6 +907,77 @@ fn validate_repair(r: &RepairSpec, top_altitude_m: f64) -> Result<RepairSettings
         detection: r.detection.clone(),
         resupply: r.resupply.clone(),
         dispatch: r.dispatch,
+        climber_load_on_bays: c.load_on_bays,
+        preventive,
+    })
+}
+
+fn validate_preventive(
+    p: &PreventiveReplacementSpec,
+    top_altitude_m: f64,
+) -> Result<PreventiveSettings, ScenarioError> {
+    let q = "repair.preventive_replacement";
+    match p.threshold {
+        ReplacementThresholdSpec::FractionOfWidth { fraction } => {
+            check(
+                &format!("{q}.threshold.fraction"),
+                fraction,
+                Range::closed(0.0, 1.0),
+                "of the ribbon width",
+                "0 replaces every visited segment with any hole; 1 replaces only fully cut-through widths",
+            )?;
+        }
+        ReplacementThresholdSpec::FractionOfNextCritical { fraction } => {
+            check(
+                &format!("{q}.threshold.fraction"),
+                fraction,
+                Range::closed(0.0, 1e3),
+                "of the critical width at the next cut level",
+                "at or above 1 nothing sub-critical at the next cut level is replaced",
+            )?;
+        }
+    }
+    check_count(
+        &format!("{q}.extra_spares_per_trip"),
+        u64::from(p.extra_spares_per_trip),
+        0,
+        1_000,
+        "segments",
+    )?;
+    check_count(
+        &format!("{q}.inspection_spares"),
+        u64::from(p.inspection_spares),
+        0,
+        1_000,
+        "segments",
+    )?;
+    let interval = match p.inspection_interval_days {
+        None => None,
+        Some(d) => Some(
+            check(
+                &format!("{q}.inspection_interval_days"),
+                d,
+                Range::closed(1.0, 1e5),
+                "d",
+                "at most one inspection a day",
+            )? * 86_400.0,
+        ),
+    };
+    let top_km = top_altitude_m / 1e3;
+    let lowest = check(
+        &format!("{q}.inspection_lowest_km"),
+        p.inspection_lowest_km,
+        Range::open_closed(0.0, top_km.max(1e-3)),
+        "km",
+        "altitude up to which periodic inspections look at the bays",
+    )?;
+    Ok(PreventiveSettings {
+        threshold: p.threshold,
+        at_climber_visits: p.at_climber_visits,
+        extra_spares_per_trip: p.extra_spares_per_trip,
+        inspection_interval_s: interval,
+        inspection_lowest_m: lowest * 1e3,
+        inspection_spares: p.inspection_spares,
     })
 }
 

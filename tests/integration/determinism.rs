@@ -234,10 +234,10 @@ fn reduce(s: &Value) -> String {
     }
     let c = &s["losses_by_cause"];
     line(
-        "losses_by_cause direct/cascade/stockout",
+        "losses_by_cause direct/cascade/stockout/climber_load",
         format!(
-            "{} {} {}",
-            c["direct_cut"], c["cascade"], c["stockout_delay"]
+            "{} {} {} {}",
+            c["direct_cut"], c["cascade"], c["stockout_delay"], c["climber_load"]
         ),
     );
     for k in [

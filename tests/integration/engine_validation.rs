@@ -541,7 +541,7 @@ fn first_cut_cascades_when_the_survivor_cannot_carry_the_bay() {
     let tally = run(&model, n, 21, 2);
     assert_within_3_se(tally.losses, n, p, "cascade");
     assert!(tally.losses > 0);
-    assert_eq!(tally.losses_by_cause, [0, tally.losses, 0]);
+    assert_eq!(tally.losses_by_cause, [0, tally.losses, 0, 0]);
     assert_eq!(tally.cuts, 2 * tally.losses);
     assert_eq!(tally.cascade_cuts, tally.losses);
 
@@ -590,7 +590,7 @@ fn first_cut_does_not_cascade_when_the_survivor_carries_the_bay() {
     let tally = run(&model, n, 22, 2);
     assert_within_3_se(tally.losses, n, p, "no cascade");
     assert!(tally.losses > 0);
-    assert_eq!(tally.losses_by_cause, [tally.losses, 0, 0]);
+    assert_eq!(tally.losses_by_cause, [tally.losses, 0, 0, 0]);
     assert_eq!(tally.cascade_cuts, 0);
     assert!(
         tally.cuts > 2 * tally.losses,

@@ -14,6 +14,7 @@ mod issue13;
 mod issue14_reports;
 mod ondemand;
 mod physics;
+mod policy;
 mod rare_event;
 mod repair;
 mod report;
