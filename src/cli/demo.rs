@@ -107,7 +107,7 @@ fn sweep_spacing(
         "tether.ribbon_count=4,6",
     ])?;
     let settings = SweepSettings {
-        histories: Some(5_000),
+        histories: Some(20_000),
         seed: None,
         threads,
         rare_event_factor: 1.0,

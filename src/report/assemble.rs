@@ -98,6 +98,21 @@ pub struct EstimateView {
     /// The assumptions behind the number.
     #[serde(default)]
     pub assumptions: Vec<String>,
+    /// The damage-memory estimate (absent in older files and where it does not apply).
+    #[serde(default)]
+    pub damage_memory: Option<DamageMemoryView>,
+}
+
+/// The damage-memory part of estimate.json.
+#[derive(Clone, Debug, Deserialize, PartialEq)]
+pub struct DamageMemoryView {
+    /// Exact (no repair) or an approximation (with repair).
+    pub exact: bool,
+    /// System loss probability by mission end.
+    pub loss_probability: f64,
+    /// Which mechanism dominates (`latent damage` or `direct cuts`).
+    #[serde(default)]
+    pub dominant_mechanism: String,
 }
 
 /// One year of the Markov estimate.
@@ -833,6 +848,38 @@ fn key_section(folder: &RunFolder) -> Section {
         } else {
             "Markov estimate is 0".into()
         };
+        if let Some(d) = e
+            .damage_memory
+            .as_ref()
+            .filter(|d| d.loss_probability.is_finite() && (0.0..=1.0).contains(&d.loss_probability))
+        {
+            let agree = match (lp.ci_low, lp.ci_high) {
+                (Some(lo), Some(hi)) if lp.estimate > 0.0 => {
+                    if (lo..=hi).contains(&d.loss_probability) {
+                        "inside the Monte Carlo interval".to_string()
+                    } else {
+                        format!(
+                            "outside the Monte Carlo interval (Monte Carlo / estimate = {})",
+                            sig(lp.estimate / d.loss_probability.max(f64::MIN_POSITIVE), 2)
+                        )
+                    }
+                }
+                _ => "no resolved Monte Carlo interval to compare with".into(),
+            };
+            cards.push(KeyNumber {
+                label: format!("Fast damage-memory estimate, {years} years"),
+                value: sig(d.loss_probability, 2),
+                note: format!(
+                    "{agree}; remembers each segment's worst hole ({}); dominant mechanism: {}",
+                    if d.exact {
+                        "exact without repair"
+                    } else {
+                        "approximation with repair"
+                    },
+                    d.dominant_mechanism
+                ),
+            });
+        }
         cards.push(KeyNumber {
             label: format!("Fast Markov estimate, {years} years"),
             value: sig(e.loss_probability, 2),
@@ -900,6 +947,18 @@ fn answer_sentence(folder: &RunFolder) -> String {
         ));
     } else {
         o.push_str("No loss was seen: the upper bound is what these histories can rule out. ");
+    }
+    if let Some(d) = folder
+        .estimate
+        .as_ref()
+        .and_then(|e| e.damage_memory.as_ref())
+    {
+        o.push_str(&format!(
+            "The fast damage-memory estimate, which remembers each segment's worst hole ({}), gives {}; dominant mechanism: {}. ",
+            if d.exact { "exact without repair" } else { "an approximation with repair" },
+            sig(d.loss_probability, 2),
+            d.dominant_mechanism
+        ));
     }
     if let Some(e) = &folder.estimate {
         if e.loss_probability > 0.0 && lp.estimate > 0.0 {
