@@ -356,6 +356,12 @@ impl Fleet {
         self.stock[s] -= n;
         let interval = ((t / plan.demand_interval_s) as usize).min(self.intervals - 1);
         self.demand[s * self.intervals + interval] += n;
+        self.reorder_if_low(plan, s, t);
+    }
+
+    /// Under a reorder-point policy, order a delivery for station `s` when its stock has
+    /// fallen to the reorder point and no order is outstanding.
+    fn reorder_if_low(&mut self, plan: &RepairPlan, s: usize, t: f64) {
         if let Resupply::ReorderPoint {
             reorder_point,
             lead_time_s,
@@ -365,7 +371,7 @@ impl Fleet {
             if self.stock[s] <= reorder_point && !self.order_outstanding[s] {
                 self.order_outstanding[s] = true;
                 self.queue
-                    .push(t + lead_time_s, EventKind::Resupply { station });
+                    .push(t + lead_time_s, EventKind::Resupply { station: s as u32 });
             }
         }
     }
@@ -569,18 +575,7 @@ impl Fleet {
                     segments: n,
                 },
             );
-            if let Resupply::ReorderPoint {
-                reorder_point,
-                lead_time_s,
-                ..
-            } = plan.resupply
-            {
-                if self.stock[s] <= reorder_point && !self.order_outstanding[s] {
-                    self.order_outstanding[s] = true;
-                    self.queue
-                        .push(t + lead_time_s, EventKind::Resupply { station: s as u32 });
-                }
-            }
+            self.reorder_if_low(plan, s, t);
         }
     }
 

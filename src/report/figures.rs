@@ -325,7 +325,7 @@ pub fn spare_figures(s: &RunSummary) -> Result<Vec<NamedFigure>, FigureError> {
         let spec = ChartSpec::new(
             format!("How many spare segments does station '{}' use?", d.station),
             "Spare segments drawn over the whole mission (segments)",
-            "Probability (-)",
+            "Probability of drawing that many",
         );
         let caption = format!(
             "Station '{}': probability of drawing each number of spare segments over the mission ({} histories; mean {}). The recommended initial stock is the smallest stock that one {}-day demand interval exceeds with probability below {:.0} %; demand beyond it is met by resupply.",

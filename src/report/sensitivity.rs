@@ -227,7 +227,7 @@ pub fn sensitivity_figure(s: &SensitivityResult) -> Result<Figure, PlotError> {
         .collect();
     let spec = ChartSpec::new(
         "Which assumption decides the answer? Loss probability at each input's low and high end",
-        "Probability of system loss by mission end (-, log scale); vertical line: base",
+        "Probability of system loss by mission end, log scale; vertical line: base",
         "",
     )
     .with_size_px(1100, (160 + 60 * rows.len() as u32).clamp(400, 2000));

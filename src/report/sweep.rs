@@ -650,7 +650,7 @@ pub fn heatmap_figures(r: &SweepResult) -> Result<Vec<(String, Figure)>, PlotErr
             x_labels: x.labels.clone(),
             y_labels: y_labels.clone(),
             z,
-            z_label: "Loss probability (-)".into(),
+            z_label: "Loss probability by mission end".into(),
         };
         let spec = ChartSpec::new(title, x.path.clone(), y_name.clone());
         let stem = if k == 0 {
@@ -699,7 +699,7 @@ pub fn pareto_figure(r: &SweepResult) -> Result<Figure, PlotError> {
             names.join("/")
         ),
         "Total mass: ribbons + cross-links + spares + climbers + counterweight (kg)",
-        "Probability of system loss by mission end (-)",
+        "Probability of system loss by mission end",
     );
     pareto_chart(&pts, &spec)
 }

@@ -128,24 +128,8 @@ fn no_repair_agrees_with_plain_monte_carlo_near_1e_minus_2() {
         .system_loss_probability
         .last()
         .unwrap();
-    let engine = Engine::new(&model, 1.0).unwrap();
     let n = 20_000;
-    let opts = RunOptions {
-        histories: n,
-        seed: 41,
-        threads: 2,
-        floor_fraction: 1.0,
-        shard: None,
-        target_rel_error: None,
-    };
-    let s = RunSummary::from_tally(
-        &engine,
-        engine.run(&opts, &|_| {}).unwrap(),
-        n,
-        41,
-        None,
-        0.05,
-    );
+    let s = run_summary(&Engine::new(&model, 1.0).unwrap(), n, 41);
     let mc = s.loss_probability.estimate;
     let se = (mc * (1.0 - mc) / n as f64).sqrt();
     assert!(
@@ -154,12 +138,8 @@ fn no_repair_agrees_with_plain_monte_carlo_near_1e_minus_2() {
     );
 }
 
-/// A weighted run of the latent-damage importance sampling (`Engine::with_latent_bias`).
-fn latent_biased(model: &tether_risk::model::Model, p: f64, n: u64, seed: u64) -> RunSummary {
-    let engine = Engine::new(model, 1.0)
-        .unwrap()
-        .with_latent_bias(p)
-        .unwrap();
+/// `n` histories of `engine` from `seed`, summarised (two threads; results do not depend on it).
+fn run_summary(engine: &Engine, n: u64, seed: u64) -> RunSummary {
     let opts = RunOptions {
         histories: n,
         seed,
@@ -169,13 +149,22 @@ fn latent_biased(model: &tether_risk::model::Model, p: f64, n: u64, seed: u64) -
         target_rel_error: None,
     };
     RunSummary::from_tally(
-        &engine,
+        engine,
         engine.run(&opts, &|_| {}).unwrap(),
         n,
         seed,
         None,
         0.05,
     )
+}
+
+/// A weighted run of the latent-damage importance sampling (`Engine::with_latent_bias`).
+fn latent_biased(model: &tether_risk::model::Model, p: f64, n: u64, seed: u64) -> RunSummary {
+    let engine = Engine::new(model, 1.0)
+        .unwrap()
+        .with_latent_bias(p)
+        .unwrap();
+    run_summary(&engine, n, seed)
 }
 
 #[test]
