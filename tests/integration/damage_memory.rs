@@ -122,12 +122,7 @@ fn no_repair_agrees_with_plain_monte_carlo_near_1e_minus_2() {
     // The physical engine (strikes, worst holes, equal-sharing cascades) with no repair: the
     // exact damage-memory answer must lie within 3 standard errors of plain Monte Carlo.
     let model = model_of(&no_repair(2.0, 15.0));
-    let times = mission_times_s(&model.scenario.run);
-    let p = *solve(&model, &times)
-        .unwrap()
-        .system_loss_probability
-        .last()
-        .unwrap();
+    let p = mission_end_damage_memory(&model);
     let n = 20_000;
     let s = run_summary(&Engine::new(&model, 1.0).unwrap(), n, 41);
     let mc = s.loss_probability.estimate;
@@ -136,6 +131,16 @@ fn no_repair_agrees_with_plain_monte_carlo_near_1e_minus_2() {
         (mc - p).abs() < 3.0 * se,
         "Monte Carlo {mc} +- {se} vs damage-memory {p}"
     );
+}
+
+/// The damage-memory system loss probability at mission end.
+fn mission_end_damage_memory(model: &tether_risk::model::Model) -> f64 {
+    let times = mission_times_s(&model.scenario.run);
+    *solve(model, &times)
+        .unwrap()
+        .system_loss_probability
+        .last()
+        .unwrap()
 }
 
 /// `n` histories of `engine` from `seed`, summarised (two threads; results do not depend on it).
@@ -187,12 +192,7 @@ fn latent_bias_is_unbiased_against_the_exact_damage_memory_answer() {
     // its own standard errors, its interval must be printed only because it is resolved, and
     // it must never carry the exact binomial label.
     let model = model_of(&no_repair(1.0, 15.0));
-    let times = mission_times_s(&model.scenario.run);
-    let p = *solve(&model, &times)
-        .unwrap()
-        .system_loss_probability
-        .last()
-        .unwrap();
+    let p = mission_end_damage_memory(&model);
     let s = latent_biased(&model, 0.3, 100_000, 5);
     let r = s.rare_event.expect("weighted diagnostics");
     let est = r.loss_probability.estimate;
