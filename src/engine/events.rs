@@ -972,13 +972,10 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
         if mixture && open01(&mut self.damage) < p {
             let mut x = unit(&mut self.damage) * big_q;
             let mut before = 1.0;
-            for i in 0..n {
-                if !s.intact[base + i] {
-                    continue;
-                }
+            for i in (0..n).filter(|&i| s.intact[base + i]) {
                 let pi = before * q[i];
-                if x < pi || first_big == usize::MAX && pi > 0.0 {
-                    first_big = i;
+                if pi > 0.0 {
+                    first_big = i; // the last candidate also absorbs rounding in x
                 }
                 if x < pi {
                     break;

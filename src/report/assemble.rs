@@ -221,20 +221,7 @@ impl RunFolder {
     /// the scenario hashes of the folder's files disagree.
     pub fn load_with(dir: &Path, completeness: Completeness) -> Result<Self, ReportError> {
         let path = dir.join("summary.json");
-        let text = match read_capped(&path) {
-            Ok(t) => t,
-            Err(e) if e.kind() == std::io::ErrorKind::NotFound => {
-                return Err(ReportError::NotARunFolder {
-                    dir: dir.to_path_buf(),
-                })
-            }
-            Err(e) => {
-                return Err(ReportError::BadSummary {
-                    path,
-                    reason: e.to_string(),
-                })
-            }
-        };
+        let text = read_main_file(dir, &path)?;
         let summary: RunSummary =
             serde_json::from_str(&text).map_err(|e| ReportError::BadSummary {
                 path: path.clone(),
@@ -500,6 +487,23 @@ pub fn write_report_with(
     })
 }
 
+/// Read the file that makes `dir` a folder of its kind (`summary.json`, `sweep.json`), size
+/// capped: absent means not such a folder, unreadable means a bad summary.
+fn read_main_file(dir: &Path, path: &Path) -> Result<String, ReportError> {
+    read_capped(path).map_err(|e| {
+        if e.kind() == std::io::ErrorKind::NotFound {
+            ReportError::NotARunFolder {
+                dir: dir.to_path_buf(),
+            }
+        } else {
+            ReportError::BadSummary {
+                path: path.to_path_buf(),
+                reason: e.to_string(),
+            }
+        }
+    })
+}
+
 /// Render `report.html` of a sweep folder (one written by `tether-risk sweep`) from its
 /// `sweep.json`, `heatmap.svg` and `pareto.svg`.
 ///
@@ -508,20 +512,7 @@ pub fn write_report_with(
 /// not a trade study of this version or is inconsistent.
 pub fn write_sweep_report(dir: &Path) -> Result<ReportWritten, ReportError> {
     let path = dir.join("sweep.json");
-    let text = match read_capped(&path) {
-        Ok(t) => t,
-        Err(e) if e.kind() == std::io::ErrorKind::NotFound => {
-            return Err(ReportError::NotARunFolder {
-                dir: dir.to_path_buf(),
-            })
-        }
-        Err(e) => {
-            return Err(ReportError::BadSummary {
-                path,
-                reason: e.to_string(),
-            })
-        }
-    };
+    let text = read_main_file(dir, &path)?;
     let r: crate::sweep::SweepResult =
         serde_json::from_str(&text).map_err(|e| ReportError::BadSummary {
             path: path.clone(),
