@@ -2,7 +2,7 @@
 
 use std::path::{Path, PathBuf};
 use std::sync::atomic::AtomicBool;
-use std::time::Instant;
+use std::time::{Duration, Instant};
 
 use serde::{Deserialize, Serialize};
 use tether_risk::engine::{
@@ -438,7 +438,80 @@ pub fn engine_for<'m>(model: &'m Model, s: &RunSettingsFile) -> anyhow::Result<E
         .map_err(|e| InputError(e.to_string()))?)
 }
 
-/// Run (or continue) a simulation and write its folder; returns the summary.
+/// The second variant of a paired preventive-replacement comparison.
+pub enum PolicyArm<'a> {
+    /// The run's scenario has a policy: compare with the same design without it.
+    WithoutScenarioPolicy,
+    /// The run's design without a policy: compare with this model (the same design plus one).
+    WithPolicy(&'a Model),
+}
+
+/// Run the paired policy comparison of a finished whole run (module [`tether_risk::engine`]
+/// `paired`): the same histories with and without the policy, history by history.
+fn policy_effect(
+    model: &Model,
+    s: &RunSettingsFile,
+    threads: usize,
+    arm: &PolicyArm<'_>,
+    stop: Option<&AtomicBool>,
+) -> anyhow::Result<tether_risk::engine::PolicyEffect> {
+    use tether_risk::engine::PolicyEffect;
+    let opts = RunOptions {
+        histories: s.histories,
+        seed: s.seed,
+        threads,
+        floor_fraction: s.floor_fraction,
+        shard: None,
+        target_rel_error: None,
+    };
+    let describe = |m: &Model| {
+        m.scenario
+            .repair
+            .as_ref()
+            .and_then(|r| r.preventive.as_ref())
+            .map(|p| p.describe())
+    };
+    let base = engine_for(model, s)?;
+    let (with, without, policy, run_has_policy) = match arm {
+        PolicyArm::WithoutScenarioPolicy => {
+            let policy = describe(model).ok_or_else(|| {
+                InputError(
+                    "--compare-policy needs a repair.preventive_replacement section in the scenario"
+                        .into(),
+                )
+            })?;
+            (
+                base,
+                engine_for(model, s)?.without_preventive_policy(),
+                policy,
+                true,
+            )
+        }
+        PolicyArm::WithPolicy(m) => {
+            let policy = describe(m).ok_or_else(|| {
+                anyhow::anyhow!("the comparison design has no preventive-replacement policy")
+            })?;
+            (engine_for(m, s)?, base, policy, false)
+        }
+    };
+    let bar = indicatif::ProgressBar::new_spinner();
+    bar.set_message("paired run with and without the preventive-replacement policy");
+    bar.enable_steady_tick(Duration::from_millis(200));
+    let out = with.run_paired(&without, &opts, stop);
+    bar.finish_and_clear();
+    let out = out?;
+    Ok(PolicyEffect::from_paired(
+        policy,
+        run_has_policy,
+        s.seed,
+        &out,
+        model.scenario.run.confidence,
+    )?)
+}
+
+/// Run (or continue) a simulation and write its folder; returns the summary. With `compare`,
+/// a finished whole run also runs the paired policy comparison and keeps it in its summary.
+#[allow(clippy::too_many_arguments)]
 pub fn execute(
     model: &Model,
     s: &RunSettingsFile,
@@ -447,6 +520,7 @@ pub fn execute(
     start: Option<Checkpoint>,
     stop: Option<&AtomicBool>,
     force: bool,
+    compare: Option<PolicyArm<'_>>,
 ) -> anyhow::Result<RunSummary> {
     let engine = engine_for(model, s)?;
     // A run with a target error stops when it is met; its history count is only a ceiling.
@@ -481,7 +555,7 @@ pub fn execute(
     let started = Instant::now();
     let outcome = engine.run_resumable(&opts, start, &|done| bar.set_position(done), stop)?;
     bar.finish_and_clear();
-    let summary = RunSummary::from_outcome(
+    let mut summary = RunSummary::from_outcome(
         &engine,
         outcome.tally.clone(),
         s.histories,
@@ -491,6 +565,23 @@ pub fn execute(
         outcome.status,
         s.target_rel_error,
     );
+    if let Some(arm) = &compare {
+        if summary.status != RunStatus::Interrupted && s.shard.is_none() {
+            match policy_effect(model, s, threads, arm, stop) {
+                Ok(e) => summary.policy_effect = Some(e),
+                // Stopped during the comparison: the run's own results are kept without it.
+                Err(e)
+                    if e.downcast_ref::<tether_risk::engine::EngineError>()
+                        .is_some_and(|e| {
+                            matches!(e, tether_risk::engine::EngineError::Interrupted)
+                        }) =>
+                {
+                    eprintln!("stopped during the policy comparison: the run's results are kept without it");
+                }
+                Err(e) => return Err(e),
+            }
+        }
+    }
     let manifest = Manifest {
         tool: "tether-risk".into(),
         version: tether_risk::VERSION.into(),
@@ -562,67 +653,6 @@ pub fn execute(
     }
     write_manifest(out_dir, &manifest, &names).map_err(io)?;
     Ok(summary)
-}
-
-/// The `--compare-policy` pass: the same histories without the preventive-replacement policy,
-/// as text lines to print beside the run's summary.
-fn compare_policy(
-    model: &Model,
-    s: &RunSettingsFile,
-    threads: usize,
-    with: &RunSummary,
-) -> anyhow::Result<String> {
-    if model
-        .scenario
-        .repair
-        .as_ref()
-        .and_then(|r| r.preventive.as_ref())
-        .is_none()
-    {
-        return Err(InputError(
-            "--compare-policy needs a repair.preventive_replacement section in the scenario".into(),
-        )
-        .into());
-    }
-    let engine = engine_for(model, s)?.without_preventive_policy();
-    let opts = RunOptions {
-        histories: s.histories,
-        seed: s.seed,
-        threads,
-        floor_fraction: s.floor_fraction,
-        shard: None,
-        target_rel_error: None,
-    };
-    let tally = engine.run(&opts, &|_| {})?;
-    let without = RunSummary::from_outcome(
-        &engine,
-        tally,
-        s.histories,
-        s.seed,
-        None,
-        s.stockout_target,
-        RunStatus::Complete,
-        None,
-    );
-    let line = |name: &str, r: &RunSummary| {
-        let lp = &r.loss_probability;
-        let c = &r.losses_by_cause;
-        let losses = c.direct_cut + c.cascade + c.stockout_delay + c.climber_load;
-        format!(
-            "  {name}: {} ({} % interval {} .. {}), {} losses in {} histories\n",
-            tether_risk::report::table::sig(lp.estimate, 4),
-            (lp.confidence * 100.0).round(),
-            tether_risk::report::table::sig(lp.ci_low.unwrap_or(f64::NAN), 4),
-            tether_risk::report::table::sig(lp.ci_high.unwrap_or(f64::NAN), 4),
-            losses,
-            r.histories
-        )
-    };
-    Ok(format!(
-        "Preventive-replacement policy, same seed and random streams per history (common random numbers):\n{}{}",
-        line("with the policy   ", with),
-        line("without the policy", &without)
-    ))
 }
 
 /// Write `design.json` and, where the fast Markov estimate applies, `estimate.json` into a run
@@ -874,6 +904,26 @@ pub fn run(a: Args) -> anyhow::Result<()> {
         let lock = prepare_out_dir(&out_dir, a.force)?;
         (model, settings, out_dir, None, lock)
     };
+    // Refused before the run, not after it.
+    if a.compare_policy
+        && model
+            .scenario
+            .repair
+            .as_ref()
+            .and_then(|r| r.preventive.as_ref())
+            .is_none()
+    {
+        return Err(InputError(
+            "--compare-policy needs a repair.preventive_replacement section in the scenario".into(),
+        )
+        .into());
+    }
+    if a.compare_policy && settings.latent_bias > 0.0 {
+        return Err(InputError(
+            "--compare-policy counts losses history by history and needs plain Monte Carlo: leave out --latent-bias".into(),
+        )
+        .into());
+    }
     let summary = execute(
         &model,
         &settings,
@@ -882,20 +932,15 @@ pub fn run(a: Args) -> anyhow::Result<()> {
         start,
         Some(stop),
         a.force || a.resume.is_some(),
+        a.compare_policy.then_some(PolicyArm::WithoutScenarioPolicy),
     )?;
-    let comparison = if a.compare_policy && summary.status != RunStatus::Interrupted {
-        Some(compare_policy(&model, &settings, a.threads, &summary)?)
-    } else {
-        None
-    };
     match a.format {
         Format::Json => print(&(serde_json::to_string_pretty(&summary)? + "\n"))?,
         // CSV: the survival-by-year table (as survival_by_year.csv in the folder).
         Format::Csv => print(&tether_risk::report::run::survival_table(&summary).to_csv())?,
         Format::Text => print(&format!(
-            "{}\n{}Results written to {}\n",
+            "{}\nResults written to {}\n",
             run_text(&summary),
-            comparison.unwrap_or_default(),
             out_dir.display()
         ))?,
     }

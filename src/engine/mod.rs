@@ -12,6 +12,7 @@
 mod events;
 mod history;
 mod ondemand;
+mod paired;
 mod rng;
 mod sampler;
 mod summary;
@@ -20,6 +21,7 @@ mod validation;
 
 pub use history::{HistoryOutcome, LogEvent, Scratch};
 pub use ondemand::{critical_width_m, OnDemandTables};
+pub use paired::{PairedCounts, PairedOutcome, PolicyEffect, PAIRED_INTERVAL_METHOD};
 pub use rng::{splitmix64, stream, Purpose};
 pub use sampler::{open01, unit, Strike, StrikeSampler};
 pub use summary::{

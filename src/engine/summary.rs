@@ -277,6 +277,10 @@ pub struct RunSummary {
     pub spares: Option<SpareSummary>,
     /// The raw counts (for merging shards).
     pub tally: Tally,
+    /// Loss probability with and without a preventive-replacement policy over the same
+    /// histories (`simulate --compare-policy`, and the demo); absent otherwise.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub policy_effect: Option<super::paired::PolicyEffect>,
     /// The engineering caution.
     pub caution: String,
 }
@@ -490,6 +494,7 @@ impl RunSummary {
             repair,
             spares,
             tally,
+            policy_effect: None,
             caution: crate::CAUTION.to_string(),
         }
     }

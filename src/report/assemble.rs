@@ -627,6 +627,12 @@ pub fn render(folder: &RunFolder) -> Result<Vec<OutputFile>, ReportError> {
     if let Some(c) = &comparison {
         files.push(csv_file("markov_vs_monte_carlo.csv", &c.csv));
     }
+    if let Some(e) = &s.policy_effect {
+        files.push(csv_file(
+            "policy_effect.csv",
+            &super::policy::policy_table(e),
+        ));
+    }
     let figures = run_figures(s, markov.as_deref())?;
     for f in &figures {
         files.push(OutputFile {
@@ -1593,6 +1599,9 @@ fn report_doc(folder: &RunFolder, figures: &[NamedFigure], t: &DocTables<'_>) ->
     ];
     sections.extend(super::statement::cuts_section(s));
     sections.push(repair_section(folder, figures));
+    if let Some(e) = &s.policy_effect {
+        sections.push(super::policy::policy_section(e));
+    }
     if let Some(sw) = &folder.sweep {
         sections.push(sweep_section(sw));
     }

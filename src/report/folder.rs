@@ -236,6 +236,7 @@ pub const RUN_FILES: &[&str] = &[
     "failure_by_band.csv",
     "failure_by_cause.csv",
     "markov_vs_monte_carlo.csv",
+    "policy_effect.csv",
     "report.html",
 ];
 
@@ -438,6 +439,30 @@ pub fn validate_summary(s: &RunSummary) -> Result<(), String> {
             return fail(format!(
                 "shard = [{i}, {n}] is not a shard I of N with I < N"
             ));
+        }
+    }
+    if let Some(e) = &s.policy_effect {
+        let discordant = e.lost_in_both as u128
+            + e.lost_only_with_policy as u128
+            + e.lost_only_without_policy as u128;
+        let probabilities = [
+            e.loss_probability_with_policy,
+            e.loss_probability_without_policy,
+            e.confidence,
+        ];
+        let differences = [e.difference, e.difference_low, e.difference_high];
+        if e.histories == 0
+            || discordant > e.histories as u128
+            || e.losses_with_policy != e.lost_in_both + e.lost_only_with_policy
+            || e.losses_without_policy != e.lost_in_both + e.lost_only_without_policy
+            || probabilities.iter().any(|p| !(0.0..=1.0).contains(p))
+            || differences.iter().any(|d| !(-1.0..=1.0).contains(d))
+            || e.difference_low > e.difference_high
+            || !(e.replaced_per_history.is_finite() && e.replaced_per_history >= 0.0)
+        {
+            return fail(
+                "policy_effect: its counts, probabilities or interval are inconsistent".into(),
+            );
         }
     }
     if t.losses > s.histories {

@@ -15,6 +15,7 @@ pub mod figures;
 pub mod folder;
 pub mod html;
 pub mod plot;
+pub mod policy;
 pub mod run;
 pub mod sensitivity;
 pub mod statement;

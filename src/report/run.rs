@@ -171,6 +171,10 @@ pub fn run_text(s: &RunSummary) -> String {
             pct(r.stockout_target)
         ));
     }
+    if let Some(e) = &s.policy_effect {
+        o.push_str(&policy_effect_text(e));
+        o.push('\n');
+    }
     o.push_str("Survival by mission year\n");
     o.push_str(&terminal_survival_table(s).to_text());
     o.push_str("\nCuts and losses by altitude band\n");
@@ -179,6 +183,52 @@ pub fn run_text(s: &RunSummary) -> String {
     o.push_str(&s.caution);
     o.push('\n');
     o
+}
+
+/// The paired policy comparison in words (terminal and `simulate.txt`).
+pub fn policy_effect_text(e: &crate::engine::PolicyEffect) -> String {
+    let conf = format!("{:.0} %", 100.0 * e.confidence);
+    let arm = |k: u64| {
+        let (lo, hi) =
+            crate::stats::clopper_pearson(k, e.histories, e.confidence).unwrap_or((0.0, 1.0));
+        format!(
+            "{} ({conf} interval {} .. {}, exact binomial; {})",
+            sig(k as f64 / e.histories.max(1) as f64, 3),
+            sig(lo, 3),
+            sig(hi, 3),
+            count_noun(k, "loss", "losses")
+        )
+    };
+    let verdict = if !e.resolved {
+        "not resolved: the interval includes zero, so these histories cannot tell the policy's effect from none; run more histories"
+    } else if e.difference < 0.0 {
+        "resolved: the policy lowers the loss probability"
+    } else {
+        "resolved: the policy raises the loss probability (its replacements take climbers and spares that later cuts lack)"
+    };
+    format!(
+        "Preventive-replacement policy, the same {} histories with and without it (seed {}, common random numbers{}):\n  policy: {}\n  with the policy:    {}; {} segments replaced and {} spares used per history\n  without the policy: {}; {} spares used per history\n  difference (with - without): {}, {conf} interval {} .. {} ({}); {verdict}\n  paired outcomes: {} lost in both, {} only with the policy, {} only without it\n",
+        e.histories,
+        e.seed,
+        if e.run_has_policy {
+            "; the run above is the one with the policy"
+        } else {
+            "; the run above is the one without it"
+        },
+        e.policy,
+        arm(e.losses_with_policy),
+        sig(e.replaced_per_history, 3),
+        sig(e.spares_per_history_with_policy, 3),
+        arm(e.losses_without_policy),
+        sig(e.spares_per_history_without_policy, 3),
+        sig(e.difference, 3),
+        sig(e.difference_low, 3),
+        sig(e.difference_high, 3),
+        e.interval_method,
+        e.lost_in_both,
+        e.lost_only_with_policy,
+        e.lost_only_without_policy
+    )
 }
 
 /// "1 loss", "2 losses".

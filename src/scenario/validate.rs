@@ -140,6 +140,40 @@ pub struct PreventiveSettings {
     pub inspection_spares: u32,
 }
 
+impl PreventiveSettings {
+    /// The policy in words (for outputs), e.g. "replace an intact segment whose worst hole is
+    /// at least 0.5 of its next critical width, at repair visits and at inspections every 90
+    /// days of the bays below 500 km".
+    pub fn describe(&self) -> String {
+        let threshold = match self.threshold {
+            ReplacementThresholdSpec::FractionOfWidth { fraction } => {
+                format!("{fraction} of the ribbon width")
+            }
+            ReplacementThresholdSpec::FractionOfNextCritical { fraction } => {
+                format!("{fraction} of its critical width at the next cut level")
+            }
+        };
+        let mut when = Vec::new();
+        if self.at_climber_visits {
+            when.push("at repair visits".to_string());
+        }
+        if let Some(dt) = self.inspection_interval_s {
+            when.push(format!(
+                "at inspections every {} days of the bays below {} km",
+                dt / 86_400.0,
+                self.inspection_lowest_m / 1000.0
+            ));
+        }
+        if when.is_empty() {
+            when.push("never (no visits or inspections selected)".into());
+        }
+        format!(
+            "replace an intact segment whose worst hole is at least {threshold}, {}",
+            when.join(" and ")
+        )
+    }
+}
+
 /// The run section in SI units.
 #[derive(Clone, Debug)]
 pub struct RunSettings {

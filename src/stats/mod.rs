@@ -17,7 +17,7 @@ mod weighted;
 
 pub use alias::AliasTable;
 pub use binomial::clopper_pearson;
-pub use difference::{mover, newcombe_hybrid, normal_difference, Difference};
+pub use difference::{mover, newcombe_hybrid, newcombe_paired, normal_difference, Difference};
 pub use gof::{chi_square_p_value, ks_p_value, ks_statistic};
 pub use moments::{MeanVar, WeightedMean};
 pub use poisson::poisson_interval;

@@ -109,3 +109,131 @@ fn switching_climber_load_off_removes_its_losses() {
     assert!(t_on.climber_load_cuts > 0);
     assert!(t_on.losses_by_cause[3] > 0);
 }
+
+/// The demo with a preventive-replacement policy that acts often (low threshold, periodic
+/// inspections of the lowest bays), climber load off, as a JSON value.
+fn demo_with_policy() -> Value {
+    let mut v: Value = serde_json::from_str(tether_risk::scenario::DEMO_SCENARIO_JSON).unwrap();
+    v["repair"]["preventive_replacement"] = json!({
+        "threshold": {"kind": "fraction_of_next_critical", "fraction": 0.5},
+        "inspection_interval_days": 90.0,
+        "inspection_lowest_km": 500.0
+    });
+    v
+}
+
+#[test]
+fn paired_run_margins_are_the_two_plain_runs() {
+    // Independent answer: each variant's margin of the paired table must be, bit for bit, the
+    // plain run of that variant alone (same seed, same per-history streams), and the paired
+    // counts must not depend on the thread count.
+    let with_v = demo_with_policy();
+    let mut without_v = with_v.clone();
+    without_v["repair"]
+        .as_object_mut()
+        .unwrap()
+        .remove("preventive_replacement");
+    let (mw, mo) = (model_of(&with_v), model_of(&without_v));
+    let (ew, eo) = (
+        Engine::new(&mw, 1.0).unwrap(),
+        Engine::new(&mo, 1.0).unwrap(),
+    );
+    let opts = |threads| RunOptions {
+        histories: 3000,
+        seed: 5,
+        threads,
+        floor_fraction: 1.0,
+        shard: None,
+        target_rel_error: None,
+    };
+    let p1 = ew.run_paired(&eo, &opts(1), None).unwrap();
+    let p2 = ew.run_paired(&eo, &opts(2), None).unwrap();
+    assert_eq!(p1.counts, p2.counts);
+    assert_eq!(p1.first, run(&mw, 3000, 5, 2));
+    assert_eq!(p1.second, run(&mo, 3000, 5, 2));
+    assert_eq!(p1.counts.losses_first(), p1.first.losses);
+    assert_eq!(p1.counts.losses_second(), p1.second.losses);
+    assert!(p1.first.repair.preventive_replacements > 0);
+    // The same engine against itself: every pair agrees.
+    let same = eo.run_paired(&eo, &opts(2), None).unwrap();
+    assert_eq!(
+        same.counts.lost_only_first + same.counts.lost_only_second,
+        0
+    );
+    assert_eq!(same.counts.lost_in_both, same.second.losses);
+}
+
+#[test]
+fn compare_policy_writes_the_paired_effect_into_the_folder_and_report() {
+    use crate::util::{run as bin, scenario_with, stderr, stdout, temp_dir};
+    let file = scenario_with("policy-cli", |v| *v = demo_with_policy());
+    let out = temp_dir("policy-cli-out");
+    let o = bin(&[
+        "simulate",
+        file.to_str().unwrap(),
+        "--histories",
+        "4000",
+        "--seed",
+        "3",
+        "--compare-policy",
+        "--out",
+        out.to_str().unwrap(),
+        "--force",
+    ]);
+    assert!(o.status.success(), "{}", stderr(&o));
+    let text = stdout(&o);
+    assert!(
+        text.contains("Preventive-replacement policy, the same 4000 histories"),
+        "{text}"
+    );
+    let s: Value =
+        serde_json::from_str(&std::fs::read_to_string(out.join("summary.json")).unwrap()).unwrap();
+    let e = &s["policy_effect"];
+    assert_eq!(e["run_has_policy"], json!(true));
+    assert_eq!(e["histories"], json!(4000));
+    // The run in the folder is the variant with the policy: its losses are the margin.
+    assert_eq!(e["losses_with_policy"], s["tally"]["losses"]);
+    let (lo, hi, d) = (
+        e["difference_low"].as_f64().unwrap(),
+        e["difference_high"].as_f64().unwrap(),
+        e["difference"].as_f64().unwrap(),
+    );
+    assert!(lo <= d && d <= hi);
+    let csv = std::fs::read_to_string(out.join("policy_effect.csv")).unwrap();
+    assert!(csv.contains("difference (with - without)"), "{csv}");
+    let html = std::fs::read_to_string(out.join("report.html")).unwrap();
+    assert!(html.contains("Would inspection and preventive replacement help?"));
+}
+
+#[test]
+fn compare_policy_is_refused_before_the_run_without_a_policy_or_with_latent_bias() {
+    use crate::util::{run as bin, scenario_with, stderr, temp_dir};
+    let plain = scenario_with("policy-none", |_| {});
+    let out = temp_dir("policy-none-out");
+    let o = bin(&[
+        "simulate",
+        plain.to_str().unwrap(),
+        "--compare-policy",
+        "--out",
+        out.to_str().unwrap(),
+    ]);
+    assert_eq!(o.status.code(), Some(2));
+    assert!(
+        stderr(&o).contains("repair.preventive_replacement"),
+        "{}",
+        stderr(&o)
+    );
+    assert!(!out.join("summary.json").exists(), "refused before running");
+    let with = scenario_with("policy-bias", |v| *v = demo_with_policy());
+    let o = bin(&[
+        "simulate",
+        with.to_str().unwrap(),
+        "--compare-policy",
+        "--latent-bias",
+        "0.5",
+        "--out",
+        out.to_str().unwrap(),
+    ]);
+    assert_eq!(o.status.code(), Some(2), "{}", stderr(&o));
+    assert!(stderr(&o).contains("plain Monte Carlo"), "{}", stderr(&o));
+}
