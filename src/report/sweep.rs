@@ -548,6 +548,15 @@ pub fn recommendation(r: &SweepResult) -> Vec<String> {
             ),
             _ => format!("Fleet at {}{at}: {}.", f.station, f.basis),
         });
+        if !f.splice_target_basis.is_empty() {
+            out.push(match f.meets_splice_target_climbers {
+                Some(c) => format!(
+                    "Fleet at {}{at} for the time-to-splice target: {c} climber(s); {}.",
+                    f.station, f.splice_target_basis
+                ),
+                None => format!("Fleet at {}{at}: {}.", f.station, f.splice_target_basis),
+            });
+        }
     }
     if let Some(t) = r.target_rel_error {
         out.push(format!(

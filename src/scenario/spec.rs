@@ -505,6 +505,11 @@ pub struct RepairSpec {
     /// Inspection and preventive replacement of holed intact segments (none by default).
     #[serde(default)]
     pub preventive_replacement: Option<PreventiveReplacementSpec>,
+    /// Requirement on the 90th percentile of the time from a cut to its splice, hours: the
+    /// run report says whether the fleet meets it, and a sweep over a station's `climbers`
+    /// names the smallest fleet that does (none by default).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub splice_p90_target_hours: Option<f64>,
 }
 
 /// When a holed intact segment counts as worth replacing before it is cut.

@@ -121,6 +121,8 @@ pub struct RepairSettings {
     pub climber_load_on_bays: bool,
     /// Inspection and preventive replacement, if any.
     pub preventive: Option<PreventiveSettings>,
+    /// Required 90th percentile of the time from cut to splice, hours (none when absent).
+    pub splice_p90_target_hours: Option<f64>,
 }
 
 /// Inspection and preventive replacement in SI units.
@@ -930,6 +932,15 @@ fn validate_repair(r: &RepairSpec, top_altitude_m: f64) -> Result<RepairSettings
         None => None,
         Some(p) => Some(validate_preventive(p, top_altitude_m)?),
     };
+    if let Some(h) = r.splice_p90_target_hours {
+        check(
+            "repair.splice_p90_target_hours",
+            h,
+            Range::open_closed(0.0, 1e6),
+            "h",
+            "a requirement on the 90th percentile of the time from a cut to its splice",
+        )?;
+    }
     Ok(RepairSettings {
         stations,
         speed_up_m_per_s: up,
@@ -943,6 +954,7 @@ fn validate_repair(r: &RepairSpec, top_altitude_m: f64) -> Result<RepairSettings
         dispatch: r.dispatch,
         climber_load_on_bays: c.load_on_bays,
         preventive,
+        splice_p90_target_hours: r.splice_p90_target_hours,
     })
 }
 

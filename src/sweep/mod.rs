@@ -355,6 +355,13 @@ pub struct PointResult {
     /// not distinguishable from any simulated point).
     #[serde(default)]
     pub not_distinguishable_from: Vec<usize>,
+    /// 90th percentile of the time from a cut to its splice over all splices of the point,
+    /// hours (absent without repair, when not simulated, or when nothing was spliced).
+    #[serde(default)]
+    pub time_to_splice_p90_hours: Option<f64>,
+    /// Splices behind that percentile, all histories.
+    #[serde(default)]
+    pub splices: Option<u64>,
     /// Spares per repair station (empty without repair).
     pub stations: Vec<StationResult>,
     /// Masses (absent when the tether profile cannot be built).
@@ -422,6 +429,10 @@ pub struct SweepResult {
     /// [`FLEET_TOLERANCE`] of the largest fleet swept.
     #[serde(default)]
     pub fleet_recommendations: Vec<FleetRecommendation>,
+    /// The base scenario's requirement on the 90th percentile of the time from cut to splice,
+    /// hours (`repair.splice_p90_target_hours`), used by the fleet recommendations.
+    #[serde(default)]
+    pub splice_p90_target_hours: Option<f64>,
     /// The engineering caution.
     pub caution: String,
 }
@@ -454,6 +465,20 @@ pub struct FleetRecommendation {
     pub not_distinguishable_from_reference: Option<bool>,
     /// How the recommendation was made, or why there is none.
     pub basis: String,
+    /// The scenario's requirement on the 90th percentile of the time from cut to splice,
+    /// hours (`repair.splice_p90_target_hours`; absent when none is given).
+    #[serde(default)]
+    pub splice_p90_target_hours: Option<f64>,
+    /// The smallest fleet swept whose P90 time to splice meets that target (absent without a
+    /// target or when no fleet swept meets it).
+    #[serde(default)]
+    pub meets_splice_target_point: Option<usize>,
+    /// Climbers at the station in that point.
+    #[serde(default)]
+    pub meets_splice_target_climbers: Option<u64>,
+    /// How the P90 choice was made, or why there is none (empty without a target).
+    #[serde(default)]
+    pub splice_target_basis: String,
 }
 /// Text recorded in every sweep about common random numbers.
 pub const CRN_NOTE: &str = "Every point uses the same seed and number of histories: history i of \
@@ -599,7 +624,34 @@ impl SweepResult {
                     recommended_climbers: None,
                     not_distinguishable_from_reference: None,
                     basis: String::new(),
+                    splice_p90_target_hours: self.splice_p90_target_hours,
+                    meets_splice_target_point: None,
+                    meets_splice_target_climbers: None,
+                    splice_target_basis: String::new(),
                 };
+                if let Some(target) = self.splice_p90_target_hours {
+                    let pick = sim.iter().copied().find(|&i| {
+                        self.points[i]
+                            .time_to_splice_p90_hours
+                            .is_some_and(|h| h <= target)
+                    });
+                    rec.splice_target_basis = match pick {
+                        Some(i) => {
+                            rec.meets_splice_target_point = Some(i);
+                            rec.meets_splice_target_climbers = climbers(i);
+                            format!(
+                                "smallest fleet swept whose 90th percentile of the time from cut to splice ({} h over {} splices, a sample quantile) is at most the target of {} h (repair.splice_p90_target_hours)",
+                                crate::report::table::sig(self.points[i].time_to_splice_p90_hours.unwrap_or(f64::NAN), 3),
+                                self.points[i].splices.unwrap_or(0),
+                                crate::report::table::sig(target, 3)
+                            )
+                        }
+                        None => format!(
+                            "no fleet swept meets the target of {} h on the 90th percentile of the time from cut to splice (repair.splice_p90_target_hours): sweep larger fleets, or faster climbers",
+                            crate::report::table::sig(target, 3)
+                        ),
+                    };
+                }
                 let r = &self.points[reference];
                 if !r.loss_known {
                     rec.basis = format!(
@@ -860,6 +912,10 @@ pub fn run_sweep_resumable(
         points,
         pareto_front: Vec::new(),
         fleet_recommendations: Vec::new(),
+        splice_p90_target_hours: base_spec
+            .repair
+            .as_ref()
+            .and_then(|r| r.splice_p90_target_hours),
         caution: format!("{} {PARETO_NOTE}", crate::CAUTION),
     };
     result.mark_pareto_front();
@@ -1049,6 +1105,8 @@ fn evaluate_point(
         loss_known: false,
         unknown_reason: None,
         not_distinguishable_from: Vec::new(),
+        time_to_splice_p90_hours: None,
+        splices: None,
         stations: spec
             .repair
             .as_ref()
@@ -1188,6 +1246,10 @@ fn evaluate_point(
     p.loss_probability = Some(s.loss_probability);
     p.losses = Some(s.tally.losses);
     p.cuts_per_year = Some(s.cuts_per_year);
+    if s.tally.repair.splices > 0 {
+        p.splices = Some(s.tally.repair.splices);
+        p.time_to_splice_p90_hours = s.repair.as_ref().map(|r| r.time_to_splice_hours.p90);
+    }
     if let (Some(r), Some(sp)) = (&s.repair, &s.spares) {
         let mut recommended_total = 0u64;
         for st in &mut p.stations {

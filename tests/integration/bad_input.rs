@@ -351,3 +351,11 @@ fn missing_file_is_an_input_error() {
         &["cannot read scenario file /nonexistent/scenario.json"],
     );
 }
+
+#[test]
+fn non_positive_splice_requirement_is_refused_with_field_range_and_unit() {
+    let e = refused("p90-target", |v| {
+        v["repair"]["splice_p90_target_hours"] = json!(-5.0);
+    });
+    has(&e, &["repair.splice_p90_target_hours", "-5", "h"]);
+}

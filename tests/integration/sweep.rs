@@ -610,3 +610,53 @@ fn fleet_recommendation_is_the_smallest_fleet_within_tolerance_of_the_largest() 
     assert_eq!(r["recommended_point"], expect);
     assert_eq!(r["recommended_climbers"], [1, 2, 4][expect]);
 }
+
+#[test]
+fn fleet_for_a_time_to_splice_requirement_is_the_smallest_meeting_it() {
+    // Definition (repair.splice_p90_target_hours in the README): the smallest fleet swept
+    // whose P90 time from cut to splice is at most the requirement. Recomputed here from the
+    // points' own percentiles, with the requirement set between the largest and the smallest
+    // fleet's P90 so that the answer is neither end by construction. High flux so that
+    // climbers queue.
+    let base = scenario_with("sweep-p90", |v| {
+        v["environment"]["flux_scale_factor"] = serde_json::json!(40.0);
+    });
+    let args = |file: &std::path::Path, out: &str| {
+        vec![
+            "sweep".to_string(),
+            file.to_str().unwrap().to_string(),
+            "--vary".into(),
+            "repair.stations[0].climbers=1,2,4".into(),
+            "--histories".into(),
+            "1000".into(),
+            "--out".into(),
+            temp_dir(out).join("out").to_str().unwrap().to_string(),
+            "--format".into(),
+            "json".into(),
+        ]
+    };
+    let a = args(&base, "sweep-p90-a");
+    let v = sweep_json(&a.iter().map(String::as_str).collect::<Vec<_>>());
+    let p90 = |v: &serde_json::Value, i: usize| {
+        v["points"][i]["time_to_splice_p90_hours"].as_f64().unwrap()
+    };
+    let (small, large) = (p90(&v, 0), p90(&v, 2));
+    assert!(
+        small > large,
+        "more climbers, shorter P90: {small} vs {large}"
+    );
+    assert!(v["fleet_recommendations"][0]["splice_target_basis"] == "");
+    let target = 0.5 * (small + large);
+    let with_target = scenario_with("sweep-p90-t", |v| {
+        v["environment"]["flux_scale_factor"] = serde_json::json!(40.0);
+        v["repair"]["splice_p90_target_hours"] = serde_json::json!(target);
+    });
+    let b = args(&with_target, "sweep-p90-b");
+    let w = sweep_json(&b.iter().map(String::as_str).collect::<Vec<_>>());
+    let expect = (0..3).find(|&i| p90(&w, i) <= target).unwrap();
+    assert!(expect > 0);
+    let r = &w["fleet_recommendations"][0];
+    assert_eq!(r["meets_splice_target_point"], expect);
+    assert_eq!(r["meets_splice_target_climbers"], [1, 2, 4][expect]);
+    assert_eq!(r["splice_p90_target_hours"].as_f64(), Some(target));
+}
