@@ -61,6 +61,19 @@ pub(super) fn fmt_linear(v: f64, decimals: usize) -> String {
     s
 }
 
+/// A tick label on a linear axis spanning `span`: plain decimals with the places that tell
+/// ticks about `span / 10` apart, and for |v| >= 1e6 a mantissa with the same resolution
+/// (fixed places, so neighbouring ticks never print alike: 1.5566e7, 1.5568e7, not 1.56e7
+/// twice) instead of three significant digits whatever the span.
+pub(super) fn tick_label(v: f64, span: f64) -> String {
+    if v.abs() < 1e6 || !(span.is_finite() && span > 0.0) {
+        return fmt_linear(v, decimals_for(span));
+    }
+    let e = v.abs().log10().floor();
+    let d = (e - (span / 10.0).log10()).ceil().clamp(0.0, 12.0) as usize;
+    format!("{:.*}e{}", d, v / 10f64.powf(e), e as i32)
+}
+
 /// A tick label on a log axis whose coordinate is the exponent `e`: only whole decades are
 /// labelled, as plain decimals near 1 and as powers of ten elsewhere.
 pub(super) fn fmt_decade(e: f64) -> String {
@@ -114,6 +127,26 @@ mod tests {
         assert_eq!(fmt_sig(12345.0, 3), "1.23e4");
         assert_eq!(fmt_linear(-0.0, 2), "0");
         assert_eq!(fmt_linear(0.99990, 5), "0.9999");
+        // Large values: the mantissa resolves the tick spacing, with fixed places.
+        assert_eq!(tick_label(1.5566e7, 2000.0), "1.55660e7");
+        assert_eq!(tick_label(1.5568e7, 2000.0), "1.55680e7");
+        assert_eq!(tick_label(1.6e7, 1.1e6), "1.60e7");
+        assert_eq!(tick_label(1.58e7, 1.1e6), "1.58e7");
+        assert_eq!(tick_label(250.0, 100.0), "250");
+    }
+
+    // Ticks of a narrow range of large values stay distinct (the Pareto chart's mass axis).
+    #[test]
+    fn narrow_large_ranges_keep_ticks_distinct() {
+        for (lo, hi) in [(1.5566e7, 1.5568e7), (2.0e9, 2.0001e9), (1.0e6, 1.2e6)] {
+            let span: f64 = hi - lo;
+            let labels: Vec<String> = (0..=10)
+                .map(|k| tick_label(lo + span * k as f64 / 10.0, span))
+                .collect();
+            for w in labels.windows(2) {
+                assert_ne!(w[0], w[1], "{lo}..{hi}: {labels:?}");
+            }
+        }
     }
 
     // Source: hand-worked ranges; degenerate inputs must give a non-empty range.

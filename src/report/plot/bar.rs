@@ -1,6 +1,6 @@
 //! Bars over named categories (e.g. cuts per year by altitude band), with optional error bars.
 
-use super::axis::{decimals_for, fmt_linear, linear_range};
+use super::axis::{linear_range, tick_label};
 use super::layout::{
     centre_message, frame, palette, plot_rect, text, text_size, AXIS_SIZE, GRID, TICK_SIZE,
 };
@@ -102,8 +102,7 @@ impl Chart for BarChart<'_> {
         let ((px0, _), (px1, py1)) = plot_rect(&chart);
         let slot = (px1 - px0) as f64 / n.max(1) as f64;
         let xfmt = |_: &SegmentValue<i32>| String::new();
-        let ydec = decimals_for(y1 - y0);
-        let yfmt = |v: &f64| fmt_linear(*v, ydec);
+        let yfmt = |v: &f64| tick_label(*v, y1 - y0);
         chart
             .configure_mesh()
             .disable_x_mesh()

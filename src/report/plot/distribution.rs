@@ -1,7 +1,7 @@
 //! Distributions: a discrete one (probability of each count) and a continuous one given as a
 //! histogram, each with labelled vertical markers (recommended stock, percentiles).
 
-use super::axis::{decimals_for, fmt_linear, linear_range};
+use super::axis::{linear_range, tick_label};
 use super::layout::{
     centre_message, frame, palette, plot_rect, text, text_size, AXIS_SIZE, GRID, SMALL_SIZE,
     TICK_SIZE,
@@ -162,8 +162,6 @@ impl Chart for DistChart<'_> {
                 .y_label_area_size(86)
                 .build_cartesian_2d(x0..x1, y0..y1)
                 .map_err(draw_err)?;
-        let xdec = decimals_for(x1 - x0);
-        let ydec = decimals_for(y1 - y0);
         let integer_x = self.integer_x;
         let xfmt = |v: &f64| {
             if integer_x {
@@ -173,10 +171,10 @@ impl Chart for DistChart<'_> {
                     String::new()
                 }
             } else {
-                fmt_linear(*v, xdec)
+                tick_label(*v, x1 - x0)
             }
         };
-        let yfmt = |v: &f64| fmt_linear(*v, ydec);
+        let yfmt = |v: &f64| tick_label(*v, y1 - y0);
         let x_ticks = if integer_x {
             ((x1 - x0).floor() as usize).clamp(2, 12)
         } else {

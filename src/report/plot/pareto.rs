@@ -1,7 +1,7 @@
 //! Trade-off between mass and loss probability: every design as a labelled point, the
 //! non-dominated ones marked and joined.
 
-use super::axis::{decade_range, decimals_for, fmt_decade, fmt_linear, linear_range};
+use super::axis::{decade_range, fmt_decade, linear_range, tick_label};
 use super::layout::{
     centre_message, frame, palette, plot_rect, text, text_size, AXIS_SIZE, GRID, MUTED, SMALL_SIZE,
     TICK_SIZE,
@@ -113,8 +113,7 @@ impl Chart for ParetoChart<'_> {
             .y_label_area_size(86)
             .build_cartesian_2d(x0..x1, y0..y1)
             .map_err(draw_err)?;
-        let xdec = decimals_for(x1 - x0);
-        let xfmt = |v: &f64| fmt_linear(*v, xdec);
+        let xfmt = |v: &f64| tick_label(*v, x1 - x0);
         let yfmt = |v: &f64| fmt_decade(*v);
         chart
             .configure_mesh()

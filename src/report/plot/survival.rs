@@ -1,6 +1,6 @@
 //! Probability of survival (or of loss) against time, with interval bands.
 
-use super::axis::{decade_range, decimals_for, fmt_decade, fmt_linear, linear_range};
+use super::axis::{decade_range, fmt_decade, linear_range, tick_label};
 use super::layout::{
     centre_message, frame, palette, plot_rect, text, AXIS_SIZE, GRID, SMALL_SIZE, TICK_SIZE,
 };
@@ -217,17 +217,14 @@ impl Chart for SurvivalChart<'_> {
             .y_label_area_size(86)
             .build_cartesian_2d(x0..x1, y0..y1)
             .map_err(draw_err)?;
-
-        let xdec = decimals_for(x1 - x0);
-        let ydec = decimals_for(y1 - y0);
-        let xfmt = |v: &f64| fmt_linear(*v, xdec);
+        let xfmt = |v: &f64| tick_label(*v, x1 - x0);
         let yfmt = |v: &f64| {
             if log {
                 fmt_decade(*v)
             } else if *v > 1.0 + 1e-12 {
                 String::new()
             } else {
-                fmt_linear(*v, ydec)
+                tick_label(*v, y1 - y0)
             }
         };
         let mut mesh = chart.configure_mesh();
