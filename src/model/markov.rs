@@ -773,6 +773,7 @@ mod tests {
             dispatch: crate::scenario::DispatchSpec::FirstCome,
             climber_load_on_bays: true,
             preventive: None,
+            solar: None,
         }
     }
 
