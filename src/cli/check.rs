@@ -7,6 +7,7 @@ use std::time::{Duration, Instant};
 use tether_risk::engine::{Engine, Sampler, WORK_BUDGET_EVENTS};
 use tether_risk::model::warnings::design_warnings;
 use tether_risk::model::Model;
+use tether_risk::orbit::shadow::shaded_fraction_of_month;
 use tether_risk::report::design::DesignSummary;
 
 use super::output::{load_model, print};
@@ -133,8 +134,68 @@ fn work_text(w: &WorkReport) -> String {
     )
 }
 
+/// The climbers' power and the shade they meet: kind, and the fraction of each synodic month
+/// each station spends in the Moon's shadow (`arcsin(R/r)/pi`). None without repair.
+fn climber_power(model: &Model) -> Option<(String, serde_json::Value)> {
+    let r = model.scenario.repair.as_ref()?;
+    let big_r = model.orbit.moon_radius_m;
+    let shade: Vec<(String, f64)> = r
+        .stations
+        .iter()
+        .map(|s| {
+            (
+                s.name.clone(),
+                shaded_fraction_of_month(big_r, big_r + s.altitude_m),
+            )
+        })
+        .collect();
+    let stations = shade
+        .iter()
+        .map(|(n, f)| format!("{n} {:.3} %", 100.0 * f))
+        .collect::<Vec<_>>()
+        .join(", ");
+    let (kind, how) = match &r.solar {
+        None => (
+            "beamed",
+            "full power in shade, no waiting for light".to_string(),
+        ),
+        Some(s) => {
+            let dark = if s.shade_speed_m_per_s > 0.0 {
+                format!("{} m/s in shade", s.shade_speed_m_per_s)
+            } else {
+                "stops in shade".to_string()
+            };
+            if s.battery_j > 0.0 {
+                (
+                    "solar_with_battery",
+                    format!(
+                        "{} Wh battery at {} W ({:.2} h at full speed in shade), then {dark}",
+                        s.battery_j / 3600.0,
+                        s.power_w,
+                        s.battery_j / s.power_w / 3600.0
+                    ),
+                )
+            } else {
+                ("solar", dark)
+            }
+        }
+    };
+    let line = format!(
+        "Climber power: {kind}, {how}; part of each month in the Moon's shadow at the stations: {stations}\n"
+    );
+    let json = serde_json::json!({
+        "kind": kind,
+        "station_shaded_fraction_of_month": shade
+            .iter()
+            .map(|(n, f)| serde_json::json!({"station": n, "shaded_fraction_of_month": f}))
+            .collect::<Vec<_>>(),
+    });
+    Some((line, json))
+}
+
 pub fn run(a: Args) -> anyhow::Result<()> {
     let model = load_model(&a.file)?;
+    let power = climber_power(&model);
     let s = DesignSummary::from_model(&model);
     let work = if model.scenario.validation_mode.is_none() {
         work_report(&model)
@@ -149,6 +210,9 @@ pub fn run(a: Args) -> anyhow::Result<()> {
             let mut v = serde_json::to_value(&s)?;
             if let Some(obj) = v.as_object_mut() {
                 obj.insert("warnings".into(), serde_json::to_value(&warnings)?);
+                if let Some((_, p)) = &power {
+                    obj.insert("climber_power".into(), p.clone());
+                }
                 if let Some(w) = &work {
                     obj.insert("work_estimate".into(), serde_json::to_value(w)?);
                 }
@@ -169,6 +233,9 @@ pub fn run(a: Args) -> anyhow::Result<()> {
         }
         Format::Text => {
             let mut text = s.to_text();
+            if let Some((line, _)) = &power {
+                text.push_str(line);
+            }
             if let Some(w) = &work {
                 text.push_str(&work_text(w));
             }

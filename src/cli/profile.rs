@@ -4,6 +4,7 @@ use tether_risk::report::design::ProfileSummary;
 
 use tether_risk::environment::horizontal_face_shielding_factor;
 use tether_risk::model::Model;
+use tether_risk::orbit::shadow::shaded_fraction_of_month;
 
 use super::output::{load_model, print};
 use super::Format;
@@ -45,7 +46,9 @@ pub fn run(a: Args) -> anyhow::Result<()> {
 /// (one value per number of ribbons already cut, 0..N-1, under the material's notch model),
 /// `ejecta_strike_rate_per_year` (lunar-ejecta strikes able to sever an intact segment, all
 /// ribbons; 0 with the source off) and `climber_weight_n` (a loaded climber at the bay's middle
-/// in the local effective gravity; 0 without repair).
+/// in the local effective gravity; 0 without repair) and `shaded_fraction_of_month` (the part of
+/// every synodic month the bay's middle spends in the Moon's shadow, `arcsin(R/r)/pi`: the same
+/// every month with the Sun in the Moon's orbital plane, so also the mean over the year).
 fn with_physics_fields(model: &Model, p: &ProfileSummary) -> anyhow::Result<serde_json::Value> {
     let mut v = serde_json::to_value(p)?;
     let orbit = &model.orbit;
@@ -77,6 +80,14 @@ fn with_physics_fields(model: &Model, p: &ProfileSummary) -> anyhow::Result<serd
                 t.ejecta_strike_rate_per_year.into(),
             );
             obj.insert("climber_weight_n".into(), t.climber_weight_n.into());
+            obj.insert(
+                "shaded_fraction_of_month".into(),
+                shaded_fraction_of_month(
+                    orbit.moon_radius_m,
+                    orbit.moon_radius_m + bay.mid_altitude_m(),
+                )
+                .into(),
+            );
         }
     }
     Ok(v)

@@ -326,7 +326,8 @@ impl<'m> Engine<'m> {
             None
         } else {
             model.scenario.repair.as_ref().map(|r| {
-                let mut plan = RepairPlan::new(r, &model.profile, model.scenario.run.mission_s);
+                let mut plan = RepairPlan::new(r, &model.profile, model.scenario.run.mission_s)
+                    .with_solar(r, model.orbit.moon_radius_m);
                 if let Some(c) = climber_load.as_ref() {
                     plan.load_bays = (0..model.profile.bays.len())
                         .map(|j| c.max_extra_n(j) > 0.0)

@@ -596,6 +596,17 @@ pub struct RepairSummary {
     /// `queue.mean_wait_hours`.
     #[serde(default)]
     pub mean_wait_for_stock_hours: f64,
+    /// Parts of a repair trip, hours per segment sent out (each is spliced unless the
+    /// history ends first): turnaround and outbound travel at full speed.
+    #[serde(default)]
+    pub mean_trip_travel_hours: f64,
+    /// The outbound delay of solar climbers in the Moon's shadow (waiting for light), hours
+    /// per segment sent (0 with beamed power).
+    #[serde(default)]
+    pub mean_wait_for_light_hours: f64,
+    /// Time on site from arrival to the end of the trip's splices, hours per segment sent.
+    #[serde(default)]
+    pub mean_trip_splice_hours: f64,
     /// Probability that a station runs out of stock when a job needs it, per station.
     pub stockout_probability: Vec<StationProbability>,
     /// Smallest initial stock per station that keeps the probability of any interval's demand
@@ -728,6 +739,13 @@ impl RunSummary {
             0.0
         };
         let wait_for_climber_h = wait_h * no_climber_share;
+        let per_sent = |sum_s: u64| {
+            if rt.dispatched_segments > 0 {
+                sum_s as f64 / rt.dispatched_segments as f64 / 3600.0
+            } else {
+                0.0
+            }
+        };
         let queue = LittleLaw {
             mean_waiting_segments: if observed_h > 0.0 {
                 rt.queue_area_s as f64 / 3600.0 / observed_h
@@ -805,6 +823,9 @@ impl RunSummary {
                 queue,
                 mean_wait_for_climber_hours: wait_for_climber_h,
                 mean_wait_for_stock_hours: (wait_h - wait_for_climber_h).max(0.0),
+                mean_trip_travel_hours: per_sent(rt.trip_travel_sum_s),
+                mean_wait_for_light_hours: per_sent(rt.trip_wait_for_light_sum_s),
+                mean_trip_splice_hours: per_sent(rt.trip_splice_sum_s),
                 stockout_probability,
                 recommended_initial_stock: recommended,
                 stockout_target,

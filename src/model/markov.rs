@@ -774,6 +774,7 @@ mod tests {
             climber_load_on_bays: true,
             preventive: None,
             splice_p90_target_hours: None,
+            solar: None,
         }
     }
 

@@ -17,6 +17,8 @@
 //!   non-positive or non-finite distance yields `NaN`. Callers validating user input should use
 //!   [`EarthMoon::check_distance_from_moon_m`], which returns a typed error instead.
 
+pub mod shadow;
+
 use thiserror::Error;
 
 /// Which side of the Moon the tether hangs on.

@@ -192,6 +192,19 @@ pub struct RepairTally {
     /// Periodic inspections skipped (no idle climber anywhere).
     #[serde(default)]
     pub inspections_skipped: u64,
+    /// Segments sent out on repair trips (each is spliced unless the history ends first).
+    #[serde(default)]
+    pub dispatched_segments: u64,
+    /// Per segment sent, summed: turnaround and outbound travel at full speed, s.
+    #[serde(default)]
+    pub trip_travel_sum_s: u64,
+    /// Per segment sent, summed: the outbound delay of solar climbers in the Moon's shadow
+    /// (waiting for light), s.
+    #[serde(default)]
+    pub trip_wait_for_light_sum_s: u64,
+    /// Per segment sent, summed: time on site from arrival to the end of the trip's splices, s.
+    #[serde(default)]
+    pub trip_splice_sum_s: u64,
 }
 
 impl RepairTally {
@@ -228,6 +241,10 @@ impl RepairTally {
         self.bays_inspected += o.bays_inspected;
         self.inspections += o.inspections;
         self.inspections_skipped += o.inspections_skipped;
+        self.dispatched_segments += o.dispatched_segments;
+        self.trip_travel_sum_s += o.trip_travel_sum_s;
+        self.trip_wait_for_light_sum_s += o.trip_wait_for_light_sum_s;
+        self.trip_splice_sum_s += o.trip_splice_sum_s;
         add(&mut self.stockout_histories, &o.stockout_histories);
         add(&mut self.stockout_events, &o.stockout_events);
         for (a, b) in [
@@ -287,6 +304,9 @@ pub struct Fleet {
     area_t: f64,
     busy: f64,
     wait_sum: f64,
+    trip_travel: f64,
+    trip_light_wait: f64,
+    trip_splice: f64,
 }
 
 impl Fleet {
@@ -309,6 +329,9 @@ impl Fleet {
             area_t: 0.0,
             busy: 0.0,
             wait_sum: 0.0,
+            trip_travel: 0.0,
+            trip_light_wait: 0.0,
+            trip_splice: 0.0,
         }
     }
 
@@ -329,6 +352,9 @@ impl Fleet {
         self.area_t = 0.0;
         self.busy = 0.0;
         self.wait_sum = 0.0;
+        self.trip_travel = 0.0;
+        self.trip_light_wait = 0.0;
+        self.trip_splice = 0.0;
         if let Resupply::Periodic { interval_s, .. } = plan.resupply {
             for s in 0..plan.stations.len() {
                 self.queue
@@ -429,11 +455,19 @@ impl Fleet {
                 )
             };
             if !is_first || from_station {
-                let t = t0_s + (enter_m - from_m).abs() / speed;
+                let t = match plan.shade {
+                    None => t0_s + (enter_m - from_m).abs() / speed,
+                    // The motion does not depend on where the leg ends: the time to a bay
+                    // boundary is the time of the leg cut short there.
+                    Some(_) => t0_s + plan.leg_s(from_m, enter_m, t0_s),
+                };
                 self.queue.push(t, EventKind::ClimberIn { bay: j as u32 });
             }
             if !is_last || to_station {
-                let t = t0_s + (leave_m - from_m).abs() / speed;
+                let t = match plan.shade {
+                    None => t0_s + (leave_m - from_m).abs() / speed,
+                    Some(_) => t0_s + plan.leg_s(from_m, leave_m, t0_s),
+                };
                 self.queue.push(t, EventKind::ClimberOut { bay: j as u32 });
             }
         }
@@ -524,7 +558,11 @@ impl Fleet {
                 if self.idle[s] == 0 {
                     continue;
                 }
-                let tt = plan.travel_out_s(s, bay);
+                let tt = plan.leg_s(
+                    plan.stations[s].altitude_m,
+                    plan.bay_altitude_m[bay],
+                    t + plan.turnaround_s,
+                );
                 if nearest_idle.is_none_or(|(_, b)| tt < b) {
                     nearest_idle = Some((s, tt));
                 }
@@ -559,6 +597,14 @@ impl Fleet {
                 self.jobs.swap_remove(k);
             }
             self.busy -= t;
+            // The trip's parts per segment sent: turnaround and travel in light, the delay in
+            // the shadow, and the splicing of the n segments (all finish together).
+            let light = plan.travel_out_s(s, bay);
+            let nf = f64::from(n);
+            tally.dispatched_segments += u64::from(n);
+            self.trip_travel += nf * (plan.turnaround_s + light);
+            self.trip_light_wait += nf * (travel - light).max(0.0);
+            self.trip_splice += nf * nf * plan.splice_s;
             self.push_leg(
                 plan,
                 t + plan.turnaround_s,
@@ -593,7 +639,11 @@ impl Fleet {
 
     /// Splicing done: send the climber home.
     pub fn on_splice_done(&mut self, plan: &RepairPlan, station: u32, bay: u32, t: f64) {
-        let back = plan.travel_back_s(station as usize, bay as usize);
+        let back = plan.leg_s(
+            plan.bay_altitude_m[bay as usize],
+            plan.stations[station as usize].altitude_m,
+            t,
+        );
         self.push_leg(
             plan,
             t,
@@ -644,7 +694,7 @@ impl Fleet {
         let start = t + plan.turnaround_s;
         let target = plan.bay_altitude_m[first];
         self.push_leg(plan, start, a, target, true, false);
-        let travel = plan.travel_out_s(s, first);
+        let travel = plan.leg_s(a, target, start);
         self.queue.push(
             start + travel,
             EventKind::InspectStep {
@@ -678,13 +728,8 @@ impl Fleet {
             Some(nj) => {
                 let (a, b) = (plan.bay_altitude_m[j], plan.bay_altitude_m[nj]);
                 self.push_leg(plan, t, a, b, false, false);
-                let speed = if b >= a {
-                    plan.speed_up_m_per_s
-                } else {
-                    plan.speed_down_m_per_s
-                };
                 self.queue.push(
-                    t + (b - a).abs() / speed,
+                    t + plan.leg_s(a, b, t),
                     EventKind::InspectStep {
                         station,
                         bay: nj as u32,
@@ -739,6 +784,9 @@ impl Fleet {
         tally.queue_area_no_climber_s +=
             self.area_no_climber.clamp(0.0, self.area.max(0.0)).round() as u64;
         tally.busy_s += busy.max(0.0).round() as u64;
+        tally.trip_travel_sum_s += self.trip_travel.round() as u64;
+        tally.trip_wait_for_light_sum_s += self.trip_light_wait.round() as u64;
+        tally.trip_splice_sum_s += self.trip_splice.round() as u64;
         for s in 0..plan.stations.len() {
             if self.stockout_seen[s] {
                 tally.stockout_histories[s] += 1;

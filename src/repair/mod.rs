@@ -20,9 +20,11 @@
 
 mod dispatch;
 mod fleet;
+mod shade;
 
 pub use dispatch::{DispatchPolicy, FirstCome, Job, MostEndangered};
 pub use fleet::{Event, EventKind, EventQueue, Fleet, RepairTally};
+pub use shade::ShadeMotion;
 
 use crate::scenario::{
     DetectionSpec, DispatchSpec, RepairSettings, ReplacementThresholdSpec, ResupplySpec,
@@ -111,6 +113,9 @@ pub struct RepairPlan {
     pub bay_top_m: Vec<f64>,
     /// Inspection and preventive replacement, if any.
     pub preventive: Option<PreventivePlan>,
+    /// Solar climbers: how the Moon's shadow slows them (None: beamed power, travel at
+    /// constant speed).
+    pub shade: Option<ShadeMotion>,
 }
 
 /// Inspection and preventive replacement as the fleet and the engine need it.
@@ -210,6 +215,45 @@ impl RepairPlan {
                     .partition_point(|b| b.bottom_altitude_m < p.inspection_lowest_m),
                 inspection_spares: p.inspection_spares,
             }),
+            shade: None,
+        }
+    }
+
+    /// Set the shadow model of solar climbers from validated settings (`moon_radius_m` from
+    /// the model's constants); nothing without solar power.
+    pub fn with_solar(mut self, r: &RepairSettings, moon_radius_m: f64) -> Self {
+        self.shade = r.solar.as_ref().map(|s| ShadeMotion {
+            moon_radius_m,
+            sun_rate_rad_per_s: crate::orbit::shadow::sun_rate_rad_per_s(),
+            sun_angle_at_start_rad: s.sun_angle_at_start_rad,
+            shade_speed_m_per_s: s.shade_speed_m_per_s,
+            battery_j: s.battery_j,
+            power_w: s.power_w,
+        });
+        self
+    }
+
+    /// Time of a leg from altitude `from_m` to `to_m` started at `t0_s`, s: the distance at the
+    /// climb or descent speed, plus the delay in the Moon's shadow for solar climbers (exact,
+    /// see [`ShadeMotion`]). Without solar power it is the same arithmetic as
+    /// [`RepairPlan::travel_out_s`], to the bit.
+    #[inline]
+    pub fn leg_s(&self, from_m: f64, to_m: f64, t0_s: f64) -> f64 {
+        let d = to_m - from_m;
+        let speed = if d >= 0.0 {
+            self.speed_up_m_per_s
+        } else {
+            self.speed_down_m_per_s
+        };
+        match &self.shade {
+            None => {
+                if d >= 0.0 {
+                    d / speed
+                } else {
+                    -d / speed
+                }
+            }
+            Some(m) => m.arrival_s(from_m, to_m, t0_s, speed) - t0_s,
         }
     }
 

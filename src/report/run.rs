@@ -151,6 +151,7 @@ pub fn run_text(s: &RunSummary) -> String {
             sig(r.queue.arrival_rate_per_hour, 3),
             sig(r.queue.mean_wait_hours, 3)
         ));
+        o.push_str(&format!("  {}\n", trip_sentence(r)));
         if let Some(p) = &r.preventive {
             o.push_str(&format!(
                 "  preventive replacement: {} segments replaced ({} at repair visits, {} at periodic inspections; {} per history), {} spares used in all (splices + preventive), {} qualifying segments left for want of a spare; {} bays inspected, {} periodic inspections ({} skipped: no idle climber)\n",
@@ -363,6 +364,17 @@ pub fn wait_sentence(r: &crate::engine::RepairSummary) -> String {
         sig(q.mean_wait_hours, 3),
         sig(c, 3),
         sig(st, 3)
+    )
+}
+
+/// The repair trip split into travel, waiting for light (solar climbers in the Moon's shadow)
+/// and splicing, per segment sent (one sentence, no trailing period).
+pub fn trip_sentence(r: &crate::engine::RepairSummary) -> String {
+    format!(
+        "repair trip per segment sent: travel {} h (turnaround and climb at full speed), waiting for light {} h (solar climbers in the Moon's shadow), splicing {} h; the rest of the time from cut to splice is detection and the wait for dispatch",
+        sig(r.mean_trip_travel_hours, 3),
+        sig(r.mean_wait_for_light_hours, 3),
+        sig(r.mean_trip_splice_hours, 3)
     )
 }
 

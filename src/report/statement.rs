@@ -62,12 +62,53 @@ pub fn monte_carlo_assumptions(s: &RunSummary, scenario: Option<&Value>) -> Vec<
         )),
         None => a.push("no repair: cuts accumulate over the mission".into()),
     }
+    if let Some(r) = repair {
+        a.push(climber_power_assumption(
+            r.get("climber").and_then(|c| c.get("power")),
+        ));
+    }
     a.push(if s.rare_event.is_some() {
         "the interval is the Wilson score interval on effective counts, given only when the weighted estimate is resolved".into()
     } else {
         "the interval is the exact Clopper–Pearson interval of the loss count".into()
     });
     a
+}
+
+/// How the Moon's shadow acts on the climbers, in words (the scenario's
+/// `repair.climber.power`; absent: beamed).
+fn climber_power_assumption(power: Option<&Value>) -> String {
+    let num = |k: &str| {
+        power
+            .and_then(|p| p.get(k))
+            .and_then(Value::as_f64)
+            .unwrap_or(0.0)
+    };
+    let shade = |vs: f64| {
+        if vs > 0.0 {
+            format!("move at {} m/s", sig(vs, 3))
+        } else {
+            "stop".to_string()
+        }
+    };
+    let geometry = "a point at distance r from the Moon's centre is in the shadow cylinder for arcsin(R/r)/π of every 29.53-day synodic month, with the Sun in the Moon's orbital plane (the Sun's few degrees out of that plane, the umbra's taper and the Earth's shadow are left out, which over-states shade high on the tether); splicing is not slowed by shade";
+    match power.and_then(|p| p.get("kind")).and_then(Value::as_str) {
+        None | Some("beamed") => {
+            "climbers have full power in the Moon's shadow (beamed power): no waiting for light".into()
+        }
+        Some("solar") => format!(
+            "solar climbers {} while in the Moon's shadow (exact travel through the lit and dark stretches; Sun {} deg from the tether's direction at mission start); {geometry}",
+            shade(num("shade_speed_m_per_s")),
+            sig(num("sun_angle_at_start_deg"), 3)
+        ),
+        Some(_) => format!(
+            "solar climbers run in the Moon's shadow on a {} Wh battery at {} W, then {} (battery full at each leg's start and refilled in light, an engineering assumption; Sun {} deg from the tether's direction at mission start); {geometry}",
+            sig(num("battery_energy_wh"), 3),
+            sig(num("power_w"), 3),
+            shade(num("shade_speed_m_per_s")),
+            sig(num("sun_angle_at_start_deg"), 3)
+        ),
+    }
 }
 
 /// "What the model assumes": flux model and source, switches, valid mass range, the Monte

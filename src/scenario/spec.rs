@@ -425,10 +425,57 @@ pub struct ClimberSpec {
     /// check it at practical cost); `check` warns whenever the envelope is below the weight.
     #[serde(default)]
     pub load_on_bays: bool,
+    /// What powers the climbers, and so whether the Moon's shadow slows them (default
+    /// `beamed`: power in shade as in sunlight, the behaviour before this option existed).
+    #[serde(default, skip_serializing_if = "ClimberPowerSpec::is_beamed")]
+    pub power: ClimberPowerSpec,
 }
 
 fn default_climber_mass() -> f64 {
     300.0
+}
+
+/// What powers a climber. Solar climbers slow down or stop while they are in the Moon's shadow
+/// (a point at distance r from the Moon's centre is dark for arcsin(R/r)/pi of every synodic
+/// month); see `repair::ShadeMotion` for the motion and its assumptions.
+#[derive(Clone, Debug, Serialize, Deserialize, PartialEq, Default)]
+#[serde(tag = "kind", rename_all = "snake_case", deny_unknown_fields)]
+pub enum ClimberPowerSpec {
+    /// Power beamed from a station (or any supply the shadow does not cut): full speed always.
+    #[default]
+    Beamed,
+    /// Solar cells only: in the shadow the climber moves at `shade_speed_m_per_s` (0: stops).
+    Solar {
+        /// Speed in the shadow, m/s (0: the climber stops until it is lit).
+        #[serde(default)]
+        shade_speed_m_per_s: f64,
+        /// Angle at mission start, at the Moon's centre, from the tether's direction to the
+        /// Sun, in the sense of the Sun's motion, degrees (0: Sun above the tether, all lit;
+        /// 180: Sun behind the Moon; for a near-side tether 180 is new Moon).
+        #[serde(default)]
+        sun_angle_at_start_deg: f64,
+    },
+    /// Solar cells and a battery: in the shadow the climber moves at full speed on the
+    /// battery, drawing `power_w`, until it is empty, then at `shade_speed_m_per_s`.
+    SolarWithBattery {
+        /// Usable battery energy, Wh (full at the start of each leg, refilled in light).
+        battery_energy_wh: f64,
+        /// Power drawn while moving at full speed, W.
+        power_w: f64,
+        /// Speed in the shadow with an empty battery, m/s (0: stops).
+        #[serde(default)]
+        shade_speed_m_per_s: f64,
+        /// Sun angle at mission start, degrees (as for `solar`).
+        #[serde(default)]
+        sun_angle_at_start_deg: f64,
+    },
+}
+
+impl ClimberPowerSpec {
+    /// The default: no shade effect.
+    pub fn is_beamed(&self) -> bool {
+        matches!(self, ClimberPowerSpec::Beamed)
+    }
 }
 
 /// How a cut is noticed.

@@ -123,6 +123,21 @@ pub struct RepairSettings {
     pub preventive: Option<PreventiveSettings>,
     /// Required 90th percentile of the time from cut to splice, hours (none when absent).
     pub splice_p90_target_hours: Option<f64>,
+    /// Solar power: how the shadow slows climbers (None: beamed power, no shade effect).
+    pub solar: Option<SolarSettings>,
+}
+
+/// A solar climber's behaviour in the Moon's shadow, in SI units.
+#[derive(Clone, Debug, PartialEq)]
+pub struct SolarSettings {
+    /// Speed in the shadow with no battery energy left, m/s.
+    pub shade_speed_m_per_s: f64,
+    /// Battery energy, J (0: none).
+    pub battery_j: f64,
+    /// Power drawn while moving on the battery, W (0 without a battery).
+    pub power_w: f64,
+    /// Sun angle at mission start from the tether's direction, rad.
+    pub sun_angle_at_start_rad: f64,
 }
 
 /// Inspection and preventive replacement in SI units.
@@ -941,6 +956,7 @@ fn validate_repair(r: &RepairSpec, top_altitude_m: f64) -> Result<RepairSettings
             "a requirement on the 90th percentile of the time from a cut to its splice",
         )?;
     }
+    let solar = validate_power(&c.power, up.min(down))?;
     Ok(RepairSettings {
         stations,
         speed_up_m_per_s: up,
@@ -955,7 +971,72 @@ fn validate_repair(r: &RepairSpec, top_altitude_m: f64) -> Result<RepairSettings
         climber_load_on_bays: c.load_on_bays,
         preventive,
         splice_p90_target_hours: r.splice_p90_target_hours,
+        solar,
     })
+}
+
+fn validate_power(
+    p: &ClimberPowerSpec,
+    slowest_m_per_s: f64,
+) -> Result<Option<SolarSettings>, ScenarioError> {
+    let q = "repair.climber.power";
+    let (vs, angle, battery) = match p {
+        ClimberPowerSpec::Beamed => return Ok(None),
+        ClimberPowerSpec::Solar {
+            shade_speed_m_per_s,
+            sun_angle_at_start_deg,
+        } => (*shade_speed_m_per_s, *sun_angle_at_start_deg, None),
+        ClimberPowerSpec::SolarWithBattery {
+            battery_energy_wh,
+            power_w,
+            shade_speed_m_per_s,
+            sun_angle_at_start_deg,
+        } => (
+            *shade_speed_m_per_s,
+            *sun_angle_at_start_deg,
+            Some((*battery_energy_wh, *power_w)),
+        ),
+    };
+    let vs = check(
+        &format!("{q}.shade_speed_m_per_s"),
+        vs,
+        Range::closed(0.0, slowest_m_per_s),
+        "m/s",
+        "at most the slower of the climb and descent speeds (0: the climber stops in shade)",
+    )?;
+    let angle = check(
+        &format!("{q}.sun_angle_at_start_deg"),
+        angle,
+        Range::closed(0.0, 360.0),
+        "deg",
+        "0: Sun above the tether; 180: Sun behind the Moon",
+    )?;
+    let (battery_j, power_w) = match battery {
+        None => (0.0, 0.0),
+        Some((wh, w)) => {
+            let wh = check(
+                &format!("{q}.battery_energy_wh"),
+                wh,
+                Range::open_closed(0.0, 1e9),
+                "Wh",
+                "usable battery energy",
+            )?;
+            let w = check(
+                &format!("{q}.power_w"),
+                w,
+                Range::open_closed(0.0, 1e9),
+                "W",
+                "power drawn while moving at full speed",
+            )?;
+            (wh * 3600.0, w)
+        }
+    };
+    Ok(Some(SolarSettings {
+        shade_speed_m_per_s: vs,
+        battery_j,
+        power_w,
+        sun_angle_at_start_rad: angle.to_radians(),
+    }))
 }
 
 fn validate_preventive(
