@@ -117,6 +117,7 @@ pub fn tether_design(scenario: &Scenario) -> TetherDesign {
         anchor_preload_n: t.anchor_preload_n,
         traffic_load_n: t.traffic_load_n,
         notch: t.notch,
+        surface_run_m: t.surface_run_m,
     }
 }
 
@@ -221,10 +222,19 @@ impl Model {
                 path: "environment.lunar_ejecta".into(),
                 message: err.to_string(),
             })?;
+            // The ejecta's arrival geometry (horizontal onto a vertical face) does not describe
+            // a ribbon lying on the ground: surface-run bays get none (an infinite span lies
+            // above every ceiling), and `check` warns.
             let spans: Vec<(f64, f64)> = profile
                 .bays
                 .iter()
-                .map(|b| (b.bottom_altitude_m, b.top_altitude_m))
+                .map(|b| {
+                    if b.surface_run {
+                        (f64::INFINITY, f64::INFINITY)
+                    } else {
+                        (b.bottom_altitude_m, b.top_altitude_m)
+                    }
+                })
                 .collect();
             Some(ejecta::EjectaSource::new(
                 environment,
@@ -246,6 +256,7 @@ impl Model {
                 env.earth_focusing,
                 env.moon_shielding,
                 match env.moon_shielding_geometry {
+                    _ if bay.surface_run => ShieldingGeometry::SurfaceLyingFace,
                     ShieldingGeometrySpec::RibbonFace => ShieldingGeometry::HangingRibbonFace,
                     ShieldingGeometrySpec::RandomPlate => ShieldingGeometry::RandomPlate,
                 },
@@ -321,12 +332,23 @@ fn check_repair_feasible(
         let bay = &profile.bays[j];
         return Err(ScenarioError::Infeasible {
             reason: format!(
-                "repair.climber.payload_kg = {} kg cannot carry one spare segment: bay {j} ({:.0}-{:.0} km) needs \
+                "repair.climber.payload_kg = {} kg cannot carry one spare segment: bay {j} ({}) needs \
                  {:.1} kg of ribbon ({:.1} mm x {:.1} um x {:.1} km). Raise the payload, shorten \
                  tether.cross_link_spacing_km, or narrow the ribbons",
                 r.payload_kg,
-                bay.bottom_altitude_m / 1e3,
-                bay.top_altitude_m / 1e3,
+                if bay.surface_run {
+                    format!(
+                        "surface run, {:.0}-{:.0} km from the base",
+                        bay.line_bottom_m / 1e3,
+                        bay.line_top_m / 1e3
+                    )
+                } else {
+                    format!(
+                        "{:.0}-{:.0} km",
+                        bay.bottom_altitude_m / 1e3,
+                        bay.top_altitude_m / 1e3
+                    )
+                },
                 m,
                 bay.width_m * 1e3,
                 profile.design.thickness_m * 1e6,

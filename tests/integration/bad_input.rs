@@ -234,19 +234,31 @@ fn station_off_the_tether_refused() {
     );
 }
 
+/// A base off the tether's foot is a design (joined by a surface run, see surface_run.rs);
+/// only coordinates that name no point on the Moon are refused.
 #[test]
-fn anchor_off_the_sub_earth_point_refused() {
-    let e = refused("lon", |v| v["tether"]["anchor_longitude_deg"] = json!(45.0));
+fn anchor_latitude_beyond_the_pole_refused() {
+    let e = refused("lat", |v| v["tether"]["anchor_latitude_deg"] = json!(91.0));
+    has(&e, &["tether.anchor_latitude_deg = 91", "[-90, 90] deg"]);
+}
+
+#[test]
+fn anchor_longitude_out_of_range_refused() {
+    let e = refused("lon", |v| {
+        v["tether"]["anchor_longitude_deg"] = json!(400.0)
+    });
     has(
         &e,
-        &["tether.anchor_longitude_deg = 45", "sub-Earth", "0 deg"],
+        &["tether.anchor_longitude_deg = 400", "[-180, 360] deg"],
     );
 }
 
 #[test]
-fn anchor_off_the_equator_refused() {
-    let e = refused("lat", |v| v["tether"]["anchor_latitude_deg"] = json!(10.0));
-    has(&e, &["tether.anchor_latitude_deg = 10", "equator"]);
+fn anchor_latitude_not_a_number_refused() {
+    let e = refused("lat-nan", |v| {
+        v["tether"]["anchor_latitude_deg"] = json!("north")
+    });
+    has(&e, &["anchor_latitude_deg"]);
 }
 
 #[test]

@@ -20,4 +20,5 @@ mod repair;
 mod report;
 mod robust;
 mod sensitivity;
+mod surface_run;
 mod sweep;
