@@ -31,11 +31,14 @@ pub fn run(a: Args) -> anyhow::Result<()> {
         }
         Format::Csv => print(&p.table().to_csv()),
         Format::Text => print(&format!(
-            "Tether profile: scenario \"{}\" (hash {}), {} bays, {} km\n\n{}",
+            "Tether profile: scenario \"{}\" (hash {}), {} bays, {} km{}\n\n{}",
             p.scenario,
             p.scenario_hash,
             p.bay_count,
             p.tether_length_km,
+            p.surface_run_length_km.map_or(String::new(), |l| format!(
+                " hanging, plus a surface run of {l:.1} km from the base to the foot (bays marked \"surface run\"; altitude 0)"
+            )),
             p.table().to_text()
         )),
     }
@@ -61,7 +64,10 @@ fn with_physics_fields(model: &Model, p: &ProfileSummary) -> anyhow::Result<serd
             ) else {
                 continue;
             };
-            let face = if model.scenario.environment.moon_shielding {
+            let face = if bay.surface_run {
+                // A ribbon lying on the ground: its model factor (1/2, or 1 with shielding off).
+                t.factors.moon_shielding
+            } else if model.scenario.environment.moon_shielding {
                 horizontal_face_shielding_factor(orbit.moon_radius_m, bay.mid_altitude_m())?
             } else {
                 1.0

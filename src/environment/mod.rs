@@ -195,6 +195,15 @@ pub enum ShieldingGeometry {
     /// A face of a ribbon hanging along the vertical (normal horizontal):
     /// [`horizontal_face_shielding_factor`] (what the tether model uses).
     HangingRibbonFace,
+    /// A ribbon lying flat on the ground (the surface run): exactly 1/2 at any altitude given.
+    ///
+    /// [DERIVED] Its upper face sees the whole open half-space, `pi I` per unit area = the
+    /// one-face flux F of the ECSS convention (ECSS-E-ST-10-04C Rev.1 §10.2; a plate face
+    /// receives `Int_hemisphere I cos(theta) dOmega = pi I`); its lower face rests on the
+    /// ground and sees none. Against the two-face rate 2F of a ribbon in free space that is a
+    /// factor of 1/2, the ECSS C-26/C-27 surface value (`h = R_A`). The exposed area is the
+    /// upper face, width `w` (plus the particle diameter for edge overlap) times length.
+    SurfaceLyingFace,
 }
 
 /// Shielding and focusing at `altitude_m` above the lunar surface on the given side, for a
@@ -261,6 +270,7 @@ pub fn local_factors_for(
             ShieldingGeometry::HangingRibbonFace => {
                 horizontal_face_shielding_factor(orbit.moon_radius_m, altitude_m)?
             }
+            ShieldingGeometry::SurfaceLyingFace => 0.5,
         }
     } else {
         1.0

@@ -18,7 +18,9 @@
 //! by the bay's load-sharing rule. Simplification, stated: a climber also loads the bays
 //! between it and the counterweight; only the bay it stands in gets the extra here (the bay
 //! whose grip and splice loads are local, and the one a repair climber visits because it is
-//! weakened). Parked climbers rest on their station, not on a bay.
+//! weakened). Parked climbers rest on their station, not on a bay. A climber on the surface
+//! run rests on the ground: its weight adds no tension there (weight 0; engineering
+//! assumption, rolling resistance neglected).
 
 use crate::orbit::{EarthMoon, Side};
 
@@ -44,8 +46,12 @@ pub fn loaded_climber_mass_kg(model: &Model) -> Option<f64> {
         .map(|r| r.climber_mass_kg + r.payload_kg)
 }
 
-/// Weight of a loaded climber at the middle of bay `j`, N (0 without repair).
+/// Weight of a loaded climber at the middle of bay `j`, N (0 without repair, and on the
+/// surface run, where the ground carries it).
 pub fn loaded_climber_weight_at_bay_n(model: &Model, j: usize) -> f64 {
+    if model.profile.bays[j].surface_run {
+        return 0.0;
+    }
     loaded_climber_mass_kg(model).map_or(0.0, |m| {
         climber_weight_n(
             &model.orbit,
@@ -77,8 +83,12 @@ pub fn max_loaded_climber_weight(model: &Model) -> Option<(f64, f64)> {
 }
 
 /// Weight of one loaded climber in bay `j`: the larger of its weights at the bay's two ends
-/// (the field is monotone inside a bay except right at L1, where it is near zero), N.
+/// (the field is monotone inside a bay except right at L1, where it is near zero), N; 0 on
+/// the surface run.
 pub fn loaded_climber_weight_in_bay_n(model: &Model, j: usize) -> f64 {
+    if model.profile.bays[j].surface_run {
+        return 0.0;
+    }
     loaded_climber_mass_kg(model).map_or(0.0, |m| {
         let side = model.scenario.tether.side;
         let b = &model.profile.bays[j];

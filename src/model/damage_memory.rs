@@ -12,7 +12,7 @@ use crate::analytic::damage_memory::{HoleRate, MemoryBay};
 use crate::scenario::LoadSharingSpec;
 
 use super::hole_rate::{BayHoleRate, HoleRateTable};
-use super::markov::repair_mean_time_s;
+use super::markov::repair_mean_time_along_line_s;
 use super::Model;
 
 impl HoleRate for BayHoleRate {
@@ -70,7 +70,13 @@ pub fn memory_bays(model: &Model, table: &HoleRateTable) -> Vec<MemoryBay<BayHol
             let repair = sc
                 .repair
                 .as_ref()
-                .and_then(|r| repair_mean_time_s(r, bay.mid_altitude_m()))
+                .and_then(|r| {
+                    repair_mean_time_along_line_s(
+                        r,
+                        bay.line_mid_m(),
+                        model.profile.surface_run_length_m(),
+                    )
+                })
                 .filter(|&t| t > 0.0)
                 .map(|t| {
                     let mut v = vec![1.0 / t; critical_m.len().max(1)];

@@ -215,6 +215,21 @@ fn diameters_needed(damage: &DamageSpec, w: f64, h: f64) -> [f64; 2] {
 /// Mean repair time of a segment in a bay whose middle is at `altitude_m`, s, or `None` when
 /// no station has a climber (see the module notes for how the mean is formed).
 pub fn repair_mean_time_s(repair: &RepairSettings, altitude_m: f64) -> Option<f64> {
+    repair_mean_time_along_line_s(repair, altitude_m, 0.0)
+}
+
+/// [`repair_mean_time_s`] for a point `position_m` along the line from the base of a tether
+/// with a surface run of `surface_run_m` (stations placed as in
+/// [`crate::structure::line_position_of_altitude_m`]).
+pub fn repair_mean_time_along_line_s(
+    repair: &RepairSettings,
+    position_m: f64,
+    surface_run_m: f64,
+) -> Option<f64> {
+    let altitude_m = position_m;
+    let at = |s: &crate::scenario::StationSettings| {
+        crate::structure::line_position_of_altitude_m(s.altitude_m, surface_run_m)
+    };
     let hour = 3600.0;
     let detection_s = match repair.detection {
         DetectionSpec::Fixed { delay_hours } => delay_hours * hour,
@@ -226,11 +241,11 @@ pub fn repair_mean_time_s(repair: &RepairSettings, altitude_m: f64) -> Option<f6
         .iter()
         .filter(|s| s.climbers > 0)
         .min_by(|a, b| {
-            let da = (a.altitude_m - altitude_m).abs();
-            let db = (b.altitude_m - altitude_m).abs();
+            let da = (at(a) - altitude_m).abs();
+            let db = (at(b) - altitude_m).abs();
             da.total_cmp(&db)
         })?;
-    let distance = altitude_m - station.altitude_m;
+    let distance = altitude_m - at(station);
     let travel_s = if distance >= 0.0 {
         distance / repair.speed_up_m_per_s
     } else {
@@ -415,10 +430,9 @@ impl MarkovModel {
             let scale =
                 bay.length_m() * model.bays[j].factors.total() * sc.environment.flux_scale_factor
                     / SECONDS_PER_YEAR;
-            let mean = sc
-                .repair
-                .as_ref()
-                .and_then(|r| repair_mean_time_s(r, bay.mid_altitude_m()));
+            let mean = sc.repair.as_ref().and_then(|r| {
+                repair_mean_time_along_line_s(r, bay.line_mid_m(), profile.surface_run_length_m())
+            });
             let repair_rate = mean.map_or(0.0, |t| if t > 0.0 { 1.0 / t } else { 0.0 });
             let mut cut = Vec::with_capacity(hs.len());
             let mut repair = Vec::with_capacity(hs.len());

@@ -117,6 +117,7 @@ pub fn tether_design(scenario: &Scenario) -> TetherDesign {
         anchor_preload_n: t.anchor_preload_n,
         traffic_load_n: t.traffic_load_n,
         notch: t.notch,
+        surface_run_m: t.surface_run_m,
     }
 }
 
@@ -221,10 +222,19 @@ impl Model {
                 path: "environment.lunar_ejecta".into(),
                 message: err.to_string(),
             })?;
+            // The ejecta's arrival geometry (horizontal onto a vertical face) does not describe
+            // a ribbon lying on the ground: surface-run bays get none (an infinite span lies
+            // above every ceiling), and `check` warns.
             let spans: Vec<(f64, f64)> = profile
                 .bays
                 .iter()
-                .map(|b| (b.bottom_altitude_m, b.top_altitude_m))
+                .map(|b| {
+                    if b.surface_run {
+                        (f64::INFINITY, f64::INFINITY)
+                    } else {
+                        (b.bottom_altitude_m, b.top_altitude_m)
+                    }
+                })
                 .collect();
             Some(ejecta::EjectaSource::new(
                 environment,
@@ -246,6 +256,7 @@ impl Model {
                 env.earth_focusing,
                 env.moon_shielding,
                 match env.moon_shielding_geometry {
+                    _ if bay.surface_run => ShieldingGeometry::SurfaceLyingFace,
                     ShieldingGeometrySpec::RibbonFace => ShieldingGeometry::HangingRibbonFace,
                     ShieldingGeometrySpec::RandomPlate => ShieldingGeometry::RandomPlate,
                 },
@@ -316,17 +327,40 @@ fn check_repair_feasible(
     let Some(r) = &scenario.repair else {
         return Ok(());
     };
+    // The shadow model follows a climber along the tether line (distance from the Moon's
+    // centre = radius + altitude); on a surface run the distance stays the radius while the
+    // position moves, and the sunlit side depends on the base's longitude, which it does not
+    // model. Refused rather than answered wrongly.
+    if r.solar.is_some() && profile.surface_run_length_m() > 0.0 {
+        return Err(ScenarioError::Infeasible {
+            reason: format!(
+                "repair.climber.power = solar is not modelled with a surface run ({:.0} km from a base at tether.anchor_latitude_deg / anchor_longitude_deg away from the tether's foot): the shadow model covers climbers on the hanging tether only. Use {{\"kind\": \"beamed\"}} power, or put the base at the foot",
+                profile.surface_run_length_m() / 1e3
+            ),
+        });
+    }
     let (j, m) = profile.heaviest_segment();
     if m > r.payload_kg {
         let bay = &profile.bays[j];
         return Err(ScenarioError::Infeasible {
             reason: format!(
-                "repair.climber.payload_kg = {} kg cannot carry one spare segment: bay {j} ({:.0}-{:.0} km) needs \
+                "repair.climber.payload_kg = {} kg cannot carry one spare segment: bay {j} ({}) needs \
                  {:.1} kg of ribbon ({:.1} mm x {:.1} um x {:.1} km). Raise the payload, shorten \
                  tether.cross_link_spacing_km, or narrow the ribbons",
                 r.payload_kg,
-                bay.bottom_altitude_m / 1e3,
-                bay.top_altitude_m / 1e3,
+                if bay.surface_run {
+                    format!(
+                        "surface run, {:.0}-{:.0} km from the base",
+                        bay.line_bottom_m / 1e3,
+                        bay.line_top_m / 1e3
+                    )
+                } else {
+                    format!(
+                        "{:.0}-{:.0} km",
+                        bay.bottom_altitude_m / 1e3,
+                        bay.top_altitude_m / 1e3
+                    )
+                },
                 m,
                 bay.width_m * 1e3,
                 profile.design.thickness_m * 1e6,

@@ -13,6 +13,8 @@ use super::{climber, Model};
 pub const TRAFFIC_BELOW_CLIMBER_WEIGHT: &str = "traffic_envelope_below_climber_weight";
 /// The lunar secondary-ejecta source is switched off.
 pub const LUNAR_EJECTA_EXCLUDED: &str = "lunar_ejecta_excluded";
+/// Lunar ejecta are on, but not modelled on the surface run.
+pub const SURFACE_RUN_WITHOUT_EJECTA: &str = "surface_run_without_ejecta";
 /// The hole size is a constant multiple of the particle diameter (engineering assumption).
 pub const CONSTANT_HOLE_FACTOR: &str = "constant_hole_factor";
 /// A notch-sensitive model rates edge-breaking holes as central holes (not conservative).
@@ -53,6 +55,18 @@ pub fn design_warnings(model: &Model) -> Vec<DesignWarning> {
                       environment, which exceeds the primary flux by orders of magnitude below \
                       about 374 km, is not included"
                 .into(),
+        });
+    }
+    let surface = model.profile.surface_bay_count();
+    if surface > 0 && model.ejecta.is_some() {
+        out.push(DesignWarning {
+            code: SURFACE_RUN_WITHOUT_EJECTA,
+            message: format!(
+                "environment.lunar_ejecta is on, but its arrival geometry (horizontal onto a \
+                 vertical face) does not describe the {:.0} km surface run lying on the ground: \
+                 its {surface} bays get no ejecta strikes, so their ejecta risk is missing",
+                model.profile.surface_run_length_m() / 1e3
+            ),
         });
     }
     if let DamageSpec::ThinFilmHole {

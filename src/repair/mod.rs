@@ -9,7 +9,10 @@
 //! **Climber motion.** Climbers move at a constant speed up and a constant speed down. A real
 //! climber is power-limited near the Moon, where the effective gravity is 1.6 m/s^2, and nearly
 //! weightless near L1; a constant speed is the speed the power budget sustains and is the input
-//! a fleet designer controls. Travel time is |altitude difference| / speed.
+//! a fleet designer controls. Travel time is |altitude difference| / speed. With a surface run
+//! (a base away from the tether's foot) every position is the distance along the line from
+//! the base ([`crate::structure::Bay`]): a climber drives the run at its speeds "up" (away from
+//! the base) and "down", and a station at altitude 0 is at the base.
 //!
 //! **Capacity.** A climber carries as many spare segments for one bay as its payload allows
 //! (payload / segment mass, at least one: the model refuses a climber that cannot lift one) and
@@ -70,7 +73,8 @@ pub enum Resupply {
 pub struct Station {
     /// Name.
     pub name: String,
-    /// Altitude, m.
+    /// Position along the line from the base, m: the station's altitude, plus the surface
+    /// run's length for a station above the surface.
     pub altitude_m: f64,
     /// Climbers based here.
     pub climbers: u32,
@@ -99,7 +103,7 @@ pub struct RepairPlan {
     pub dispatch: DispatchSpec,
     /// Segments a climber can carry for bay j.
     pub capacity_per_trip: Vec<u32>,
-    /// Mid altitude of bay j, m.
+    /// Middle of bay j along the line from the base, m (its mid altitude without a surface run).
     pub bay_altitude_m: Vec<f64>,
     /// Intact margin of bay j (for the most-endangered policy's tie-break).
     pub bay_margin: Vec<f64>,
@@ -107,9 +111,9 @@ pub struct RepairPlan {
     pub demand_interval_s: f64,
     /// Bays where climbers can add load (empty without climber loads: no load events).
     pub load_bays: Vec<bool>,
-    /// Bottom altitude of bay j, m.
+    /// End of bay j nearer the base, along the line, m.
     pub bay_bottom_m: Vec<f64>,
-    /// Top altitude of bay j, m.
+    /// End of bay j farther from the base, along the line, m.
     pub bay_top_m: Vec<f64>,
     /// Inspection and preventive replacement, if any.
     pub preventive: Option<PreventivePlan>,
@@ -186,7 +190,10 @@ impl RepairPlan {
                 .iter()
                 .map(|s| Station {
                     name: s.name.clone(),
-                    altitude_m: s.altitude_m,
+                    altitude_m: crate::structure::line_position_of_altitude_m(
+                        s.altitude_m,
+                        profile.surface_run_length_m(),
+                    ),
                     climbers: s.climbers,
                     initial_stock: s.initial_stock_segments,
                 })
@@ -199,12 +206,12 @@ impl RepairPlan {
             resupply,
             dispatch: r.dispatch,
             capacity_per_trip,
-            bay_altitude_m: profile.bays.iter().map(|b| b.mid_altitude_m()).collect(),
+            bay_altitude_m: profile.bays.iter().map(|b| b.line_mid_m()).collect(),
             bay_margin: (0..profile.bays.len()).map(|j| profile.margin(j)).collect(),
             demand_interval_s,
             load_bays: Vec::new(),
-            bay_bottom_m: profile.bays.iter().map(|b| b.bottom_altitude_m).collect(),
-            bay_top_m: profile.bays.iter().map(|b| b.top_altitude_m).collect(),
+            bay_bottom_m: profile.bays.iter().map(|b| b.line_bottom_m).collect(),
+            bay_top_m: profile.bays.iter().map(|b| b.line_top_m).collect(),
             preventive: r.preventive.as_ref().map(|p| PreventivePlan {
                 threshold: p.threshold,
                 at_visits: p.at_climber_visits,

@@ -21,6 +21,74 @@ pub struct CriticalRow {
     pub critical_hole_width_mm: Vec<f64>,
 }
 
+/// The surface run from a base away from the tether's foot (`check`; present only when the
+/// base is off the foot). See [`crate::structure::surface`].
+#[derive(Clone, Debug, Serialize)]
+pub struct SurfaceRunSummary {
+    /// Latitude of the base, deg.
+    pub base_latitude_deg: f64,
+    /// Longitude of the base, deg.
+    pub base_longitude_deg: f64,
+    /// Longitude of the tether's foot on the equator, deg (0 near side, 180 far side).
+    pub foot_longitude_deg: f64,
+    /// Central angle between base and foot, deg.
+    pub central_angle_deg: f64,
+    /// Great-circle length from the base to the foot, km (Moon radius x central angle).
+    pub length_km: f64,
+    /// Moon radius used, km.
+    pub moon_radius_km: f64,
+    /// Bays of the surface run (the first bays of the profile).
+    pub bay_count: usize,
+    /// Tension carried along the run (the hanging tether's anchor tension, with traffic), N.
+    pub tension_n: f64,
+    /// Moon shielding factor of a ribbon lying on the ground (1/2; 1 with shielding off).
+    pub shielding_factor: f64,
+    /// Damaging strikes per year on the whole run (all ribbons; able to sever an intact
+    /// segment).
+    pub damaging_strike_rate_per_year: f64,
+    /// Ribbon mass of the run, kg (included in the ribbon mass).
+    pub ribbon_mass_kg: f64,
+}
+
+impl SurfaceRunSummary {
+    /// From a built model; `None` when the base is at the foot.
+    pub fn from_model(m: &Model) -> Option<Self> {
+        let p = &m.profile;
+        let k = p.surface_bay_count();
+        if k == 0 {
+            return None;
+        }
+        let t = &m.scenario.tether;
+        let d = &p.design;
+        let r = m.orbit.moon_radius_m;
+        Some(SurfaceRunSummary {
+            base_latitude_deg: t.anchor_latitude_deg,
+            base_longitude_deg: t.anchor_longitude_deg,
+            foot_longitude_deg: crate::scenario::foot_longitude_deg(t.side),
+            central_angle_deg: (p.surface_run_length_m() / r).to_degrees(),
+            length_km: p.surface_run_length_m() / 1e3,
+            moon_radius_km: r / 1e3,
+            bay_count: k,
+            tension_n: p.bays[0].max_tension_n,
+            shielding_factor: m.bays[0].factors.moon_shielding,
+            damaging_strike_rate_per_year: m.bays[..k]
+                .iter()
+                .map(|b| b.damaging_strike_rate_per_year)
+                .sum(),
+            ribbon_mass_kg: p.bays[..k]
+                .iter()
+                .map(|b| {
+                    d.ribbon_count as f64
+                        * b.width_m
+                        * d.thickness_m
+                        * d.density_kg_per_m3
+                        * b.length_m()
+                })
+                .sum(),
+        })
+    }
+}
+
 /// Derived design quantities (`check`).
 #[derive(Clone, Debug, Serialize)]
 pub struct DesignSummary {
@@ -40,10 +108,14 @@ pub struct DesignSummary {
     pub l2_distance_from_moon_center_km: f64,
     /// Altitude of the tether's Lagrange point above the surface, km.
     pub lagrange_altitude_km: f64,
-    /// Anchor to top end, km.
+    /// Anchor to top end, km (the hanging tether, from its foot).
     pub tether_length_km: f64,
-    /// Number of bays.
+    /// Number of bays (surface run included).
     pub bay_count: usize,
+    /// The surface run from a base off the tether's foot (absent when the base is at the
+    /// foot).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub surface_run: Option<SurfaceRunSummary>,
     /// Cross-link spacing, km.
     pub cross_link_spacing_km: f64,
     /// Ribbon count.
@@ -116,6 +188,8 @@ pub struct ModelStatement {
     pub moon_shielding: bool,
     /// Lunar ejecta as a second strike source.
     pub lunar_ejecta: bool,
+    /// Where the base is and how it reaches the tether's foot, in words.
+    pub anchor: String,
     /// Settings the program used instead of what the scenario gave, in words.
     pub overridden_settings: Vec<String>,
 }
@@ -154,8 +228,32 @@ impl ModelStatement {
             earth_focusing: env.earth_focusing,
             moon_shielding: env.moon_shielding,
             lunar_ejecta: m.ejecta.is_some(),
+            anchor: anchor_statement(m),
             overridden_settings: overridden,
         }
+    }
+}
+
+/// The model statement's anchor row.
+fn anchor_statement(m: &Model) -> String {
+    let t = &m.scenario.tether;
+    let foot = match t.side {
+        Side::Near => "the sub-Earth point",
+        Side::Far => "the anti-Earth point",
+    };
+    match SurfaceRunSummary::from_model(m) {
+        None => format!("base at the tether's foot ({foot} on the equator); no surface run"),
+        Some(r) => format!(
+            "base at {} deg latitude, {} deg longitude, joined to the tether's foot ({foot}) by a surface run of {} km along the great circle (Moon radius {} km x central angle {} deg) in {} bays lying on the ground: tension {} N, constant (friction neglected; engineering assumption), flux of a face lying on the ground (shielding 1/2: the Moon hides the lower half-space), climbers add no load there, lunar ejecta not modelled on it; {} damaging strikes per year on the run",
+            sig(r.base_latitude_deg, 6),
+            sig(r.base_longitude_deg, 6),
+            sig(r.length_km, 6),
+            sig(r.moon_radius_km, 5),
+            sig(r.central_angle_deg, 5),
+            r.bay_count,
+            sig(r.tension_n, 5),
+            sig(r.damaging_strike_rate_per_year, 4)
+        ),
     }
 }
 
@@ -187,11 +285,13 @@ impl DesignSummary {
             .iter()
             .position(|b| b.top_altitude_m >= p.lagrange_altitude_m)
             .unwrap_or(p.bays.len() - 1);
-        let mut picks = vec![
-            ("anchor bay", 0usize),
-            ("smallest margin", jmin),
-            ("largest tension", jmax),
-        ];
+        let surface = p.surface_bay_count();
+        let mut picks = if surface > 0 {
+            vec![("surface run", 0usize), ("bay at the foot", surface)]
+        } else {
+            vec![("anchor bay", 0usize)]
+        };
+        picks.extend([("smallest margin", jmin), ("largest tension", jmax)]);
         picks.push((
             if s.tether.side == Side::Near {
                 "bay at L1"
@@ -227,6 +327,7 @@ impl DesignSummary {
             lagrange_altitude_km: p.lagrange_altitude_m / 1e3,
             tether_length_km: p.length_m() / 1e3,
             bay_count: p.bays.len(),
+            surface_run: SurfaceRunSummary::from_model(m),
             cross_link_spacing_km: s.tether.cross_link_spacing_m / 1e3,
             ribbon_count: s.tether.ribbon_count,
             material: s.tether.material_name.clone(),
@@ -287,6 +388,24 @@ impl DesignSummary {
             sig(self.tether_length_km, 7),
             "km",
         );
+        if let Some(r) = &self.surface_run {
+            row(
+                "surface run (base to foot, great circle)",
+                format!(
+                    "{} from {} N {} E, {} bays",
+                    sig(r.length_km, 6),
+                    sig(r.base_latitude_deg, 6),
+                    sig(r.base_longitude_deg, 6),
+                    r.bay_count
+                ),
+                "km",
+            );
+            row(
+                "damaging strikes, surface run",
+                sig(r.damaging_strike_rate_per_year, 4),
+                "per year",
+            );
+        }
         row("bays", self.bay_count.to_string(), "");
         row(
             "cross-link spacing",
@@ -430,6 +549,13 @@ pub struct ProfileRow {
     pub damaging_strike_rate_per_year: f64,
     /// Critical hole width with 0..N-1 cuts, mm.
     pub critical_hole_width_mm: Vec<f64>,
+    /// The bay lies on the surface run (present only when true).
+    #[serde(skip_serializing_if = "std::ops::Not::not")]
+    pub surface_run: bool,
+    /// Ends of the bay as distance along the line from the base, km (present only with a
+    /// surface run).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub distance_from_base_km: Option<[f64; 2]>,
 }
 
 /// The per-bay profile (`profile`).
@@ -445,11 +571,14 @@ pub struct ProfileSummary {
     pub l1_distance_from_moon_center_km: f64,
     /// Distance of L2 from the Moon's centre, km.
     pub l2_distance_from_moon_center_km: f64,
-    /// Anchor to top, km.
+    /// Anchor to top, km (the hanging tether, from its foot).
     pub tether_length_km: f64,
+    /// Surface run from the base to the foot, km (present only when the base is off the foot).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub surface_run_length_km: Option<f64>,
     /// Number of bays.
     pub bay_count: usize,
-    /// Bays from the anchor up.
+    /// Bays from the base: the surface run's first, then the hanging tether's from its foot up.
     pub bays: Vec<ProfileRow>,
 }
 
@@ -473,6 +602,9 @@ impl ProfileSummary {
                 focusing_factor: t.factors.focusing,
                 damaging_strike_rate_per_year: t.damaging_strike_rate_per_year,
                 critical_hole_width_mm: t.critical_hole_width_m.iter().map(|h| h * 1e3).collect(),
+                surface_run: b.surface_run,
+                distance_from_base_km: (p.surface_run_length_m() > 0.0)
+                    .then(|| [b.line_bottom_m / 1e3, b.line_top_m / 1e3]),
             })
             .collect();
         ProfileSummary {
@@ -483,6 +615,8 @@ impl ProfileSummary {
                 / 1e3,
             l2_distance_from_moon_center_km: m.orbit.lagrange_distance_from_moon_m(Side::Far) / 1e3,
             tether_length_km: p.length_m() / 1e3,
+            surface_run_length_km: (p.surface_run_length_m() > 0.0)
+                .then(|| p.surface_run_length_m() / 1e3),
             bay_count: p.bays.len(),
             bays,
         }
@@ -513,7 +647,11 @@ impl ProfileSummary {
         let mut t = Table::new(headers);
         for b in &self.bays {
             let mut cells = vec![
-                b.bay_index.to_string(),
+                if b.surface_run {
+                    format!("{} (surface run)", b.bay_index)
+                } else {
+                    b.bay_index.to_string()
+                },
                 sig(b.bottom_altitude_km, 6),
                 sig(b.top_altitude_km, 6),
                 sig(b.width_mm, 4),

@@ -30,8 +30,12 @@ pub struct YearPoint {
 pub struct BayEstimate {
     /// Bay index from the anchor.
     pub bay_index: usize,
-    /// Bay bottom and top altitude, km.
+    /// Bay bottom and top altitude, km (0, 0 on the surface run).
     pub altitude_range_km: [f64; 2],
+    /// The bay lies on the surface run from a base off the tether's foot (present only when
+    /// true).
+    #[serde(skip_serializing_if = "std::ops::Not::not")]
+    pub surface_run: bool,
     /// Probability that this bay is lost by mission end.
     pub loss_probability: f64,
     /// Share of the system's log-survival deficit `−ln(1 − P)` due to this bay.
@@ -95,8 +99,12 @@ pub const AGREEMENT_TOLERANCE: f64 = 0.1;
 pub struct MemoryBayEstimate {
     /// Bay index from the anchor.
     pub bay_index: usize,
-    /// Bay bottom and top altitude, km.
+    /// Bay bottom and top altitude, km (0, 0 on the surface run).
     pub altitude_range_km: [f64; 2],
+    /// The bay lies on the surface run from a base off the tether's foot (present only when
+    /// true).
+    #[serde(skip_serializing_if = "std::ops::Not::not")]
+    pub surface_run: bool,
     /// Damage-memory loss probability by mission end.
     pub loss_probability: f64,
     /// Share of this bay's loss that needs old sub-critical holes.
@@ -166,6 +174,7 @@ impl EstimateSummary {
                 BayEstimate {
                     bay_index: mb.bay_index,
                     altitude_range_km: [bay.bottom_altitude_m / 1e3, bay.top_altitude_m / 1e3],
+                    surface_run: bay.surface_run,
                     loss_probability: p,
                     share_of_system_loss: if total_deficit > 0.0 && total_deficit.is_finite() {
                         deficit / total_deficit
@@ -264,6 +273,7 @@ impl EstimateSummary {
                 MemoryBayEstimate {
                     bay_index: i,
                     altitude_range_km: [bay.bottom_altitude_m / 1e3, bay.top_altitude_m / 1e3],
+                    surface_run: bay.surface_run,
                     loss_probability: at_end(i),
                     latent_damage_share: share(at_end(i), d),
                 }
@@ -350,7 +360,11 @@ impl EstimateSummary {
         ]);
         for b in self.bays.iter().take(rows) {
             t.push([
-                b.bay_index.to_string(),
+                if b.surface_run {
+                    format!("{} (surface run)", b.bay_index)
+                } else {
+                    b.bay_index.to_string()
+                },
                 format!(
                     "{:.0}-{:.0}",
                     b.altitude_range_km[0], b.altitude_range_km[1]

@@ -142,6 +142,9 @@ pub fn model_section(folder: &RunFolder) -> Section {
                 on_off(m.get("moon_shielding")),
                 on_off(m.get("lunar_ejecta"))
             ));
+            if let Some(a) = text(Some(m), "anchor") {
+                paragraphs.push(format!("Anchor: {a}."));
+            }
             let over: Vec<String> = m
                 .get("overridden_settings")
                 .and_then(Value::as_array)

@@ -246,10 +246,14 @@ fn default_kt() -> f64 {
 pub struct TetherSpec {
     /// `near` (through L1, towards Earth) or `far` (through L2).
     pub side: Side,
-    /// Anchor latitude on the Moon, degrees (must be on the equator: 0).
+    /// Latitude of the base (where the anchor holds the tension) on the Moon, degrees,
+    /// -90..90. The tether's foot is always on the equator at the sub-Earth point (`near`) or
+    /// the anti-Earth point (`far`); a base elsewhere is joined to it by a surface run of
+    /// ribbons lying on the ground along the great circle. Default 0.
     #[serde(default)]
     pub anchor_latitude_deg: f64,
-    /// Anchor longitude on the Moon, degrees (0 = sub-Earth point for `near`, 180 for `far`).
+    /// Longitude of the base, degrees east of the sub-Earth point, -180..360 (0 for `near`
+    /// and 180 for `far`: base at the foot, no surface run).
     pub anchor_longitude_deg: f64,
     /// Altitude of the top end (counterweight) above the lunar surface, km.
     pub top_altitude_km: f64,

@@ -79,6 +79,13 @@ pub struct TetherSettings {
     pub traffic_load_n: f64,
     /// Residual-strength model of a holed ribbon.
     pub notch: crate::structure::notch::NotchModel,
+    /// Latitude of the base, deg.
+    pub anchor_latitude_deg: f64,
+    /// Longitude of the base, deg.
+    pub anchor_longitude_deg: f64,
+    /// Great-circle length of the surface run from the base to the tether's foot, m (0 when
+    /// the base is at the foot).
+    pub surface_run_m: f64,
 }
 
 /// A station in SI units.
@@ -449,42 +456,37 @@ fn validate_ejecta(e: &LunarEjectaSpec) -> Result<LunarEjectaSpec, ScenarioError
 }
 
 fn validate_tether(t: &TetherSpec) -> Result<TetherSettings, ScenarioError> {
+    // The base may be anywhere on the Moon: a base away from the tether's foot (the sub-Earth
+    // point for a near-side tether, the anti-Earth point for a far-side one) is joined to it by
+    // a surface run along the great circle (`structure::surface`). Only coordinates that name
+    // no point are refused.
     let lat = check(
         "tether.anchor_latitude_deg",
         t.anchor_latitude_deg,
         Range::closed(-90.0, 90.0),
         "deg",
-        "",
+        "latitude of the base; a base off the tether's foot is joined to it by a surface run",
     )?;
-    if lat.abs() > 1e-6 {
-        return Err(ScenarioError::Infeasible {
-            reason: format!(
-                "tether.anchor_latitude_deg = {lat} deg: the tether hangs along the Earth–Moon line, so its anchor must be on the lunar equator (0 deg)"
-            ),
-        });
-    }
     let lon = check(
         "tether.anchor_longitude_deg",
         t.anchor_longitude_deg,
         Range::closed(-180.0, 360.0),
         "deg",
-        "",
+        "longitude of the base, east positive from the sub-Earth point",
     )?;
-    let wanted = match t.side {
-        Side::Near => 0.0,
-        Side::Far => 180.0,
+    let foot_lon = foot_longitude_deg(t.side);
+    let surface_run_m = crate::structure::surface::surface_run_length_m(
+        crate::orbit::EarthMoon::standard().moon_radius_m,
+        lat,
+        lon,
+        foot_lon,
+    );
+    // Below a millimetre the run is rounding in the coordinates, not a design: none.
+    let surface_run_m = if surface_run_m > 1e-3 {
+        surface_run_m
+    } else {
+        0.0
     };
-    let lon_norm = lon.rem_euclid(360.0);
-    if (lon_norm - wanted).abs() > 1e-6 && (lon_norm - wanted).abs() < 360.0 - 1e-6 {
-        return Err(ScenarioError::Infeasible {
-            reason: format!(
-                "tether.anchor_longitude_deg = {lon} deg: a {} tether balanced through {} must hang from the {} point, longitude {wanted} deg",
-                if t.side == Side::Near { "near-side" } else { "far-side" },
-                if t.side == Side::Near { "L1" } else { "L2" },
-                if t.side == Side::Near { "sub-Earth" } else { "anti-Earth" },
-            ),
-        });
-    }
     let top_km = check(
         "tether.top_altitude_km",
         t.top_altitude_km,
@@ -572,7 +574,7 @@ fn validate_tether(t: &TetherSpec) -> Result<TetherSettings, ScenarioError> {
             ),
         });
     }
-    let bays = (top_km / spacing_km).ceil();
+    let bays = (top_km / spacing_km).ceil() + (surface_run_m / 1e3 / spacing_km).ceil();
     if bays > MAX_BAYS as f64 {
         return Err(ScenarioError::OutOfRange {
             path: "tether.cross_link_spacing_km".into(),
@@ -583,7 +585,7 @@ fn validate_tether(t: &TetherSpec) -> Result<TetherSettings, ScenarioError> {
                 fmt_num(top_km)
             ),
             unit: "km".into(),
-            note: format!("at most {MAX_BAYS} bays"),
+            note: format!("at most {MAX_BAYS} bays, surface run included"),
         });
     }
     let cl_mass = check(
@@ -627,7 +629,19 @@ fn validate_tether(t: &TetherSpec) -> Result<TetherSettings, ScenarioError> {
         anchor_preload_n: preload,
         traffic_load_n: traffic,
         notch,
+        anchor_latitude_deg: lat,
+        anchor_longitude_deg: lon,
+        surface_run_m,
     })
+}
+
+/// Longitude of the tether's foot, deg: the sub-Earth point (0) for a near-side tether, the
+/// anti-Earth point (180) for a far-side one; both on the equator.
+pub fn foot_longitude_deg(side: Side) -> f64 {
+    match side {
+        Side::Near => 0.0,
+        Side::Far => 180.0,
+    }
 }
 
 fn validate_notch(

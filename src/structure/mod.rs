@@ -10,6 +10,7 @@
 
 pub mod load_sharing;
 pub mod notch;
+pub mod surface;
 
 use thiserror::Error;
 
@@ -58,17 +59,31 @@ pub struct TetherDesign {
     pub traffic_load_n: f64,
     /// Residual strength of a holed ribbon (net section, Whitney–Nuismer).
     pub notch: NotchModel,
+    /// Length of the surface run from the base to the tether's foot, m (0: the base is at the
+    /// foot; see [`surface`]).
+    pub surface_run_m: f64,
 }
 
 /// One bay: the stretch between two adjacent cross-links.
+///
+/// Bays are listed from the base: first the surface run's bays (if any; altitude 0), then the
+/// hanging tether's from its foot up. Positions along the line (`line_*`) are measured from
+/// the base; on the hanging part they are the altitude plus the surface run's length, so with
+/// no surface run they equal the altitudes.
 #[derive(Clone, Debug, PartialEq)]
 pub struct Bay {
-    /// Index from the anchor (0).
+    /// Index from the base (0).
     pub index: usize,
-    /// Lower end altitude above the lunar surface, m.
+    /// Lower end altitude above the lunar surface, m (0 on the surface run).
     pub bottom_altitude_m: f64,
-    /// Upper end altitude, m.
+    /// Upper end altitude, m (0 on the surface run).
     pub top_altitude_m: f64,
+    /// The bay lies on the ground between the base and the tether's foot.
+    pub surface_run: bool,
+    /// End nearer the base, as distance along the line from the base, m.
+    pub line_bottom_m: f64,
+    /// End farther from the base, distance along the line from the base, m.
+    pub line_top_m: f64,
     /// Ribbon width in this bay, m.
     pub width_m: f64,
     /// Static tension (no traffic) at the lower end, N.
@@ -82,11 +97,30 @@ pub struct Bay {
 impl Bay {
     /// Length along the tether, m.
     pub fn length_m(&self) -> f64 {
-        self.top_altitude_m - self.bottom_altitude_m
+        if self.surface_run {
+            self.line_top_m - self.line_bottom_m
+        } else {
+            self.top_altitude_m - self.bottom_altitude_m
+        }
     }
-    /// Altitude of the bay's middle, m.
+    /// Altitude of the bay's middle, m (0 on the surface run).
     pub fn mid_altitude_m(&self) -> f64 {
         0.5 * (self.bottom_altitude_m + self.top_altitude_m)
+    }
+    /// Middle of the bay as distance along the line from the base, m.
+    pub fn line_mid_m(&self) -> f64 {
+        0.5 * (self.line_bottom_m + self.line_top_m)
+    }
+}
+
+/// Position along the line from the base of a point given by its altitude, m: a point at
+/// altitude 0 (a station "at the anchor") is at the base; a point above the surface is on
+/// the hanging tether, `surface_run_m` beyond the base. Identity without a surface run.
+pub fn line_position_of_altitude_m(altitude_m: f64, surface_run_m: f64) -> f64 {
+    if surface_run_m > 0.0 && altitude_m > 0.0 {
+        altitude_m + surface_run_m
+    } else {
+        altitude_m
     }
 }
 
@@ -146,9 +180,41 @@ impl TetherProfile {
         let phi_l = phi(alt_l);
 
         let bay_count = (d.top_altitude_m / d.cross_link_spacing_m).ceil() as usize;
-        let mut bays = Vec::with_capacity(bay_count);
+        let run = d.surface_run_m;
+        let surface_count = if run > 0.0 {
+            (run / d.cross_link_spacing_m).ceil() as usize
+        } else {
+            0
+        };
+        let mut bays = Vec::with_capacity(surface_count + bay_count);
         let mut t_bottom = d.anchor_preload_n;
         let mut ribbon_mass = 0.0;
+        // The surface run: constant tension (the anchor tension of the hanging tether, friction
+        // neglected), so the constant-stress taper gives every surface bay the width it gives a
+        // bay with no potential rise.
+        for j in 0..surface_count {
+            let lo = j as f64 * d.cross_link_spacing_m;
+            let hi = ((j + 1) as f64 * d.cross_link_spacing_m).min(run);
+            let width = match d.taper {
+                Taper::Uniform => d.anchor_width_m,
+                Taper::ConstantStress => {
+                    ((t_bottom + d.traffic_load_n) / (n * t * sigma_design)).max(d.anchor_width_m)
+                }
+            };
+            bays.push(Bay {
+                index: j,
+                bottom_altitude_m: 0.0,
+                top_altitude_m: 0.0,
+                surface_run: true,
+                line_bottom_m: lo,
+                line_top_m: hi,
+                width_m: width,
+                bottom_tension_n: t_bottom,
+                top_tension_n: t_bottom,
+                max_tension_n: t_bottom + d.traffic_load_n,
+            });
+            ribbon_mass += n * width * t * rho * (hi - lo);
+        }
         for j in 0..bay_count {
             let lo = j as f64 * d.cross_link_spacing_m;
             let hi = ((j + 1) as f64 * d.cross_link_spacing_m).min(d.top_altitude_m);
@@ -168,8 +234,9 @@ impl TetherProfile {
                     let denom = n * t * (sigma_design - rho * dphi_to_max);
                     if denom <= 0.0 {
                         return Err(StructureError::Infeasible(format!(
-                            "bay {j} ({:.0}-{:.0} km): a {:.1} km bay of this material cannot carry its own weight at \
+                            "bay {} ({:.0}-{:.0} km): a {:.1} km bay of this material cannot carry its own weight at \
                              the design stress {:.3} GPa; shorten tether.cross_link_spacing_km or lower tether.design_safety_factor",
+                            surface_count + j,
                             lo / 1e3,
                             hi / 1e3,
                             (hi - lo) / 1e3,
@@ -184,9 +251,12 @@ impl TetherProfile {
             let t_top = t_bottom + lambda * (phi_hi - phi_lo);
             let t_max_static = t_bottom + lambda * dphi_to_max;
             bays.push(Bay {
-                index: j,
+                index: surface_count + j,
                 bottom_altitude_m: lo,
                 top_altitude_m: hi,
+                surface_run: false,
+                line_bottom_m: lo + run,
+                line_top_m: hi + run,
                 width_m: width,
                 bottom_tension_n: t_bottom,
                 top_tension_n: t_top,
@@ -212,7 +282,7 @@ impl TetherProfile {
             counterweight_kg: top_tension / a_out,
             top_outward_accel_m_per_s2: a_out,
             ribbon_mass_kg: ribbon_mass,
-            cross_links_mass_kg: (bay_count as f64 + 1.0) * d.cross_link_mass_kg,
+            cross_links_mass_kg: ((surface_count + bay_count) as f64 + 1.0) * d.cross_link_mass_kg,
             bays,
         };
         profile.check_self_support(phi_l - phi(0.0))?;
@@ -247,9 +317,19 @@ impl TetherProfile {
         )))
     }
 
-    /// Length from the anchor to the top end, m.
+    /// Length of the hanging tether from its foot to the top end (the top end's altitude), m.
     pub fn length_m(&self) -> f64 {
         self.design.top_altitude_m
+    }
+
+    /// Length of the surface run from the base to the foot, m (0 without one).
+    pub fn surface_run_length_m(&self) -> f64 {
+        self.design.surface_run_m
+    }
+
+    /// Number of surface-run bays (they come first in [`TetherProfile::bays`]).
+    pub fn surface_bay_count(&self) -> usize {
+        self.bays.iter().take_while(|b| b.surface_run).count()
     }
 
     /// Tension all intact ribbons of bay `j` can carry together, N.

@@ -234,19 +234,31 @@ fn station_off_the_tether_refused() {
     );
 }
 
+/// A base off the tether's foot is a design (joined by a surface run, see surface_run.rs);
+/// only coordinates that name no point on the Moon are refused.
 #[test]
-fn anchor_off_the_sub_earth_point_refused() {
-    let e = refused("lon", |v| v["tether"]["anchor_longitude_deg"] = json!(45.0));
+fn anchor_latitude_beyond_the_pole_refused() {
+    let e = refused("lat", |v| v["tether"]["anchor_latitude_deg"] = json!(91.0));
+    has(&e, &["tether.anchor_latitude_deg = 91", "[-90, 90] deg"]);
+}
+
+#[test]
+fn anchor_longitude_out_of_range_refused() {
+    let e = refused("lon", |v| {
+        v["tether"]["anchor_longitude_deg"] = json!(400.0)
+    });
     has(
         &e,
-        &["tether.anchor_longitude_deg = 45", "sub-Earth", "0 deg"],
+        &["tether.anchor_longitude_deg = 400", "[-180, 360] deg"],
     );
 }
 
 #[test]
-fn anchor_off_the_equator_refused() {
-    let e = refused("lat", |v| v["tether"]["anchor_latitude_deg"] = json!(10.0));
-    has(&e, &["tether.anchor_latitude_deg = 10", "equator"]);
+fn anchor_latitude_not_a_number_refused() {
+    let e = refused("lat-nan", |v| {
+        v["tether"]["anchor_latitude_deg"] = json!("north")
+    });
+    has(&e, &["anchor_latitude_deg"]);
 }
 
 #[test]
@@ -358,4 +370,14 @@ fn non_positive_splice_requirement_is_refused_with_field_range_and_unit() {
         v["repair"]["splice_p90_target_hours"] = json!(-5.0);
     });
     has(&e, &["repair.splice_p90_target_hours", "-5", "h"]);
+}
+
+#[test]
+fn solar_climbers_with_a_surface_run_are_refused_with_the_reason() {
+    let e = refused("solar-surface", |v| {
+        v["tether"]["anchor_latitude_deg"] = json!(80.0);
+        v["repair"]["climber"]["power"] =
+            json!({"kind": "solar", "shade_speed_m_per_s": 0.0, "sun_angle_at_start_deg": 0.0});
+    });
+    has(&e, &["repair.climber.power", "surface run", "beamed"]);
 }

@@ -21,4 +21,5 @@ mod report;
 mod robust;
 mod sensitivity;
 mod shade;
+mod surface_run;
 mod sweep;
