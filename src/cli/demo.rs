@@ -10,7 +10,7 @@ use tether_risk::report::write_atomic;
 use tether_risk::scenario;
 
 use super::output::print;
-use super::simulate::{execute, RunSettingsFile};
+use super::simulate::{execute, settings_err};
 
 /// Arguments of `demo`.
 #[derive(clap::Args, Debug)]
@@ -48,17 +48,13 @@ pub fn run(a: Args) -> anyhow::Result<()> {
     let profile = ProfileSummary::from_model(&model);
 
     print("3/3 Monte Carlo with repair\n")?;
-    let settings = RunSettingsFile {
-        histories: model.scenario.run.histories,
-        seed: model.scenario.run.seed,
-        shard: None,
-        floor_fraction: 1.0,
-        rare_event: 1.0,
-        latent_bias: 0.0,
-        target_rel_error: None,
-        stockout_target: 0.05,
-        sampler: tether_risk::engine::Sampler::OnDemand,
-    };
+    // Plain Monte Carlo with the on-demand sampler and the scenario's histories and seed.
+    let settings = tether_risk::engine::RunChoices {
+        threads: a.threads,
+        ..Default::default()
+    }
+    .resolve(model.scenario.run.histories, model.scenario.run.seed)
+    .map_err(settings_err)?;
     // The run replaces the folder's earlier results when its own are ready; the demo's extra
     // files follow it.
     let summary = execute(&model, &settings, a.threads, dir, None, Some(stop), false)?;
@@ -107,12 +103,11 @@ fn sweep_spacing(
         "tether.ribbon_count=4,6",
     ])?;
     let settings = SweepSettings {
-        histories: Some(20_000),
-        seed: None,
-        threads,
-        rare_event_factor: 1.0,
-        stockout_target: 0.05,
-        flux_table_json: None,
+        run: tether_risk::engine::RunChoices {
+            histories: Some(20_000),
+            threads,
+            ..Default::default()
+        },
         ..Default::default()
     };
     let mut on_point = |p: &tether_risk::sweep::PointResult, n: usize| {

@@ -14,6 +14,7 @@ mod history;
 mod ondemand;
 mod rng;
 mod sampler;
+mod settings;
 mod summary;
 mod tally;
 mod validation;
@@ -22,6 +23,10 @@ pub use history::{HistoryOutcome, LogEvent, Scratch};
 pub use ondemand::{critical_width_m, OnDemandTables};
 pub use rng::{splitmix64, stream, Purpose};
 pub use sampler::{open01, unit, Strike, StrikeSampler};
+pub use settings::{
+    check_threads, parse_shard, RunChoices, RunField, RunSettings, RunSettingsError,
+    DEFAULT_STOCKOUT_TARGET, MAX_HISTORIES, MAX_SHARDS, MAX_THREADS,
+};
 pub use summary::{
     BandRow, CauseCounts, CountQuantiles, DurationStats, EstimateMethod, Interval, LittleLaw,
     LossProbability, RepairSummary, RunSummary, SpareSummary, StationDemand, StationProbability,
@@ -134,6 +139,9 @@ pub enum EngineError {
     /// Bad run options.
     #[error("{0}")]
     Options(String),
+    /// A run setting out of its range.
+    #[error("{0}")]
+    Settings(#[from] RunSettingsError),
     /// The run was stopped by a stop request before it finished (no result).
     #[error("interrupted before the run finished")]
     Interrupted,
@@ -284,11 +292,7 @@ impl<'m> Engine<'m> {
         floor_fraction: f64,
         sampler_kind: Sampler,
     ) -> Result<Self, EngineError> {
-        if !(floor_fraction > 0.0 && floor_fraction <= 1.0) {
-            return Err(EngineError::Options(format!(
-                "floor fraction = {floor_fraction} is out of range: allowed (0, 1]"
-            )));
-        }
+        RunField::FloorFraction.check(floor_fraction)?;
         let sampler = StrikeSampler::new(model, floor_fraction)?;
         let on_demand =
             if sampler_kind == Sampler::OnDemand && model.scenario.validation_mode.is_none() {
@@ -360,15 +364,22 @@ impl<'m> Engine<'m> {
         })
     }
 
+    /// The engine a run's settings ask for: sampler and floor, rare-event factor and
+    /// latent-damage bias.
+    ///
+    /// # Errors
+    /// As [`Engine::with_sampler`], [`Engine::with_rare_event`] and [`Engine::with_latent_bias`].
+    pub fn for_settings(model: &'m Model, s: &RunSettings) -> Result<Self, EngineError> {
+        Self::with_sampler(model, s.floor_fraction, s.sampler)?
+            .with_rare_event(s.rare_event)?
+            .with_latent_bias(s.latent_bias)
+    }
+
     /// Switch on the rare-event estimator: strikes (validation mode: cuts) on bays that already
     /// have a cut become `factor` times as frequent, and every history carries its likelihood
     /// ratio. `factor` = 1 is plain Monte Carlo.
     pub fn with_rare_event(mut self, factor: f64) -> Result<Self, EngineError> {
-        if !(1.0..=1e6).contains(&factor) {
-            return Err(EngineError::Options(format!(
-                "rare-event boost factor = {factor} is out of range: allowed [1, 1e6] (dimensionless)"
-            )));
-        }
+        RunField::RareEvent.check(factor)?;
         self.bias_factor = factor;
         Ok(self)
     }
@@ -379,11 +390,7 @@ impl<'m> Engine<'m> {
     /// more cut in its bay (see [`ondemand`]'s docs), and the history carries the likelihood
     /// ratio. `p` = 0 is plain Monte Carlo, bit for bit.
     pub fn with_latent_bias(mut self, p: f64) -> Result<Self, EngineError> {
-        if !(0.0..=0.95).contains(&p) {
-            return Err(EngineError::Options(format!(
-                "latent-damage bias = {p} is out of range: allowed [0, 0.95] (probability of the biased component)"
-            )));
-        }
+        RunField::LatentBias.check(p)?;
         if p > 0.0 && (self.on_demand.is_none() || self.sampler_kind != Sampler::OnDemand) {
             return Err(EngineError::Options(
                 "the latent-damage bias works on the on-demand sampler's worst-hole draws: it needs `--sampler on-demand` and a scenario outside validation mode".into(),

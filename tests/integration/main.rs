@@ -12,6 +12,7 @@ mod estimate;
 mod hole_rate;
 mod issue13;
 mod issue14_reports;
+mod issue15;
 mod ondemand;
 mod physics;
 mod policy;
