@@ -768,9 +768,10 @@ impl<'m> Engine<'m> {
                 sw += b.sum_w;
                 sw2 += b.sum_w2;
             }
-            let mean = sw / n;
-            let var = ((sw2 / n - mean * mean) * n / (n - 1.0)).max(0.0);
-            (mean > 0.0).then(|| (var / n).sqrt() / mean)
+            // The same estimate and standard error as the summary's (the largest weight does
+            // not enter either).
+            let w = crate::stats::WeightedProportion::from_sums(sw, sw2, 0.0, t.histories);
+            (w.estimate > 0.0).then(|| w.standard_error / w.estimate)
         } else {
             let p = t.losses as f64 / n;
             Some(((1.0 - p) / (p * n)).sqrt())

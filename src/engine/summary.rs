@@ -2,9 +2,10 @@
 //! raw tally so that shard results can be merged exactly later.
 
 use serde::{Deserialize, Serialize};
-use statrs::distribution::{ContinuousCDF, Normal};
 
-use crate::stats::{clopper_pearson, WeightedProportion};
+use crate::stats::{
+    clopper_pearson, count_mean, mean_var_from_sums, z_interval, StatsError, WeightedProportion,
+};
 
 use super::tally::Tally;
 use super::{altitude_band_edges_m, Engine, BATCH_SIZE};
@@ -281,13 +282,6 @@ pub struct RunSummary {
     pub caution: String,
 }
 
-/// Two-sided normal quantile for a confidence level.
-fn z_of(confidence: f64) -> f64 {
-    Normal::new(0.0, 1.0)
-        .map(|n| n.inverse_cdf(0.5 + confidence / 2.0))
-        .unwrap_or(1.959963984540054)
-}
-
 fn cp(k: u64, n: u64, confidence: f64) -> Interval {
     let (lo, hi) = clopper_pearson(k, n, confidence).unwrap_or((0.0, 1.0));
     Interval {
@@ -365,19 +359,17 @@ impl RunSummary {
             });
         }
 
-        let mean = tally.cuts as f64 / h;
-        let var = if tally.histories > 1 {
-            ((tally.cuts_sq as f64) - (tally.cuts as f64).powi(2) / h).max(0.0) / (h - 1.0)
-        } else {
-            0.0
-        };
+        let (mean, var) =
+            mean_var_from_sums(tally.histories, tally.cuts as f64, tally.cuts_sq as f64);
         let se = (var / h).sqrt();
-        let z = z_of(conf);
+        // The confidence level was validated with the scenario; the fallback is z(0.975).
+        let (lo, hi) = z_interval(mean, se, conf)
+            .unwrap_or((mean - 1.959963984540054 * se, mean + 1.959963984540054 * se));
         let per_year = |x: f64| if years > 0.0 { x / years } else { 0.0 };
         let cuts_per_year = Interval {
             estimate: per_year(mean),
-            ci_low: per_year((mean - z * se).max(0.0)),
-            ci_high: per_year(mean + z * se),
+            ci_low: per_year(lo.max(0.0)),
+            ci_high: per_year(hi),
             confidence: conf,
         };
 
@@ -636,35 +628,19 @@ pub struct SpareSummary {
 }
 
 /// Smallest value v with P(X <= v) >= p from integer counts.
+/// The count quantile of a tally histogram ([`crate::stats::count_quantile`]): 0 when nothing
+/// was counted.
 fn count_quantile(hist: &[u64], p: f64) -> u64 {
-    let total: u64 = hist.iter().sum();
-    if total == 0 {
-        return 0;
+    match crate::stats::count_quantile(hist, p) {
+        Ok(v) => v,
+        Err(StatsError::TooFewObservations { .. }) => 0,
+        Err(_) => hist.len().saturating_sub(1) as u64,
     }
-    let need = (p * total as f64).ceil().max(1.0) as u64;
-    let mut cum = 0;
-    for (v, &c) in hist.iter().enumerate() {
-        cum += c;
-        if cum >= need {
-            return v as u64;
-        }
-    }
-    (hist.len() - 1) as u64
 }
 
 fn count_stats(hist: &[u64]) -> CountQuantiles {
-    let total: u64 = hist.iter().sum();
-    let mean = if total > 0 {
-        hist.iter()
-            .enumerate()
-            .map(|(v, &c)| v as f64 * c as f64)
-            .sum::<f64>()
-            / total as f64
-    } else {
-        0.0
-    };
     CountQuantiles {
-        mean,
+        mean: count_mean(hist).unwrap_or(0.0),
         p50: count_quantile(hist, 0.5),
         p90: count_quantile(hist, 0.9),
         p95: count_quantile(hist, 0.95),

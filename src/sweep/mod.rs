@@ -44,8 +44,8 @@ use crate::engine::{
 };
 use crate::model::{tether_design, Model};
 use crate::orbit::EarthMoon;
-use crate::report::plot::pareto_front;
 use crate::scenario::{nearest, parse_spec, scenario_hash, Scenario, ScenarioError};
+use crate::stats::{pareto_front, sig};
 use crate::structure::TetherProfile;
 
 /// Largest number of varied fields.
@@ -610,7 +610,7 @@ impl SweepResult {
                         "smallest fleet with a known loss probability at most {} x that of the largest fleet swept ({} climbers, P = {}), which stands in for an unlimited fleet",
                         1.0 + FLEET_TOLERANCE,
                         climbers(reference).unwrap_or(0),
-                        crate::report::table::sig(p_ref, 3)
+                        sig(p_ref, 3)
                     );
                 }
                 out.push(rec);
@@ -647,7 +647,7 @@ fn loss_status(p: &PointResult) -> (bool, Option<String>) {
             false,
             Some(format!(
                 "no loss seen: only an upper bound ({} at {} % confidence)",
-                crate::report::table::sig(hi, 3),
+                sig(hi, 3),
                 l.confidence * 100.0
             )),
         ),
