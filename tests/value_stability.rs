@@ -313,7 +313,7 @@ fn histories_are_stable_for_each_sampler_and_estimator() {
     assert_eq!(got.as_slice(), recorded);
 }
 
-/// The uniform helpers every sampler uses: `unit` in [0, 1) and `open01` in (0, 1).
+/// The uniform helpers every sampler uses: `unit` in [0, 1) and `open01` in (0, 1].
 #[test]
 fn uniform_helpers_are_stable() {
     let mut r = stream(11, Purpose::Analysis, 5);

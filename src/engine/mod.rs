@@ -822,3 +822,106 @@ impl<'m> Engine<'m> {
         self.mission_s / SECONDS_PER_YEAR
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn opts(histories: u64, shard: Option<(u64, u64)>) -> RunOptions {
+        RunOptions {
+            histories,
+            seed: 1,
+            threads: 1,
+            floor_fraction: 1.0,
+            shard,
+            target_rel_error: None,
+        }
+    }
+
+    /// The batch list is part of the reproducibility contract: fixed batches of
+    /// [`BATCH_SIZE`] (the last one partial), shard I of N owning batches I, I + N, ...; the
+    /// shards of any split partition the run's batches and histories.
+    #[test]
+    fn batches_partition_the_run_for_any_shard_split() {
+        assert_eq!(BATCH_SIZE, 1000);
+        let whole = Engine::batches_of(&opts(2500, None));
+        assert_eq!(whole.iter().collect::<Vec<_>>(), vec![0, 1, 2]);
+        assert_eq!(whole.histories(), 2500);
+        for n in 1..=5u64 {
+            let mut seen = Vec::new();
+            let mut histories = 0;
+            for i in 0..n {
+                let b = Engine::batches_of(&opts(2500, Some((i, n))));
+                seen.extend(b.iter());
+                histories += b.histories();
+            }
+            seen.sort_unstable();
+            assert_eq!(seen, vec![0, 1, 2], "{n} shards");
+            assert_eq!(histories, 2500, "{n} shards");
+        }
+        let last = Engine::batches_of(&opts(2500, Some((2, 3))));
+        assert_eq!((last.len(), last.histories()), (1, 500));
+        assert!(Engine::batches_of(&opts(2500, Some((3, 4)))).is_empty());
+        // 1e12 histories: arithmetic, not a list.
+        let huge = Engine::batches_of(&opts(MAX_HISTORIES, Some((1, 7))));
+        assert_eq!(huge.get(2), 15);
+        assert_eq!(huge.histories(), huge.len() * BATCH_SIZE);
+    }
+
+    /// Band edges: from 0, increasing, ending at the top, at most [`ALTITUDE_BANDS`] bands;
+    /// the fine edges near the anchor below the top only.
+    #[test]
+    fn altitude_bands_cover_the_tether() {
+        assert_eq!(altitude_band_edges_m(300e3), vec![0.0, 100e3, 250e3, 300e3]);
+        for top in [1e3, 5e6, 6e7, 3e8] {
+            let e = altitude_band_edges_m(top);
+            assert_eq!(e[0], 0.0);
+            assert_eq!(*e.last().unwrap(), top);
+            assert!(e.windows(2).all(|w| w[0] < w[1]), "{e:?}");
+            assert!(
+                e.len() - 1 <= ALTITUDE_BANDS,
+                "{top}: {} bands",
+                e.len() - 1
+            );
+        }
+    }
+
+    /// Source: the binomial standard error, SE(p̂)/p̂ = sqrt((1 − p̂) / (n p̂)) (any statistics
+    /// text); none before the first loss.
+    #[test]
+    fn relative_error_of_a_plain_run_is_the_binomial_one() {
+        let model = Model::build(crate::scenario::demo()).unwrap();
+        let engine = Engine::new(&model, 1.0).unwrap();
+        let mut t = engine.empty_tally();
+        t.histories = 10_000;
+        assert_eq!(engine.relative_error(&t), None);
+        t.losses = 25;
+        let want = ((1.0 - 0.0025) / 25.0f64).sqrt();
+        assert!((engine.relative_error(&t).unwrap() - want).abs() < 1e-15);
+    }
+
+    /// Every range of the engine's constructors is the run settings' range (one check).
+    #[test]
+    fn constructors_refuse_settings_out_of_range() {
+        let model = Model::build(crate::scenario::demo()).unwrap();
+        for f in [0.0, 1.5, f64::NAN] {
+            assert!(matches!(
+                Engine::new(&model, f),
+                Err(EngineError::Settings(RunSettingsError::OutOfRange {
+                    field: RunField::FloorFraction,
+                    ..
+                }))
+            ));
+        }
+        let e = || Engine::new(&model, 1.0).unwrap();
+        assert!(e().with_rare_event(0.5).is_err());
+        assert!(e().with_rare_event(1e6).is_ok());
+        assert!(e().with_latent_bias(0.96).is_err());
+        // The latent bias needs the on-demand sampler's worst-hole draws.
+        let every = Engine::with_sampler(&model, 1.0, Sampler::EveryStrike).unwrap();
+        assert!(matches!(
+            every.with_latent_bias(0.3),
+            Err(EngineError::Options(_))
+        ));
+    }
+}

@@ -885,3 +885,47 @@ impl RareEventSummary {
         })
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// Source: the Clopper–Pearson check value of shared/ECOSYSTEM.md (independent reference):
+    /// 3 failures in 1000 trials at 95 %: (6.190999e-4, 8.742023e-3).
+    #[test]
+    fn plain_loss_probability_carries_the_exact_interval() {
+        let lp = LossProbability::plain(3, 1000, 0.95);
+        assert_eq!(lp.estimate, 0.003);
+        let (lo, hi) = lp.interval().unwrap();
+        assert!((lo - 6.190999e-4).abs() < 1e-9, "{lo}");
+        assert!((hi - 8.742023e-3).abs() < 1e-9, "{hi}");
+        assert!(lp.resolved && !lp.is_weighted());
+        assert_eq!(lp.effective_sample_size, 3.0);
+    }
+
+    /// Source: Clopper & Pearson (1934) with no event: the upper bound has the closed form
+    /// 1 − (α/2)^(1/n); the lower bound is 0.
+    #[test]
+    fn no_loss_gives_the_closed_form_upper_bound() {
+        let lp = LossProbability::plain(0, 2000, 0.95);
+        let (lo, hi) = lp.interval().unwrap();
+        assert_eq!(lo, 0.0);
+        let want = 1.0 - 0.025f64.powf(1.0 / 2000.0);
+        assert!((hi / want - 1.0).abs() < 1e-6, "{hi} vs {want}");
+    }
+
+    /// The tally's count histograms: nothing counted is 0, not an error; otherwise the
+    /// definition-1 quantile of stats.
+    #[test]
+    fn count_summaries_of_tally_histograms() {
+        assert_eq!(count_quantile(&[], 0.5), 0);
+        assert_eq!(count_quantile(&[0, 0, 0], 0.95), 0);
+        assert_eq!(count_quantile(&[5, 3, 2], 0.5), 0);
+        assert_eq!(count_quantile(&[5, 3, 2], 0.8), 1);
+        assert_eq!(count_quantile(&[5, 3, 2], 0.81), 2);
+        let q = count_stats(&[5, 3, 2]);
+        assert!((q.mean - 0.7).abs() < 1e-15);
+        assert_eq!((q.p50, q.p90, q.p95, q.p99), (0, 2, 2, 2));
+        assert_eq!(count_stats(&[]).mean, 0.0);
+    }
+}
