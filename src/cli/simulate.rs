@@ -277,7 +277,7 @@ pub fn execute(
         threads
     };
     let manifest = run_manifest(&summary, s, threads, started.elapsed().as_secs_f64());
-    let checkpoint = (outcome.status == RunStatus::Interrupted).then(|| Checkpoint {
+    let checkpoint = (outcome.status == RunStatus::Interrupted).then_some(Checkpoint {
         tally: outcome.tally,
         batches_done: outcome.batches_done,
         completed_beyond: outcome.completed_beyond,
