@@ -9,6 +9,7 @@ use tether_risk::report::html::{
     render_report, KeyNumber, ReportDoc, ReportFigure, ReportTable, Section,
 };
 use tether_risk::report::plot::*;
+use tether_risk::stats::pareto_front;
 
 fn spec(title: &str, x: &str, y: &str) -> ChartSpec {
     ChartSpec::new(title, x, y)

@@ -10,7 +10,7 @@ use tether_risk::report::write_atomic;
 use tether_risk::scenario;
 
 use super::output::print;
-use super::simulate::{execute, PolicyArm, RunSettingsFile};
+use super::simulate::{execute, settings_err, PolicyArm};
 
 /// Arguments of `demo`.
 #[derive(clap::Args, Debug)]
@@ -49,17 +49,13 @@ pub fn run(a: Args) -> anyhow::Result<()> {
 
     print("3/3 Monte Carlo with repair, and the same histories with an inspection policy\n")?;
     let with_policy = Model::build(demo_with_policy(&model)?)?;
-    let settings = RunSettingsFile {
-        histories: model.scenario.run.histories,
-        seed: model.scenario.run.seed,
-        shard: None,
-        floor_fraction: 1.0,
-        rare_event: 1.0,
-        latent_bias: 0.0,
-        target_rel_error: None,
-        stockout_target: 0.05,
-        sampler: tether_risk::engine::Sampler::OnDemand,
-    };
+    // Plain Monte Carlo with the on-demand sampler and the scenario's histories and seed.
+    let settings = tether_risk::engine::RunChoices {
+        threads: a.threads,
+        ..Default::default()
+    }
+    .resolve(model.scenario.run.histories, model.scenario.run.seed)
+    .map_err(settings_err)?;
     // The run replaces the folder's earlier results when its own are ready; the demo's extra
     // files follow it.
     let summary = execute(
@@ -139,12 +135,11 @@ fn sweep_spacing(
         "tether.ribbon_count=4,6",
     ])?;
     let settings = SweepSettings {
-        histories: Some(20_000),
-        seed: None,
-        threads,
-        rare_event_factor: 1.0,
-        stockout_target: 0.05,
-        flux_table_json: None,
+        run: tether_risk::engine::RunChoices {
+            histories: Some(20_000),
+            threads,
+            ..Default::default()
+        },
         ..Default::default()
     };
     let mut on_point = |p: &tether_risk::sweep::PointResult, n: usize| {

@@ -5,17 +5,14 @@
 
 use std::path::{Path, PathBuf};
 
-use tether_risk::engine::{Engine, RunOptions, RunStatus, RunSummary, Tally};
+use tether_risk::engine::{Engine, RunSettings, RunStatus, RunSummary, Tally};
 use tether_risk::report::folder::{check_listed_files, validate_summary, FileEntry};
-use tether_risk::report::run::{
-    crate_versions, retract_manifest, run_text, write_manifest, write_run, Manifest,
-};
-use tether_risk::report::write_atomic;
+use tether_risk::report::run::run_text;
 
-use super::output::{command_line, print, InputError};
+use super::output::{print, InputError};
 use super::simulate::{
-    check_tally_shape, engine_for, model_from_dir, prepare_out_dir, read_run_file,
-    write_design_and_estimate, RunSettingsFile,
+    check_tally_shape, engine_for, model_from_dir, prepare_out_dir, read_run_file, run_manifest,
+    write_run_folder,
 };
 use super::Format;
 
@@ -140,7 +137,7 @@ pub fn run(a: Args) -> anyhow::Result<()> {
         InputError(format!("{}/{what} is damaged: {e}", d.display())).into()
     };
     // Everything read back from disk is checked before it is used, like scenario input.
-    let mut parts: Vec<(PathBuf, RunSummary, RunSettingsFile)> = Vec::new();
+    let mut parts: Vec<(PathBuf, RunSummary, RunSettings)> = Vec::new();
     let stop = super::interrupt::flag();
     let bar = indicatif::ProgressBar::new(a.dirs.len() as u64);
     bar.set_style(
@@ -159,8 +156,9 @@ pub fn run(a: Args) -> anyhow::Result<()> {
         check_complete(d)?;
         let s: RunSummary = read_json(&d.join("summary.json"))?;
         validate_summary(&s).map_err(|e| bad(d, "summary.json", e))?;
-        let st: RunSettingsFile = read_json(&d.join("settings.json"))?;
-        st.validate().map_err(|e| bad(d, "settings.json", e))?;
+        let st: RunSettings = read_json(&d.join("settings.json"))?;
+        st.validate()
+            .map_err(|e| bad(d, "settings.json", e.in_file()))?;
         parts.push((d.clone(), s, st));
     }
     bar.finish_and_clear();
@@ -258,14 +256,7 @@ pub fn run(a: Args) -> anyhow::Result<()> {
     let engine = engine_for(&model, &settings)?;
     for (d, s, st) in &parts {
         check_tally_shape(&engine, &s.tally).map_err(|e| bad(d, "summary.json", e))?;
-        let batches = Engine::batches_of(&RunOptions {
-            histories: st.histories,
-            seed: st.seed,
-            threads: 1,
-            floor_fraction: st.floor_fraction,
-            shard: st.shard,
-            target_rel_error: None,
-        });
+        let batches = Engine::batches_of(&st.options(1));
         if s.tally.histories != batches.histories() || s.histories != batches.histories() {
             return Err(bad(
                 d,
@@ -328,46 +319,9 @@ pub fn run(a: Args) -> anyhow::Result<()> {
         settings.target_rel_error,
     );
     let _lock = prepare_out_dir(&a.out, a.force)?;
-    let manifest = Manifest {
-        tool: "tether-risk".into(),
-        version: tether_risk::VERSION.into(),
-        scenario: summary.scenario.clone(),
-        scenario_hash: summary.scenario_hash.clone(),
-        seed: settings.seed,
-        histories: summary.histories,
-        batch_size: summary.batch_size,
-        threads: 0,
-        shard: None,
-        crate_versions: crate_versions(),
-        random_streams: "Pcg64Mcg per (seed, purpose, history), seeded through SplitMix64".into(),
-        wall_time_s: 0.0,
-        command: command_line(),
-        files: Vec::new(),
-    };
-    let io =
-        |e: std::io::Error| anyhow::anyhow!("cannot write results to {}: {e}", a.out.display());
-    retract_manifest(&a.out).map_err(io)?;
-    tether_risk::report::folder::clear_run_outputs(&a.out).map_err(io)?;
-    let mut names = vec!["scenario.json".to_string(), "settings.json".to_string()];
-    write_atomic(
-        &a.out.join("scenario.json"),
-        (serde_json::to_string_pretty(&model.scenario.spec)? + "\n").as_bytes(),
-    )
-    .map_err(io)?;
-    write_atomic(
-        &a.out.join("settings.json"),
-        (serde_json::to_string_pretty(&settings)? + "\n").as_bytes(),
-    )
-    .map_err(io)?;
-    if let Some(t) = &model.scenario.environment.flux_table_json {
-        write_atomic(&a.out.join("flux_table.json"), t.as_bytes()).map_err(io)?;
-        names.push("flux_table.json".into());
-    }
-    names.extend(write_run(&a.out, &summary).map_err(io)?);
-    // Optional inputs of the report (checked by their own scenario hash), not listed.
-    write_design_and_estimate(&model, &a.out)?;
-    super::report::render_run(&a.out)?;
-    write_manifest(&a.out, &manifest, &names).map_err(io)?;
+    // Threads and wall time are not the merged run's: recorded as 0.
+    let manifest = run_manifest(&summary, &settings, 0, 0.0);
+    write_run_folder(&a.out, &model, &settings, &summary, &manifest, None)?;
     match a.format {
         Format::Json => print(&(serde_json::to_string_pretty(&summary)? + "\n")),
         Format::Csv => print(&tether_risk::report::run::survival_table(&summary).to_csv()),

@@ -11,6 +11,7 @@ mod merge;
 mod output;
 mod profile;
 mod report;
+mod run_args;
 mod sensitivity;
 mod simulate;
 mod sweep;

@@ -7,6 +7,7 @@ use tether_risk::scenario::{self, FluxModelSpec};
 use tether_risk::sweep::sensitivity::{run_sensitivity, SensitivitySettings, INPUTS};
 
 use super::output::{print, InputError};
+use super::run_args::RunArgs;
 use super::sweep::{read_base, sweep_err};
 use super::Format;
 
@@ -19,21 +20,10 @@ use super::Format;
 pub struct Args {
     /// Base scenario file (JSON); `-` reads standard input; `demo` is the built-in scenario.
     pub file: String,
-    /// Histories per run (default: the base scenario's run.histories).
-    #[arg(long, value_parser = super::output::parse_count)]
-    pub histories: Option<u64>,
-    /// Master seed shared by every run (default: the base scenario's run.seed).
-    #[arg(long)]
-    pub seed: Option<u64>,
-    /// Worker threads per run; 0 means one per core. Results do not depend on it.
-    #[arg(long, default_value_t = 0)]
-    pub threads: usize,
-    /// Rare-event estimator boost factor for every run (see `simulate --help`).
-    #[arg(long, value_name = "FACTOR")]
-    pub rare_event: Option<f64>,
-    /// Stop each run once its loss probability's relative standard error is at most X.
-    #[arg(long, value_name = "X")]
-    pub target_rel_error: Option<f64>,
+    /// Histories, seed, threads, sampler, rare-event factor, target error of every run (see
+    /// `simulate --help`).
+    #[command(flatten)]
+    pub run: RunArgs,
     /// Skip the fast damage-memory estimate of each variant.
     #[arg(long)]
     pub no_fast_estimate: bool,
@@ -69,22 +59,11 @@ pub fn run(a: Args) -> anyhow::Result<()> {
         }
         FluxModelSpec::Builtin(_) => None,
     };
-    if let Some(t) = a.target_rel_error {
-        if !(t > 0.0 && t < 1.0) {
-            return Err(InputError(format!(
-                "--target-rel-error = {t} is out of range: allowed (0, 1) (relative standard error)"
-            ))
-            .into());
-        }
-    }
-    if a.threads > super::simulate::MAX_THREADS {
-        return Err(InputError(format!(
-            "--threads = {} is out of range: allowed [0, {}] threads (0: one per core)",
-            a.threads,
-            super::simulate::MAX_THREADS
-        ))
-        .into());
-    }
+    // The run settings are checked before the folder is touched.
+    a.run
+        .choices()
+        .resolve(base_spec.run.histories, base_spec.run.seed)
+        .map_err(super::simulate::settings_err)?;
     let base: serde_json::Value = serde_json::from_str(&text)?;
     let out_dir = a.out.clone().unwrap_or_else(|| {
         PathBuf::from("out").join(format!(
@@ -100,11 +79,7 @@ pub fn run(a: Args) -> anyhow::Result<()> {
         .into());
     }
     let settings = SensitivitySettings {
-        histories: a.histories,
-        seed: a.seed,
-        threads: a.threads,
-        rare_event_factor: a.rare_event.unwrap_or(1.0),
-        target_rel_error: a.target_rel_error,
+        run: a.run.choices(),
         fast_estimate: !a.no_fast_estimate,
         flux_table_json,
     };

@@ -6,7 +6,8 @@ use std::time::{Duration, Instant};
 
 use serde::{Deserialize, Serialize};
 use tether_risk::engine::{
-    Checkpoint, Engine, LogEvent, RunOptions, RunStatus, RunSummary, Sampler,
+    parse_shard, Checkpoint, Engine, LogEvent, RunChoices, RunOptions, RunSettings,
+    RunSettingsError, RunStatus, RunSummary,
 };
 use tether_risk::model::Model;
 use tether_risk::report::folder::RunLock;
@@ -17,6 +18,7 @@ use tether_risk::report::write_atomic;
 use tether_risk::scenario::{self, Scenario};
 
 use super::output::{command_line, load_model, lock_folder, print, InputError};
+use super::run_args::{RunArgs, StockoutArg};
 use super::Format;
 
 /// Arguments of `simulate`.
@@ -29,15 +31,12 @@ pub struct Args {
     /// Scenario file (JSON); `-` reads standard input; `demo` is the built-in scenario.
     #[arg(required_unless_present = "resume")]
     pub file: Option<String>,
-    /// Number of histories (default: the scenario's run.histories).
-    #[arg(long, value_parser = super::output::parse_count)]
-    pub histories: Option<u64>,
-    /// Master seed (default: the scenario's run.seed).
-    #[arg(long)]
-    pub seed: Option<u64>,
-    /// Worker threads; 0 means one per core. Results do not depend on it.
-    #[arg(long, default_value_t = 0)]
-    pub threads: usize,
+    /// Histories, seed, threads, sampler, rare-event factor, target error.
+    #[command(flatten)]
+    pub run: RunArgs,
+    /// Stock-out target.
+    #[command(flatten)]
+    pub stock: StockoutArg,
     /// Output folder (default: out/<scenario name>).
     #[arg(long)]
     pub out: Option<PathBuf>,
@@ -49,14 +48,6 @@ pub struct Args {
     /// sub-critical holes (slower; does not change loss estimates).
     #[arg(long, default_value_t = 1.0, allow_hyphen_values = true)]
     pub floor_fraction: f64,
-    /// Largest acceptable stock-out probability per station, for the recommended initial stock.
-    #[arg(long, default_value_t = 0.05, allow_hyphen_values = true)]
-    pub stockout_target: f64,
-    /// Rare-event estimator: multiply strike (cut) rates on bays that already have a cut by
-    /// FACTOR and weight histories by their likelihood ratio. For loss probabilities far below
-    /// 1/histories. Typical factors 10 to 1000; check the effective sample size it reports.
-    #[arg(long, value_name = "FACTOR", allow_hyphen_values = true)]
-    pub rare_event: Option<f64>,
     /// Latent-damage importance sampling (on-demand sampler): at each state change of a bay,
     /// draw its segments' worst sub-critical holes from a defensive mixture that puts
     /// probability P on holes able to cut the segment after one more cut in the bay, and weight
@@ -68,16 +59,6 @@ pub struct Args {
     /// with `tether-risk merge`.
     #[arg(long, value_name = "I/N", allow_hyphen_values = true)]
     pub shard: Option<String>,
-    /// Stop at a batch boundary once the loss probability's relative standard error is at most
-    /// this (deterministic given the seed).
-    #[arg(long, value_name = "X", allow_hyphen_values = true)]
-    pub target_rel_error: Option<f64>,
-    /// Damage sampler: `on-demand` draws only cuts and, at each state change of a bay, its
-    /// segments' worst holes (fast, the default); `every-strike` draws every strike above the
-    /// floor (the reference engine; slow for low floors and many ribbons). Same results in
-    /// distribution, not in bits.
-    #[arg(long, value_enum, default_value_t = SamplerArg::OnDemand)]
-    pub sampler: SamplerArg,
     /// Print the event log of one history (0-based index) and exit.
     #[arg(long, value_name = "N")]
     pub replay_history: Option<u64>,
@@ -92,117 +73,6 @@ pub struct Args {
     /// Output format on stdout.
     #[arg(long, value_enum, default_value_t)]
     pub format: Format,
-}
-
-/// The damage sampler on the command line.
-#[derive(clap::ValueEnum, Clone, Copy, Debug, PartialEq, Eq, Default)]
-pub enum SamplerArg {
-    /// Draw cut events and worst holes at state changes (default).
-    #[default]
-    OnDemand,
-    /// Draw every strike above the floor (reference).
-    EveryStrike,
-}
-
-impl From<SamplerArg> for Sampler {
-    fn from(a: SamplerArg) -> Self {
-        match a {
-            SamplerArg::OnDemand => Sampler::OnDemand,
-            SamplerArg::EveryStrike => Sampler::EveryStrike,
-        }
-    }
-}
-
-/// Largest number of histories a run may ask for.
-pub const MAX_HISTORIES: u64 = 1_000_000_000_000;
-/// Largest worker-thread count accepted.
-pub const MAX_THREADS: usize = 1024;
-
-/// Everything needed to redo or continue a run, stored beside its results.
-#[derive(Clone, Debug, Serialize, Deserialize)]
-pub struct RunSettingsFile {
-    /// Histories requested.
-    pub histories: u64,
-    /// Master seed.
-    pub seed: u64,
-    /// Shard, if any.
-    pub shard: Option<(u64, u64)>,
-    /// Sampling floor fraction.
-    pub floor_fraction: f64,
-    /// Rare-event boost factor (1: plain).
-    pub rare_event: f64,
-    /// Latent-damage bias probability (0: off; absent in folders written before it).
-    #[serde(default)]
-    pub latent_bias: f64,
-    /// Target relative error.
-    pub target_rel_error: Option<f64>,
-    /// Stock-out target.
-    pub stockout_target: f64,
-    /// Damage sampler (absent in folders written before the on-demand sampler: every-strike).
-    #[serde(default = "every_strike")]
-    pub sampler: Sampler,
-}
-
-fn every_strike() -> Sampler {
-    Sampler::EveryStrike
-}
-
-/// Largest shard count accepted.
-pub const MAX_SHARDS: u64 = 1_000_000_000;
-
-impl RunSettingsFile {
-    /// Check settings read back from disk (settings.json, a checkpoint) as strictly as the
-    /// command line: every field in its range.
-    ///
-    /// # Errors
-    /// A message naming the field, its value and the allowed range.
-    pub fn validate(&self) -> Result<(), String> {
-        if !(1..=MAX_HISTORIES).contains(&self.histories) {
-            return Err(format!(
-                "histories = {} is out of range: allowed [1, 1e12]",
-                self.histories
-            ));
-        }
-        if let Some((i, n)) = self.shard {
-            if n == 0 || i >= n || n > MAX_SHARDS {
-                return Err(format!(
-                    "shard = [{i}, {n}] is not valid: allowed I/N with 0 <= I < N <= {MAX_SHARDS}"
-                ));
-            }
-        }
-        if !(self.floor_fraction > 0.0 && self.floor_fraction <= 1.0) {
-            return Err(format!(
-                "floor_fraction = {} is out of range: allowed (0, 1]",
-                self.floor_fraction
-            ));
-        }
-        if !(1.0..=1e6).contains(&self.rare_event) {
-            return Err(format!(
-                "rare_event = {} is out of range: allowed [1, 1e6]",
-                self.rare_event
-            ));
-        }
-        if !(0.0..=0.95).contains(&self.latent_bias) {
-            return Err(format!(
-                "latent_bias = {} is out of range: allowed [0, 0.95]",
-                self.latent_bias
-            ));
-        }
-        if !(self.stockout_target > 0.0 && self.stockout_target < 1.0) {
-            return Err(format!(
-                "stockout_target = {} is out of range: allowed (0, 1)",
-                self.stockout_target
-            ));
-        }
-        if let Some(t) = self.target_rel_error {
-            if !(t > 0.0 && t < 1.0) {
-                return Err(format!(
-                    "target_rel_error = {t} is out of range: allowed (0, 1)"
-                ));
-            }
-        }
-        Ok(())
-    }
 }
 
 /// Check that a tally read back from disk has the shape the model's tallies have (so merging
@@ -329,113 +199,38 @@ pub fn check_tally_shape(
 struct CheckpointFile {
     version: String,
     scenario_hash: String,
-    settings: RunSettingsFile,
+    settings: RunSettings,
     checkpoint: Checkpoint,
 }
 
-fn parse_shard(s: &str) -> anyhow::Result<(u64, u64)> {
-    let bad = || {
-        InputError(format!(
-            "--shard = {s} is not valid: use I/N with 0 <= I < N, for example 0/3"
-        ))
-    };
-    let (i, n) = s.split_once('/').ok_or_else(bad)?;
-    let i: u64 = i.trim().parse().map_err(|_| bad())?;
-    let n: u64 = n.trim().parse().map_err(|_| bad())?;
-    if n == 0 || i >= n {
-        return Err(bad().into());
-    }
-    if n > MAX_SHARDS {
-        return Err(InputError(format!(
-            "--shard = {s}: at most {MAX_SHARDS} shards are allowed"
-        ))
-        .into());
-    }
-    Ok((i, n))
+/// A run-settings error as an input error (exit code 2).
+pub fn settings_err(e: RunSettingsError) -> anyhow::Error {
+    InputError(e.to_string()).into()
 }
 
 /// Validate the run options given on the command line against the scenario's defaults.
-pub fn settings_from_args(model: &Model, a: &Args) -> anyhow::Result<RunSettingsFile> {
-    let histories = a.histories.unwrap_or(model.scenario.run.histories);
-    if !(1..=MAX_HISTORIES).contains(&histories) {
-        return Err(InputError(format!(
-            "--histories = {histories} is out of range: allowed [1, 1e12] histories"
-        ))
-        .into());
-    }
-    if a.threads > MAX_THREADS {
-        return Err(InputError(format!(
-            "--threads = {} is out of range: allowed [0, {MAX_THREADS}] threads (0: one per core)",
-            a.threads
-        ))
-        .into());
-    }
-    if !(a.floor_fraction > 0.0 && a.floor_fraction <= 1.0) {
-        return Err(InputError(format!(
-            "--floor-fraction = {} is out of range: allowed (0, 1] (fraction of the smallest severing hole)",
-            a.floor_fraction
-        ))
-        .into());
-    }
-    if let Some(f) = a.rare_event {
-        if !(1.0..=1e6).contains(&f) {
-            return Err(InputError(format!(
-                "--rare-event = {f} is out of range: allowed [1, 1e6] (boost factor, dimensionless)"
-            ))
-            .into());
-        }
-    }
-    if let Some(p) = a.latent_bias {
-        if !(0.0..=0.95).contains(&p) {
-            return Err(InputError(format!(
-                "--latent-bias = {p} is out of range: allowed [0, 0.95] (probability of the biased component)"
-            ))
-            .into());
-        }
-    }
-    if !(a.stockout_target > 0.0 && a.stockout_target < 1.0) {
-        return Err(InputError(format!(
-            "--stockout-target = {} is out of range: allowed (0, 1) (probability)",
-            a.stockout_target
-        ))
-        .into());
-    }
-    if let Some(t) = a.target_rel_error {
-        if !(t > 0.0 && t < 1.0) {
-            return Err(InputError(format!(
-                "--target-rel-error = {t} is out of range: allowed (0, 1) (relative standard error)"
-            ))
-            .into());
-        }
-    }
-    let shard = a.shard.as_deref().map(parse_shard).transpose()?;
-    if shard.is_some() && a.target_rel_error.is_some() {
-        return Err(InputError(
-            "--target-rel-error cannot be combined with --shard: a shard cannot see the other shards' error".into(),
-        )
-        .into());
-    }
-    Ok(RunSettingsFile {
-        histories,
-        seed: a.seed.unwrap_or(model.scenario.run.seed),
-        shard,
+pub fn settings_from_args(model: &Model, a: &Args) -> anyhow::Result<RunSettings> {
+    let choices = RunChoices {
         floor_fraction: a.floor_fraction,
-        rare_event: a.rare_event.unwrap_or(1.0),
         latent_bias: a.latent_bias.unwrap_or(0.0),
-        target_rel_error: a.target_rel_error,
-        stockout_target: a.stockout_target,
-        sampler: a.sampler.into(),
-    })
+        shard: a
+            .shard
+            .as_deref()
+            .map(parse_shard)
+            .transpose()
+            .map_err(settings_err)?,
+        stockout_target: a.stock.stockout_target,
+        ..a.run.choices()
+    };
+    let run = &model.scenario.run;
+    choices
+        .resolve(run.histories, run.seed)
+        .map_err(settings_err)
 }
 
 /// Build the engine a run's settings ask for.
-pub fn engine_for<'m>(model: &'m Model, s: &RunSettingsFile) -> anyhow::Result<Engine<'m>> {
-    let engine = Engine::with_sampler(model, s.floor_fraction, s.sampler)
-        .map_err(|e| InputError(e.to_string()))?;
-    Ok(engine
-        .with_rare_event(s.rare_event)
-        .and_then(|e| e.with_latent_bias(s.latent_bias))
-        .map_err(|e| InputError(e.to_string()))?)
+pub fn engine_for<'m>(model: &'m Model, s: &RunSettings) -> anyhow::Result<Engine<'m>> {
+    Engine::for_settings(model, s).map_err(|e| InputError(e.to_string()).into())
 }
 
 /// The second variant of a paired preventive-replacement comparison.
@@ -450,7 +245,7 @@ pub enum PolicyArm<'a> {
 /// `paired`): the same histories with and without the policy, history by history.
 fn policy_effect(
     model: &Model,
-    s: &RunSettingsFile,
+    s: &RunSettings,
     threads: usize,
     arm: &PolicyArm<'_>,
     stop: Option<&AtomicBool>,
@@ -514,7 +309,7 @@ fn policy_effect(
 #[allow(clippy::too_many_arguments)]
 pub fn execute(
     model: &Model,
-    s: &RunSettingsFile,
+    s: &RunSettings,
     threads: usize,
     out_dir: &Path,
     start: Option<Checkpoint>,
@@ -523,29 +318,14 @@ pub fn execute(
     compare: Option<PolicyArm<'_>>,
 ) -> anyhow::Result<RunSummary> {
     let engine = engine_for(model, s)?;
+    let opts = s.options(threads);
     // A run with a target error stops when it is met; its history count is only a ceiling.
     if !force && s.target_rel_error.is_none() {
-        let share = Engine::batches_of(&RunOptions {
-            histories: s.histories,
-            seed: s.seed,
-            threads,
-            floor_fraction: s.floor_fraction,
-            shard: s.shard,
-            target_rel_error: None,
-        })
-        .histories();
+        let share = Engine::batches_of(&opts).histories();
         engine
             .check_work_budget(share, s.floor_fraction)
             .map_err(|e| InputError(e.to_string()))?;
     }
-    let opts = RunOptions {
-        histories: s.histories,
-        seed: s.seed,
-        threads,
-        floor_fraction: s.floor_fraction,
-        shard: s.shard,
-        target_rel_error: s.target_rel_error,
-    };
     let share = Engine::batches_of(&opts).histories();
     let bar = indicatif::ProgressBar::new(share);
     bar.set_style(
@@ -582,7 +362,29 @@ pub fn execute(
             }
         }
     }
-    let manifest = Manifest {
+    let threads = if threads == 0 {
+        rayon::current_num_threads()
+    } else {
+        threads
+    };
+    let manifest = run_manifest(&summary, s, threads, started.elapsed().as_secs_f64());
+    let checkpoint = (outcome.status == RunStatus::Interrupted).then_some(Checkpoint {
+        tally: outcome.tally,
+        batches_done: outcome.batches_done,
+        completed_beyond: outcome.completed_beyond,
+    });
+    write_run_folder(out_dir, model, s, &summary, &manifest, checkpoint)?;
+    Ok(summary)
+}
+
+/// The manifest of a run folder (its file list is filled in when it is written).
+pub fn run_manifest(
+    summary: &RunSummary,
+    s: &RunSettings,
+    threads: usize,
+    wall_time_s: f64,
+) -> Manifest {
+    Manifest {
         tool: "tether-risk".into(),
         version: tether_risk::VERSION.into(),
         scenario: summary.scenario.clone(),
@@ -590,18 +392,29 @@ pub fn execute(
         seed: s.seed,
         histories: summary.histories,
         batch_size: summary.batch_size,
-        threads: if threads == 0 {
-            rayon::current_num_threads()
-        } else {
-            threads
-        },
+        threads,
         shard: s.shard.map(|(i, n)| [i, n]),
         crate_versions: crate_versions(),
         random_streams: "Pcg64Mcg per (seed, purpose, history), seeded through SplitMix64".into(),
-        wall_time_s: started.elapsed().as_secs_f64(),
+        wall_time_s,
         command: command_line(),
         files: Vec::new(),
-    };
+    }
+}
+
+/// Write a run folder (simulate, merge, demo) by the run-folder protocol: retract the
+/// manifest, clear the earlier run's files, write the inputs needed to re-read or continue the
+/// run (scenario.json, settings.json, flux_table.json when the scenario reads a table, the
+/// checkpoint of an interrupted run), the results, and for a whole run (not a shard) the
+/// design, the fast estimate and the report; the manifest last.
+pub fn write_run_folder(
+    out_dir: &Path,
+    model: &Model,
+    s: &RunSettings,
+    summary: &RunSummary,
+    manifest: &Manifest,
+    checkpoint: Option<Checkpoint>,
+) -> anyhow::Result<()> {
     let io =
         |e: std::io::Error| anyhow::anyhow!("cannot write results to {}: {e}", out_dir.display());
     // The manifest goes first and comes back last: in between the folder says it is incomplete.
@@ -625,23 +438,19 @@ pub fn execute(
         names.push("flux_table.json".into());
     }
     let checkpoint_path = out_dir.join("checkpoint.json");
-    if outcome.status == RunStatus::Interrupted {
+    if let Some(checkpoint) = checkpoint {
         let c = CheckpointFile {
             version: tether_risk::VERSION.into(),
             scenario_hash: model.scenario.hash_hex(),
             settings: s.clone(),
-            checkpoint: Checkpoint {
-                tally: outcome.tally,
-                batches_done: outcome.batches_done,
-                completed_beyond: outcome.completed_beyond,
-            },
+            checkpoint,
         };
         write_atomic(&checkpoint_path, serde_json::to_string(&c)?.as_bytes()).map_err(io)?;
         names.push("checkpoint.json".into());
     } else if checkpoint_path.exists() {
         std::fs::remove_file(&checkpoint_path).map_err(io)?;
     }
-    names.extend(write_run(out_dir, &summary).map_err(io)?);
+    names.extend(write_run(out_dir, summary).map_err(io)?);
     if s.shard.is_none() {
         // Optional inputs of the report (checked by their own scenario hash), not listed.
         write_design_and_estimate(model, out_dir)?;
@@ -651,8 +460,8 @@ pub fn execute(
             super::report::render_run(out_dir)?;
         }
     }
-    write_manifest(out_dir, &manifest, &names).map_err(io)?;
-    Ok(summary)
+    write_manifest(out_dir, manifest, &names).map_err(io)?;
+    Ok(())
 }
 
 /// Write `design.json` and, where the fast Markov estimate applies, `estimate.json` into a run
@@ -726,7 +535,7 @@ pub fn model_from_dir(dir: &Path) -> anyhow::Result<Model> {
     Ok(Model::build(Scenario::from_spec(spec, table)?)?)
 }
 
-fn replay(model: &Model, s: &RunSettingsFile, index: u64) -> anyhow::Result<String> {
+fn replay(model: &Model, s: &RunSettings, index: u64) -> anyhow::Result<String> {
     let engine = engine_for(model, s)?;
     let (outcome, log) = engine.replay(index, s.seed);
     let mut o = format!(
@@ -791,19 +600,8 @@ fn replay(model: &Model, s: &RunSettingsFile, index: u64) -> anyhow::Result<Stri
 }
 
 /// Check a checkpoint read back from disk against the run it continues.
-fn check_checkpoint(
-    engine: &Engine<'_>,
-    s: &RunSettingsFile,
-    c: &Checkpoint,
-) -> Result<(), String> {
-    let batches = Engine::batches_of(&RunOptions {
-        histories: s.histories,
-        seed: s.seed,
-        threads: 1,
-        floor_fraction: s.floor_fraction,
-        shard: s.shard,
-        target_rel_error: s.target_rel_error,
-    });
+fn check_checkpoint(engine: &Engine<'_>, s: &RunSettings, c: &Checkpoint) -> Result<(), String> {
+    let batches = Engine::batches_of(&s.options(1));
     if c.batches_done > batches.len() {
         return Err(format!(
             "batches_done = {} but the run has {} batches",
@@ -862,9 +660,12 @@ pub fn run(a: Args) -> anyhow::Result<()> {
         let text = read_run_file(&dir.join("checkpoint.json"))?;
         let c: CheckpointFile = serde_json::from_str(&text)
             .map_err(|e| InputError(format!("checkpoint.json is damaged: {e}")))?;
-        c.settings
-            .validate()
-            .map_err(|e| InputError(format!("checkpoint.json is damaged: settings.{e}")))?;
+        c.settings.validate().map_err(|e| {
+            InputError(format!(
+                "checkpoint.json is damaged: settings.{}",
+                e.in_file()
+            ))
+        })?;
         let model = model_from_dir(dir)?;
         if c.scenario_hash != model.scenario.hash_hex() || c.version != tether_risk::VERSION {
             return Err(InputError(format!(
@@ -927,7 +728,7 @@ pub fn run(a: Args) -> anyhow::Result<()> {
     let summary = execute(
         &model,
         &settings,
-        a.threads,
+        a.run.threads,
         &out_dir,
         start,
         Some(stop),

@@ -3,6 +3,7 @@
 use std::path::{Path, PathBuf};
 
 use serde::{Deserialize, Serialize};
+use tether_risk::engine::RunChoices;
 use tether_risk::report::folder::clear_sweep_outputs;
 use tether_risk::report::run::retract_manifest;
 use tether_risk::report::sweep::{sweep_csv, sweep_text, write_sweep};
@@ -13,11 +14,13 @@ use tether_risk::sweep::{
 };
 
 use super::output::{command_line, lock_folder, print, InputError};
+use super::run_args::{RunArgs, StockoutArg};
 use super::simulate::read_run_file;
 use super::Format;
 
 /// Arguments of `sweep`.
 #[derive(clap::Args, Debug, Clone)]
+#[command(allow_negative_numbers = true)]
 #[command(
     after_help = "Examples:\n  tether-risk sweep demo --vary tether.cross_link_spacing_km=25,50,100 --vary tether.ribbon_count=4,6 --histories 2000\n  tether-risk sweep my-tether.json --vary repair.stations[0].climbers=1,2,3 --format csv\n  tether-risk sweep my-tether.json --vary environment.flux_scale_factor=0.33,1,3 --out out/flux\n\nPATH is a dotted field path into the scenario JSON (array elements as [i]); values keep the\nfield's type. Up to 3 --vary options, at most 200 grid points. Infeasible designs are listed\nwith the reason and not simulated. Every point uses the same seed and number of histories\n(common random numbers), so differences between designs are mostly design effects.\n\nWrites sweep.json, sweep.csv, sweep.md, heatmap.png/.svg (loss probability over the first two\nvaried fields) and pareto.png/.svg (total mass against loss probability) and report.html into the output folder.\nEach finished point is saved at once in points/; after Ctrl-C (exit 130) `tether-risk sweep\n--resume DIR` runs the rest and gives the uninterrupted result."
 )]
@@ -32,15 +35,13 @@ pub struct Args {
         required_unless_present = "resume"
     )]
     pub vary: Vec<String>,
-    /// Histories per design (default: the base scenario's run.histories).
-    #[arg(long, value_parser = super::output::parse_count)]
-    pub histories: Option<u64>,
-    /// Master seed shared by every design (default: the base scenario's run.seed).
-    #[arg(long)]
-    pub seed: Option<u64>,
-    /// Worker threads per run; 0 means one per core. Results do not depend on it.
-    #[arg(long, default_value_t = 0)]
-    pub threads: usize,
+    /// Histories, seed, threads, sampler, rare-event factor, target error of every design
+    /// (see `simulate --help`); with a target error, histories are a ceiling per design.
+    #[command(flatten)]
+    pub run: RunArgs,
+    /// Stock-out target.
+    #[command(flatten)]
+    pub stock: StockoutArg,
     /// Output folder (default: out/<scenario name>-sweep).
     #[arg(long)]
     pub out: Option<PathBuf>,
@@ -48,19 +49,6 @@ pub struct Args {
     /// is beyond the budget.
     #[arg(long)]
     pub force: bool,
-    /// Damage sampler for every point (see `simulate --help`).
-    #[arg(long, value_enum, default_value_t = super::simulate::SamplerArg::OnDemand)]
-    pub sampler: super::simulate::SamplerArg,
-    /// Rare-event estimator boost factor for every design (see `simulate --help`).
-    #[arg(long, value_name = "FACTOR", allow_hyphen_values = true)]
-    pub rare_event: Option<f64>,
-    /// Stop each design once its loss probability's relative standard error is at most X;
-    /// --histories (or run.histories) is then a ceiling per design (see `simulate --help`).
-    #[arg(long, value_name = "X", allow_hyphen_values = true)]
-    pub target_rel_error: Option<f64>,
-    /// Largest acceptable stock-out probability per station, for the recommended initial stock.
-    #[arg(long, default_value_t = 0.05)]
-    pub stockout_target: f64,
     /// Continue an interrupted sweep from its output folder (finished points are kept).
     #[arg(long, value_name = "DIR", conflicts_with_all = ["file", "vary", "histories", "seed", "rare_event", "target_rel_error", "out", "force"])]
     pub resume: Option<PathBuf>,
@@ -240,8 +228,14 @@ pub fn run(a: Args) -> anyhow::Result<()> {
                     tether_risk::report::file_stem(&base_spec.name, "run")
                 ))
             });
-            // Check the grid before touching the folder.
+            // Check the grid and the run settings before touching the folder.
             SweepSpec::parse(&a.vary).map_err(sweep_err)?;
+            RunChoices {
+                stockout_target: a.stock.stockout_target,
+                ..a.run.choices()
+            }
+            .resolve(base_spec.run.histories, base_spec.run.seed)
+            .map_err(super::simulate::settings_err)?;
             let lock = lock_folder(&out_dir)?;
             let held = ["sweep.json", "sweep_plan.json", "manifest.json"]
                 .iter()
@@ -274,26 +268,29 @@ pub fn run(a: Args) -> anyhow::Result<()> {
                 base,
                 flux_table_json,
                 vary: a.vary.clone(),
-                histories: a.histories,
-                seed: a.seed,
-                rare_event_factor: a.rare_event.unwrap_or(1.0),
-                target_rel_error: a.target_rel_error,
-                stockout_target: a.stockout_target,
-                sampler: a.sampler.into(),
+                histories: a.run.histories,
+                seed: a.run.seed,
+                rare_event_factor: a.run.rare_event.unwrap_or(1.0),
+                target_rel_error: a.run.target_rel_error,
+                stockout_target: a.stock.stockout_target,
+                sampler: a.run.sampler.into(),
             };
             (plan, out_dir, lock)
         }
     };
     let spec = SweepSpec::parse(&plan.vary).map_err(sweep_err)?;
     let settings = SweepSettings {
-        histories: plan.histories,
-        seed: plan.seed,
-        threads: a.threads,
-        rare_event_factor: plan.rare_event_factor,
-        target_rel_error: plan.target_rel_error,
-        stockout_target: plan.stockout_target,
+        run: RunChoices {
+            histories: plan.histories,
+            seed: plan.seed,
+            threads: a.run.threads,
+            rare_event: plan.rare_event_factor,
+            target_rel_error: plan.target_rel_error,
+            stockout_target: plan.stockout_target,
+            sampler: plan.sampler,
+            ..RunChoices::default()
+        },
         flux_table_json: plan.flux_table_json.clone(),
-        sampler: plan.sampler,
         force_work: a.force,
     };
     let done = if a.resume.is_some() {

@@ -566,3 +566,59 @@ impl Engine<'_> {
         None
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// The arena gives each touched bay one slot of `ribbons` entries, once, and `reset`
+    /// returns every bay to untouched (the next history starts clean without reallocating).
+    #[test]
+    fn scratch_slots_are_allocated_once_and_reset() {
+        let mut s = Scratch::new(10, 3, None);
+        assert_eq!(s.slot_of(4), None);
+        assert_eq!(s.slot(4, 3), 0);
+        assert_eq!(s.slot(7, 3), 1);
+        assert_eq!(s.slot(4, 3), 0, "a bay keeps its slot");
+        assert_eq!(s.slot_of(7), Some(1));
+        assert_eq!(s.worst_hole_m.len(), 6);
+        assert!(s.intact.iter().all(|&x| x));
+        assert_eq!(s.cuts_in(4), 0);
+        s.cuts_in_bay[1] = 2;
+        assert_eq!(s.cuts_in(7), 2);
+        s.note_max_cuts(2);
+        s.note_max_cuts(1);
+        assert_eq!(s.max_cuts, 2);
+        s.damaged.push((7, 1.5));
+        s.damaged.push((4, 0.25));
+        assert_eq!(s.damaged_rate(), 1.75);
+        let capacity = s.worst_hole_m.capacity();
+        s.reset();
+        assert_eq!(s.slot_of(4), None);
+        assert_eq!(s.slot_of(7), None);
+        assert!(s.worst_hole_m.is_empty() && s.touched.is_empty() && s.damaged.is_empty());
+        assert_eq!((s.max_cuts, s.bays_with_cuts), (0, 0));
+        assert_eq!(
+            s.worst_hole_m.capacity(),
+            capacity,
+            "reset keeps the allocation"
+        );
+        assert_eq!(s.slot(7, 3), 0, "slots start again from 0");
+    }
+
+    /// Year of an event time on the demo (a 15-year mission): Julian years of 365.25 days,
+    /// the end of the mission counted in its last year.
+    #[test]
+    fn year_of_clamps_to_the_mission() {
+        let model = crate::model::Model::build(crate::scenario::demo()).unwrap();
+        let engine = Engine::new(&model, 1.0).unwrap();
+        let y = crate::scenario::SECONDS_PER_YEAR;
+        assert_eq!(y, 365.25 * 86_400.0);
+        assert_eq!(engine.year_of(0.0), 0);
+        assert_eq!(engine.year_of(0.999 * y), 0);
+        assert_eq!(engine.year_of(1.0 * y), 1);
+        assert_eq!(engine.year_of(14.5 * y), 14);
+        assert_eq!(engine.year_of(15.0 * y), 14);
+        assert_eq!(engine.year_of(1e12 * y), 14);
+    }
+}

@@ -15,6 +15,7 @@ mod ondemand;
 mod paired;
 mod rng;
 mod sampler;
+mod settings;
 mod summary;
 mod tally;
 mod validation;
@@ -24,6 +25,10 @@ pub use ondemand::{critical_width_m, OnDemandTables};
 pub use paired::{PairedCounts, PairedOutcome, PolicyEffect, PAIRED_INTERVAL_METHOD};
 pub use rng::{splitmix64, stream, Purpose};
 pub use sampler::{open01, unit, Strike, StrikeSampler};
+pub use settings::{
+    check_threads, parse_shard, RunChoices, RunField, RunSettings, RunSettingsError,
+    DEFAULT_STOCKOUT_TARGET, MAX_HISTORIES, MAX_SHARDS, MAX_THREADS,
+};
 pub use summary::{
     BandRow, CauseCounts, CountQuantiles, DurationStats, EstimateMethod, Interval, LittleLaw,
     LossProbability, RepairSummary, RunSummary, SpareSummary, StationDemand, StationProbability,
@@ -136,6 +141,9 @@ pub enum EngineError {
     /// Bad run options.
     #[error("{0}")]
     Options(String),
+    /// A run setting out of its range.
+    #[error("{0}")]
+    Settings(#[from] RunSettingsError),
     /// The run was stopped by a stop request before it finished (no result).
     #[error("interrupted before the run finished")]
     Interrupted,
@@ -286,11 +294,7 @@ impl<'m> Engine<'m> {
         floor_fraction: f64,
         sampler_kind: Sampler,
     ) -> Result<Self, EngineError> {
-        if !(floor_fraction > 0.0 && floor_fraction <= 1.0) {
-            return Err(EngineError::Options(format!(
-                "floor fraction = {floor_fraction} is out of range: allowed (0, 1]"
-            )));
-        }
+        RunField::FloorFraction.check(floor_fraction)?;
         let sampler = StrikeSampler::new(model, floor_fraction)?;
         let on_demand =
             if sampler_kind == Sampler::OnDemand && model.scenario.validation_mode.is_none() {
@@ -363,15 +367,22 @@ impl<'m> Engine<'m> {
         })
     }
 
+    /// The engine a run's settings ask for: sampler and floor, rare-event factor and
+    /// latent-damage bias.
+    ///
+    /// # Errors
+    /// As [`Engine::with_sampler`], [`Engine::with_rare_event`] and [`Engine::with_latent_bias`].
+    pub fn for_settings(model: &'m Model, s: &RunSettings) -> Result<Self, EngineError> {
+        Self::with_sampler(model, s.floor_fraction, s.sampler)?
+            .with_rare_event(s.rare_event)?
+            .with_latent_bias(s.latent_bias)
+    }
+
     /// Switch on the rare-event estimator: strikes (validation mode: cuts) on bays that already
     /// have a cut become `factor` times as frequent, and every history carries its likelihood
     /// ratio. `factor` = 1 is plain Monte Carlo.
     pub fn with_rare_event(mut self, factor: f64) -> Result<Self, EngineError> {
-        if !(1.0..=1e6).contains(&factor) {
-            return Err(EngineError::Options(format!(
-                "rare-event boost factor = {factor} is out of range: allowed [1, 1e6] (dimensionless)"
-            )));
-        }
+        RunField::RareEvent.check(factor)?;
         self.bias_factor = factor;
         Ok(self)
     }
@@ -382,11 +393,7 @@ impl<'m> Engine<'m> {
     /// more cut in its bay (see [`ondemand`]'s docs), and the history carries the likelihood
     /// ratio. `p` = 0 is plain Monte Carlo, bit for bit.
     pub fn with_latent_bias(mut self, p: f64) -> Result<Self, EngineError> {
-        if !(0.0..=0.95).contains(&p) {
-            return Err(EngineError::Options(format!(
-                "latent-damage bias = {p} is out of range: allowed [0, 0.95] (probability of the biased component)"
-            )));
-        }
+        RunField::LatentBias.check(p)?;
         if p > 0.0 && (self.on_demand.is_none() || self.sampler_kind != Sampler::OnDemand) {
             return Err(EngineError::Options(
                 "the latent-damage bias works on the on-demand sampler's worst-hole draws: it needs `--sampler on-demand` and a scenario outside validation mode".into(),
@@ -764,9 +771,10 @@ impl<'m> Engine<'m> {
                 sw += b.sum_w;
                 sw2 += b.sum_w2;
             }
-            let mean = sw / n;
-            let var = ((sw2 / n - mean * mean) * n / (n - 1.0)).max(0.0);
-            (mean > 0.0).then(|| (var / n).sqrt() / mean)
+            // The same estimate and standard error as the summary's (the largest weight does
+            // not enter either).
+            let w = crate::stats::WeightedProportion::from_sums(sw, sw2, 0.0, t.histories);
+            (w.estimate > 0.0).then(|| w.standard_error / w.estimate)
         } else {
             let p = t.losses as f64 / n;
             Some(((1.0 - p) / (p * n)).sqrt())
@@ -815,5 +823,108 @@ impl<'m> Engine<'m> {
     /// Mission length, years.
     pub fn mission_years(&self) -> f64 {
         self.mission_s / SECONDS_PER_YEAR
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn opts(histories: u64, shard: Option<(u64, u64)>) -> RunOptions {
+        RunOptions {
+            histories,
+            seed: 1,
+            threads: 1,
+            floor_fraction: 1.0,
+            shard,
+            target_rel_error: None,
+        }
+    }
+
+    /// The batch list is part of the reproducibility contract: fixed batches of
+    /// [`BATCH_SIZE`] (the last one partial), shard I of N owning batches I, I + N, ...; the
+    /// shards of any split partition the run's batches and histories.
+    #[test]
+    fn batches_partition_the_run_for_any_shard_split() {
+        assert_eq!(BATCH_SIZE, 1000);
+        let whole = Engine::batches_of(&opts(2500, None));
+        assert_eq!(whole.iter().collect::<Vec<_>>(), vec![0, 1, 2]);
+        assert_eq!(whole.histories(), 2500);
+        for n in 1..=5u64 {
+            let mut seen = Vec::new();
+            let mut histories = 0;
+            for i in 0..n {
+                let b = Engine::batches_of(&opts(2500, Some((i, n))));
+                seen.extend(b.iter());
+                histories += b.histories();
+            }
+            seen.sort_unstable();
+            assert_eq!(seen, vec![0, 1, 2], "{n} shards");
+            assert_eq!(histories, 2500, "{n} shards");
+        }
+        let last = Engine::batches_of(&opts(2500, Some((2, 3))));
+        assert_eq!((last.len(), last.histories()), (1, 500));
+        assert!(Engine::batches_of(&opts(2500, Some((3, 4)))).is_empty());
+        // 1e12 histories: arithmetic, not a list.
+        let huge = Engine::batches_of(&opts(MAX_HISTORIES, Some((1, 7))));
+        assert_eq!(huge.get(2), 15);
+        assert_eq!(huge.histories(), huge.len() * BATCH_SIZE);
+    }
+
+    /// Band edges: from 0, increasing, ending at the top, at most [`ALTITUDE_BANDS`] bands;
+    /// the fine edges near the anchor below the top only.
+    #[test]
+    fn altitude_bands_cover_the_tether() {
+        assert_eq!(altitude_band_edges_m(300e3), vec![0.0, 100e3, 250e3, 300e3]);
+        for top in [1e3, 5e6, 6e7, 3e8] {
+            let e = altitude_band_edges_m(top);
+            assert_eq!(e[0], 0.0);
+            assert_eq!(*e.last().unwrap(), top);
+            assert!(e.windows(2).all(|w| w[0] < w[1]), "{e:?}");
+            assert!(
+                e.len() - 1 <= ALTITUDE_BANDS,
+                "{top}: {} bands",
+                e.len() - 1
+            );
+        }
+    }
+
+    /// Source: the binomial standard error, SE(p̂)/p̂ = sqrt((1 − p̂) / (n p̂)) (any statistics
+    /// text); none before the first loss.
+    #[test]
+    fn relative_error_of_a_plain_run_is_the_binomial_one() {
+        let model = Model::build(crate::scenario::demo()).unwrap();
+        let engine = Engine::new(&model, 1.0).unwrap();
+        let mut t = engine.empty_tally();
+        t.histories = 10_000;
+        assert_eq!(engine.relative_error(&t), None);
+        t.losses = 25;
+        let want = ((1.0 - 0.0025) / 25.0f64).sqrt();
+        assert!((engine.relative_error(&t).unwrap() - want).abs() < 1e-15);
+    }
+
+    /// Every range of the engine's constructors is the run settings' range (one check).
+    #[test]
+    fn constructors_refuse_settings_out_of_range() {
+        let model = Model::build(crate::scenario::demo()).unwrap();
+        for f in [0.0, 1.5, f64::NAN] {
+            assert!(matches!(
+                Engine::new(&model, f),
+                Err(EngineError::Settings(RunSettingsError::OutOfRange {
+                    field: RunField::FloorFraction,
+                    ..
+                }))
+            ));
+        }
+        let e = || Engine::new(&model, 1.0).unwrap();
+        assert!(e().with_rare_event(0.5).is_err());
+        assert!(e().with_rare_event(1e6).is_ok());
+        assert!(e().with_latent_bias(0.96).is_err());
+        // The latent bias needs the on-demand sampler's worst-hole draws.
+        let every = Engine::with_sampler(&model, 1.0, Sampler::EveryStrike).unwrap();
+        assert!(matches!(
+            every.with_latent_bias(0.3),
+            Err(EngineError::Options(_))
+        ));
     }
 }

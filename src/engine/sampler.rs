@@ -547,3 +547,80 @@ pub fn unit<R: Rng + ?Sized>(rng: &mut R) -> f64 {
 pub fn open01<R: Rng + ?Sized>(rng: &mut R) -> f64 {
     1.0 - unit(rng)
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::engine::{stream, Purpose};
+
+    fn demo() -> Model {
+        Model::build(crate::scenario::demo()).unwrap()
+    }
+
+    /// Ranges of the uniform helpers (their definitions: 53 random bits scaled by 2^-53), and
+    /// the mean 1/2 within 4 standard errors (sd 1/sqrt(12), closed form) for a fixed seed.
+    #[test]
+    fn uniforms_stay_in_their_intervals() {
+        let mut r = stream(3, Purpose::Analysis, 0);
+        let n = 100_000;
+        let mut sum = 0.0;
+        for _ in 0..n {
+            let u = unit(&mut r);
+            let o = open01(&mut r);
+            assert!((0.0..1.0).contains(&u), "{u}");
+            assert!(o > 0.0 && o <= 1.0, "{o}");
+            sum += u;
+        }
+        let se = (1.0 / 12.0 / n as f64).sqrt();
+        assert!((sum / n as f64 - 0.5).abs() < 4.0 * se);
+    }
+
+    /// Source: a Poisson process of rate λ has exponential gaps of mean 1/λ and standard
+    /// deviation 1/λ (closed form). 20 000 gaps, fixed seed, tolerance 4 standard errors.
+    #[test]
+    fn gaps_have_the_mean_of_the_total_rate() {
+        let model = demo();
+        let s = StrikeSampler::new(&model, 1.0).unwrap();
+        let rate = s.total_rate_per_s();
+        assert!(rate > 0.0 && rate.is_finite());
+        let total: f64 = (0..model.profile.bays.len())
+            .map(|j| s.bay_rate_per_s(j))
+            .sum();
+        assert!(
+            (total / rate - 1.0).abs() < 1e-9,
+            "bay rates add up to the total"
+        );
+        let mut r = stream(5, Purpose::Strikes, 0);
+        let n = 20_000;
+        let mean: f64 = (0..n).map(|_| s.next_gap_s(&mut r)).sum::<f64>() / n as f64;
+        assert!(
+            (mean * rate - 1.0).abs() < 4.0 / (n as f64).sqrt(),
+            "{}",
+            mean * rate
+        );
+    }
+
+    /// Every drawn strike is a possible one: its bay, a ribbon of the bay, a diameter at least
+    /// the bay's floor, a centre within d/2 of the ribbon, angles in range.
+    #[test]
+    fn strikes_are_geometrically_possible() {
+        let model = demo();
+        let s = StrikeSampler::new(&model, 1.0).unwrap();
+        let ribbons = model.scenario.tether.ribbon_count as u32;
+        let mut r = stream(9, Purpose::Strikes, 1);
+        let bays = model.profile.bays.len();
+        for k in 0..5_000 {
+            let j = k % bays;
+            let st = s.sample_in_bay(&mut r, j);
+            let w = model.profile.bays[j].width_m;
+            let d = st.diameter_m;
+            assert_eq!(st.bay as usize, j);
+            assert!(st.ribbon < ribbons);
+            assert!(d >= s.floor_diameter_m(j) * (1.0 - 1e-12), "{d}");
+            assert!(st.centre_m >= -d / 2.0 - 1e-12 && st.centre_m <= w + d / 2.0 + 1e-12);
+            assert!((0.0..=1.0).contains(&st.cos_incidence));
+            assert!((0.0..=std::f64::consts::FRAC_PI_2 + 1e-12).contains(&st.track_angle_rad));
+            assert!(st.speed_m_per_s > 0.0 && st.speed_m_per_s.is_finite());
+        }
+    }
+}

@@ -2,9 +2,10 @@
 //! raw tally so that shard results can be merged exactly later.
 
 use serde::{Deserialize, Serialize};
-use statrs::distribution::{ContinuousCDF, Normal};
 
-use crate::stats::{clopper_pearson, WeightedProportion};
+use crate::stats::{
+    clopper_pearson, count_mean, mean_var_from_sums, z_interval, StatsError, WeightedProportion,
+};
 
 use super::tally::Tally;
 use super::{altitude_band_edges_m, Engine, BATCH_SIZE};
@@ -285,13 +286,6 @@ pub struct RunSummary {
     pub caution: String,
 }
 
-/// Two-sided normal quantile for a confidence level.
-fn z_of(confidence: f64) -> f64 {
-    Normal::new(0.0, 1.0)
-        .map(|n| n.inverse_cdf(0.5 + confidence / 2.0))
-        .unwrap_or(1.959963984540054)
-}
-
 fn cp(k: u64, n: u64, confidence: f64) -> Interval {
     let (lo, hi) = clopper_pearson(k, n, confidence).unwrap_or((0.0, 1.0));
     Interval {
@@ -369,19 +363,17 @@ impl RunSummary {
             });
         }
 
-        let mean = tally.cuts as f64 / h;
-        let var = if tally.histories > 1 {
-            ((tally.cuts_sq as f64) - (tally.cuts as f64).powi(2) / h).max(0.0) / (h - 1.0)
-        } else {
-            0.0
-        };
+        let (mean, var) =
+            mean_var_from_sums(tally.histories, tally.cuts as f64, tally.cuts_sq as f64);
         let se = (var / h).sqrt();
-        let z = z_of(conf);
+        // The confidence level was validated with the scenario; the fallback is z(0.975).
+        let (lo, hi) = z_interval(mean, se, conf)
+            .unwrap_or((mean - 1.959963984540054 * se, mean + 1.959963984540054 * se));
         let per_year = |x: f64| if years > 0.0 { x / years } else { 0.0 };
         let cuts_per_year = Interval {
             estimate: per_year(mean),
-            ci_low: per_year((mean - z * se).max(0.0)),
-            ci_high: per_year(mean + z * se),
+            ci_low: per_year(lo.max(0.0)),
+            ci_high: per_year(hi),
             confidence: conf,
         };
 
@@ -652,35 +644,19 @@ pub struct SpareSummary {
 }
 
 /// Smallest value v with P(X <= v) >= p from integer counts.
+/// The count quantile of a tally histogram ([`crate::stats::count_quantile`]): 0 when nothing
+/// was counted.
 fn count_quantile(hist: &[u64], p: f64) -> u64 {
-    let total: u64 = hist.iter().sum();
-    if total == 0 {
-        return 0;
+    match crate::stats::count_quantile(hist, p) {
+        Ok(v) => v,
+        Err(StatsError::TooFewObservations { .. }) => 0,
+        Err(_) => hist.len().saturating_sub(1) as u64,
     }
-    let need = (p * total as f64).ceil().max(1.0) as u64;
-    let mut cum = 0;
-    for (v, &c) in hist.iter().enumerate() {
-        cum += c;
-        if cum >= need {
-            return v as u64;
-        }
-    }
-    (hist.len() - 1) as u64
 }
 
 fn count_stats(hist: &[u64]) -> CountQuantiles {
-    let total: u64 = hist.iter().sum();
-    let mean = if total > 0 {
-        hist.iter()
-            .enumerate()
-            .map(|(v, &c)| v as f64 * c as f64)
-            .sum::<f64>()
-            / total as f64
-    } else {
-        0.0
-    };
     CountQuantiles {
-        mean,
+        mean: count_mean(hist).unwrap_or(0.0),
         p50: count_quantile(hist, 0.5),
         p90: count_quantile(hist, 0.9),
         p95: count_quantile(hist, 0.95),
@@ -933,5 +909,49 @@ impl RareEventSummary {
             losses_observed: tally.losses,
             cumulative_by_year,
         })
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// Source: the Clopper–Pearson check value of shared/ECOSYSTEM.md (independent reference):
+    /// 3 failures in 1000 trials at 95 %: (6.190999e-4, 8.742023e-3).
+    #[test]
+    fn plain_loss_probability_carries_the_exact_interval() {
+        let lp = LossProbability::plain(3, 1000, 0.95);
+        assert_eq!(lp.estimate, 0.003);
+        let (lo, hi) = lp.interval().unwrap();
+        assert!((lo - 6.190999e-4).abs() < 1e-9, "{lo}");
+        assert!((hi - 8.742023e-3).abs() < 1e-9, "{hi}");
+        assert!(lp.resolved && !lp.is_weighted());
+        assert_eq!(lp.effective_sample_size, 3.0);
+    }
+
+    /// Source: Clopper & Pearson (1934) with no event: the upper bound has the closed form
+    /// 1 − (α/2)^(1/n); the lower bound is 0.
+    #[test]
+    fn no_loss_gives_the_closed_form_upper_bound() {
+        let lp = LossProbability::plain(0, 2000, 0.95);
+        let (lo, hi) = lp.interval().unwrap();
+        assert_eq!(lo, 0.0);
+        let want = 1.0 - 0.025f64.powf(1.0 / 2000.0);
+        assert!((hi / want - 1.0).abs() < 1e-6, "{hi} vs {want}");
+    }
+
+    /// The tally's count histograms: nothing counted is 0, not an error; otherwise the
+    /// definition-1 quantile of stats.
+    #[test]
+    fn count_summaries_of_tally_histograms() {
+        assert_eq!(count_quantile(&[], 0.5), 0);
+        assert_eq!(count_quantile(&[0, 0, 0], 0.95), 0);
+        assert_eq!(count_quantile(&[5, 3, 2], 0.5), 0);
+        assert_eq!(count_quantile(&[5, 3, 2], 0.8), 1);
+        assert_eq!(count_quantile(&[5, 3, 2], 0.81), 2);
+        let q = count_stats(&[5, 3, 2]);
+        assert!((q.mean - 0.7).abs() < 1e-15);
+        assert_eq!((q.p50, q.p90, q.p95, q.p99), (0, 2, 2, 2));
+        assert_eq!(count_stats(&[]).mean, 0.0);
     }
 }

@@ -194,3 +194,65 @@ fn add(a: &mut Vec<u64>, b: &[u64]) {
         *x += *y;
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn part(histories: u64, losses: u64, batch: u64) -> Tally {
+        let mut t = Tally::new(2, 3, 4, 1);
+        t.histories = histories;
+        t.losses = losses;
+        t.losses_by_cause[0] = losses;
+        t.losses_by_year[1] = losses;
+        t.cuts = 3 * losses;
+        t.cuts_sq = 9 * u128::from(losses);
+        t.max_cuts_in_bay[2] = histories;
+        t.weighted.push(WeightedBatch {
+            batch,
+            sum_w: 0.5,
+            sum_w2: 0.25,
+            max_w: 0.5,
+            sum_w_by_year: vec![0.0, 0.5],
+        });
+        t.record_anomaly(batch * 1000, "test");
+        t
+    }
+
+    /// Source: the definition (a tally is counts; merging adds them). Merging is the same in
+    /// either order for every count; the weighted batches keep their batch numbers (the engine
+    /// sorts them into batch order) and the anomaly examples are kept sorted and capped.
+    #[test]
+    fn merge_adds_counts_in_any_order() {
+        let (a, b) = (part(1000, 2, 0), part(500, 1, 7));
+        let mut ab = a.clone();
+        ab.merge(&b);
+        let mut ba = b.clone();
+        ba.merge(&a);
+        assert_eq!(
+            (ab.histories, ab.losses, ab.cuts, ab.cuts_sq),
+            (1500, 3, 9, 27)
+        );
+        assert_eq!(ab.losses_by_year, vec![0, 3]);
+        assert_eq!(ab.max_cuts_in_bay, vec![0, 0, 1500, 0, 0]);
+        assert_eq!(ab.anomalies, 2);
+        assert_eq!(ab.anomaly_examples, ba.anomaly_examples);
+        ab.weighted.sort_by_key(|w| w.batch);
+        ba.weighted.sort_by_key(|w| w.batch);
+        assert_eq!(ab, ba);
+        // The empty tally is the identity.
+        let mut e = Tally::new(2, 3, 4, 1);
+        e.merge(&a);
+        assert_eq!(e, a);
+    }
+
+    /// A shorter vector (a tally from a shorter layout) is extended, never truncated.
+    #[test]
+    fn merge_extends_shorter_vectors() {
+        let mut a = Tally::new(1, 1, 1, 0);
+        let b = part(10, 1, 0);
+        a.merge(&b);
+        assert_eq!(a.losses_by_year, vec![0, 1]);
+        assert_eq!(a.max_cuts_in_bay.len(), 5);
+    }
+}

@@ -834,3 +834,85 @@ impl Fleet {
         self.jobs.iter().any(|j| j.bay == bay && j.stockout)
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// Events leave the queue earliest first, ties in the order they were scheduled (the
+    /// history must not depend on the heap's internal order).
+    #[test]
+    fn queue_is_by_time_then_insertion() {
+        let mut q = EventQueue::default();
+        q.push(5.0, EventKind::Detect { bay: 1 });
+        q.push(2.0, EventKind::Detect { bay: 2 });
+        q.push(5.0, EventKind::Detect { bay: 3 });
+        q.push(2.0, EventKind::Detect { bay: 4 });
+        assert_eq!(q.next_time(), Some(2.0));
+        let order: Vec<u32> = std::iter::from_fn(|| q.pop())
+            .map(|e| match e.kind {
+                EventKind::Detect { bay } => bay,
+                _ => unreachable!(),
+            })
+            .collect();
+        assert_eq!(order, vec![2, 4, 1, 3]);
+        assert_eq!(q.next_time(), None);
+    }
+
+    /// Time-to-splice bins: 100 per decade from 0.01 h (about 2.3 % wide, 10^(1/100) - 1);
+    /// a bin's geometric centre falls back into that bin; out-of-range times are clamped.
+    #[test]
+    fn splice_bins_are_logarithmic() {
+        assert!((10f64.powf(0.01) - 1.0 - 0.0233).abs() < 1e-4);
+        assert_eq!(RepairTally::splice_bin(0.0), 0);
+        assert_eq!(RepairTally::splice_bin(f64::NAN), 0);
+        // Just inside a decade boundary (exact decades are at the mercy of log10's last bit).
+        assert_eq!(RepairTally::splice_bin(0.1001), 100);
+        assert_eq!(RepairTally::splice_bin(1.001), 200);
+        let last = SPLICE_BINS_PER_DECADE * SPLICE_HIST_DECADES - 1;
+        assert_eq!(RepairTally::splice_bin(1e9), last);
+        for bin in [0, 1, 57, 200, 699] {
+            let c = RepairTally::splice_bin_centre_hours(bin);
+            assert_eq!(RepairTally::splice_bin(c), bin, "bin {bin}, centre {c} h");
+        }
+    }
+
+    /// Repair tallies add count by count in either order.
+    #[test]
+    fn repair_tallies_merge_by_adding() {
+        let mut a = RepairTally::new(2, 3);
+        a.splices = 4;
+        a.splices_by_year[1] = 4;
+        a.stockout_histories[1] = 1;
+        let mut b = RepairTally::new(2, 3);
+        b.splices = 1;
+        b.splices_by_year[2] = 1;
+        b.time_to_splice_hist[200] = 1;
+        let mut ab = a.clone();
+        ab.merge(&b);
+        let mut ba = b.clone();
+        ba.merge(&a);
+        assert_eq!(ab, ba);
+        assert_eq!(ab.splices, 5);
+        assert_eq!(ab.splices_by_year, vec![0, 4, 1]);
+        assert_eq!(ab.stockout_histories, vec![0, 1]);
+    }
+
+    /// A reset fleet is at the mission start of the demo: every station's initial stock and
+    /// climbers at home, nothing waiting, the first resupply (if periodic) scheduled.
+    #[test]
+    fn reset_returns_the_fleet_to_the_mission_start() {
+        let model = crate::model::Model::build(crate::scenario::demo()).unwrap();
+        let r = model.scenario.repair.as_ref().unwrap();
+        let plan = super::super::RepairPlan::new(r, &model.profile, model.scenario.run.mission_s);
+        let mut f = Fleet::new(&plan, model.scenario.run.mission_s);
+        f.reset(&plan);
+        for (i, s) in plan.stations.iter().enumerate() {
+            assert_eq!(f.stock(i as u32), s.initial_stock);
+        }
+        f.take_stock(&plan, 0, 1, 10.0);
+        f.reset(&plan);
+        assert_eq!(f.stock(0), plan.stations[0].initial_stock);
+        assert!(f.jobs().is_empty());
+    }
+}

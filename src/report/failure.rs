@@ -13,7 +13,7 @@ use serde::Serialize;
 
 use super::table::{sig, Table};
 use crate::engine::{LossProbability, RunSummary};
-use crate::stats::clopper_pearson;
+use crate::stats::{clopper_pearson, poisson_interval};
 
 /// One table as CSV (separate columns) and Markdown (combined cells), with a note on its basis.
 #[derive(Clone, Debug)]
@@ -123,8 +123,6 @@ pub fn loss_csv_cells(lp: &LossProbability, digits: usize) -> [String; 9] {
 fn cp(k: u64, n: u64, confidence: f64) -> (f64, f64) {
     clopper_pearson(k, n, confidence).unwrap_or((0.0, 1.0))
 }
-
-pub use crate::stats::poisson_interval;
 
 fn conf_pct(s: &RunSummary) -> String {
     format!("{:.0} %", 100.0 * s.loss_probability.confidence)
@@ -600,22 +598,6 @@ pub fn failure_markdown(
 #[cfg(test)]
 mod tests {
     use super::*;
-
-    // Source: Garwood (1936) exact Poisson limits. k = 0: the upper limit has the closed form
-    // -ln(alpha/2) = 3.68888 at 95 %. k = 1 and k = 10: values from published tables of exact
-    // Poisson confidence limits (from memory: 0.0253–5.572 and 4.795–18.39).
-    #[test]
-    fn garwood_limits() {
-        let (lo, hi) = poisson_interval(0, 0.95);
-        assert_eq!(lo, 0.0);
-        assert!((hi - (-(0.025f64).ln())).abs() < 1e-6, "{hi}");
-        let (lo, hi) = poisson_interval(1, 0.95);
-        assert!((lo - 0.0253).abs() < 1e-4, "{lo}");
-        assert!((hi - 5.572).abs() < 1e-3, "{hi}");
-        let (lo, hi) = poisson_interval(10, 0.95);
-        assert!((lo - 4.795).abs() < 1e-3, "{lo}");
-        assert!((hi - 18.39).abs() < 1e-2, "{hi}");
-    }
 
     // Source: the Clopper–Pearson check value in the project's crate notes: 3 in 1000 at
     // 95 % gives (6.190999e-4, 8.742023e-3); the interval cell must carry it.

@@ -2,7 +2,7 @@
 //! one): survival over the mission, cuts and losses by altitude, spare demand per station, and
 //! time to splice. Each chart's title is the question it answers.
 
-use super::failure::{poisson_interval, MarkovPoint};
+use super::failure::MarkovPoint;
 use super::plot::{
     bar_chart, distribution_chart, histogram_chart, survival_chart, Bar, ChartSpec, Figure,
     HistogramBin, Marker, PlotError, PmfPoint, ProbabilityAxis, Series,
@@ -10,6 +10,7 @@ use super::plot::{
 use super::table::sig;
 use crate::engine::RunSummary;
 use crate::stats::clopper_pearson;
+use crate::stats::poisson_interval;
 
 /// Largest loss probability (including interval bounds) still drawn on a linear survival
 /// axis; below it the differences from 1 would be invisible, so the log loss axis is used.

@@ -154,22 +154,7 @@ impl Table {
     }
 }
 
-/// Format a number to `sig` significant figures, switching to exponent form outside 1e-3..1e6.
-pub fn sig(v: f64, sig: usize) -> String {
-    if !v.is_finite() {
-        return format!("{v}");
-    }
-    if v == 0.0 {
-        return "0".into();
-    }
-    let a = v.abs();
-    if !(1e-3..1e6).contains(&a) {
-        return format!("{:.*e}", sig.saturating_sub(1), v);
-    }
-    let digits = a.log10().floor() as i32;
-    let decimals = (sig as i32 - 1 - digits).max(0) as usize;
-    format!("{v:.decimals$}")
-}
+pub use crate::stats::sig;
 
 #[cfg(test)]
 mod tests {

@@ -1193,3 +1193,67 @@ fn validate_run(r: &RunSpec) -> Result<RunSettings, ScenarioError> {
         confidence,
     })
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn run(mission_years: f64, histories: u64, confidence: f64) -> RunSpec {
+        RunSpec {
+            mission_years,
+            histories,
+            seed: 1,
+            confidence,
+        }
+    }
+
+    fn path_of(e: ScenarioError) -> String {
+        match e {
+            ScenarioError::OutOfRange { path, .. } => path,
+            other => panic!("not a range error: {other}"),
+        }
+    }
+
+    /// The run section in SI: years to seconds with the Julian year (365.25 d, the
+    /// astronomical convention of IAU), and each field refused outside its range naming its
+    /// path (ranges are project conventions, no external source).
+    #[test]
+    fn run_section_converts_and_names_bad_fields() {
+        let r = validate_run(&run(15.0, 1000, 0.95)).unwrap();
+        assert_eq!(r.mission_s, 15.0 * 365.25 * 86_400.0);
+        assert_eq!((r.histories, r.seed, r.confidence), (1000, 1, 0.95));
+        let bad = [
+            (run(-1.0, 1000, 0.95), "run.mission_years"),
+            (run(f64::NAN, 1000, 0.95), "run.mission_years"),
+            (run(15.0, 0, 0.95), "run.histories"),
+            (run(15.0, 1_000_000_000_001, 0.95), "run.histories"),
+            (run(15.0, 1000, 1.0), "run.confidence"),
+            (run(15.0, 1000, 0.4), "run.confidence"),
+        ];
+        for (spec, path) in bad {
+            assert_eq!(path_of(validate_run(&spec).unwrap_err()), path);
+        }
+        assert!(validate_run(&run(15.0, 1_000_000_000_000, 0.999_999)).is_ok());
+    }
+
+    /// Range checks refuse NaN at both kinds of bound and report the value as written.
+    #[test]
+    fn check_refuses_nan_and_reports_the_value() {
+        assert!(check("a.b", f64::NAN, Range::closed(0.0, 1.0), "m", "").is_err());
+        assert_eq!(
+            check("a.b", 0.5, Range::closed(0.0, 1.0), "m", "").unwrap(),
+            0.5
+        );
+        match check("a.b_mm", 2.5, Range::closed(0.0, 1.0), "mm", "").unwrap_err() {
+            ScenarioError::OutOfRange {
+                path, value, unit, ..
+            } => assert_eq!(
+                (path.as_str(), value.as_str(), unit.as_str()),
+                ("a.b_mm", "2.5", "mm")
+            ),
+            other => panic!("{other}"),
+        }
+        assert!(check_count("n", 0, 1, 5, "segments").is_err());
+        assert_eq!(check_count("n", 5, 1, 5, "segments").unwrap(), 5);
+    }
+}

@@ -1,6 +1,7 @@
-//! Generic statistics: binomial and Student-t intervals, mergeable moment accumulators,
-//! importance-sampling estimators, quantiles and integer histograms, the alias sampler, and
-//! goodness-of-fit helpers used by sampler tests elsewhere.
+//! Generic statistics: binomial, Poisson (Garwood), normal and Student-t intervals, moment
+//! accumulators, importance-sampling (weighted) proportions, quantiles and means of counts,
+//! the Pareto front of two minimised coordinates, the alias sampler, goodness-of-fit helpers
+//! used by sampler tests elsewhere, and numbers to significant figures.
 //!
 //! This module knows nothing about tethers; it could be published as its own crate. Every
 //! accumulator is a plain value with a `merge` so that batch results can be folded in batch
@@ -9,8 +10,10 @@
 mod alias;
 mod binomial;
 mod difference;
+mod format;
 mod gof;
 mod moments;
+mod pareto;
 mod poisson;
 mod quantile;
 mod weighted;
@@ -18,10 +21,12 @@ mod weighted;
 pub use alias::AliasTable;
 pub use binomial::clopper_pearson;
 pub use difference::{mover, newcombe_hybrid, newcombe_paired, normal_difference, Difference};
+pub use format::sig;
 pub use gof::{chi_square_p_value, ks_p_value, ks_statistic};
-pub use moments::{MeanVar, WeightedMean};
+pub use moments::{mean_var_from_sums, z_interval, MeanVar};
+pub use pareto::pareto_front;
 pub use poisson::poisson_interval;
-pub use quantile::{quantile_sorted, Histogram};
+pub use quantile::{count_mean, count_quantile};
 pub use weighted::{
     normal_quantile, wilson, wilson_effective, Unresolved, WeightedProportion, MAX_WEIGHT_SHARE,
     MIN_EFFECTIVE_SAMPLE_SIZE,
@@ -58,15 +63,12 @@ pub enum StatsError {
     /// Observed and expected arrays of different lengths, or an invalid expected count.
     #[error("invalid goodness-of-fit input: {0}")]
     BadGoodnessOfFitInput(&'static str),
-    /// The requested quantile lies in the overflow bin of a histogram, above its largest tracked value.
-    #[error("quantile lies above the largest tracked value {max}")]
+    /// The requested quantile lies above the largest value counted.
+    #[error("quantile lies above the largest counted value {max}")]
     QuantileInOverflow {
-        /// Largest value that has its own bin.
+        /// Largest value that has its own count.
         max: u64,
     },
-    /// Two histograms with different bin ranges cannot be merged.
-    #[error("histograms track different ranges (0..={0} vs 0..={1})")]
-    HistogramMismatch(u64, u64),
     /// A special-function evaluation failed to converge.
     #[error("special function did not converge: {0}")]
     NoConvergence(&'static str),

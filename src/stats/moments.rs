@@ -1,5 +1,6 @@
-//! Mergeable moment accumulators: plain mean/variance ([`MeanVar`]) and the weighted
-//! accumulator for importance sampling ([`WeightedMean`]).
+//! Means and variances: the mergeable Welford accumulator ([`MeanVar`]) with its Student-t
+//! interval, the mean and variance of counts tallied as sums ([`mean_var_from_sums`]), and
+//! the normal-approximation interval of a mean ([`z_interval`]).
 
 use super::binomial::beta_reg;
 use super::{check_confidence, StatsError};
@@ -135,88 +136,32 @@ pub(crate) fn student_t_quantile(p: f64, dof: f64) -> f64 {
     0.5 * (lo + hi)
 }
 
-/// Importance-sampling accumulator for observations `x` drawn with likelihood-ratio weights `w`.
+/// Mean and unbiased sample variance (divisor `n - 1`; 0 with fewer than two observations)
+/// of `n` observations given by their sum and sum of squares: `mean = Σx / n`,
+/// `var = max(Σx² - (Σx)² / n, 0) / (n - 1)`. `n = 0` is taken as 1 (mean 0 for empty sums).
 ///
-/// The estimate is the unbiased importance-sampling mean `(1/n) Σ w x`; its standard error
-/// comes from the sample variance of the products `y = w x`, held in Welford form (rather than
-/// as raw `Σ y` and `Σ y²`) to avoid cancellation. Also kept: `Σ w`, `Σ w²` and the largest
-/// weight, giving Kish's effective sample size `(Σ w)² / Σ w²` and the largest weight's share
-/// of `Σ w`. A small effective sample size or a large share means the standard error itself is
-/// unreliable (a few histories dominate).
-#[derive(Debug, Clone, Copy, Default, PartialEq, serde::Serialize, serde::Deserialize)]
-pub struct WeightedMean {
-    products: MeanVar,
-    sum_w: f64,
-    sum_w2: f64,
-    max_w: f64,
+/// This one-pass form cancels badly for floating-point data far from zero; it is meant for
+/// integer counts whose sums are held exactly (the engine tallies cuts and their squares as
+/// integers). For general data use [`MeanVar`].
+pub fn mean_var_from_sums(n: u64, sum: f64, sum_sq: f64) -> (f64, f64) {
+    let h = n.max(1) as f64;
+    let mean = sum / h;
+    let var = if n > 1 {
+        (sum_sq - sum.powi(2) / h).max(0.0) / (h - 1.0)
+    } else {
+        0.0
+    };
+    (mean, var)
 }
 
-impl WeightedMean {
-    /// An empty accumulator.
-    pub fn new() -> Self {
-        Self::default()
-    }
-
-    /// Add one observation `x` with likelihood-ratio weight `w` (expected non-negative).
-    #[inline]
-    pub fn push(&mut self, w: f64, x: f64) {
-        self.products.push(w * x);
-        self.sum_w += w;
-        self.sum_w2 += w * w;
-        if w > self.max_w {
-            self.max_w = w;
-        }
-    }
-
-    /// Fold another accumulator into this one.
-    pub fn merge(&mut self, other: &WeightedMean) {
-        self.products.merge(&other.products);
-        self.sum_w += other.sum_w;
-        self.sum_w2 += other.sum_w2;
-        self.max_w = self.max_w.max(other.max_w);
-    }
-
-    /// Number of observations.
-    pub fn count(&self) -> u64 {
-        self.products.count()
-    }
-
-    /// Unbiased importance-sampling estimate `(1/n) Σ w x` (0 when empty).
-    pub fn estimate(&self) -> f64 {
-        self.products.mean()
-    }
-
-    /// Self-normalized estimate `Σ w x / Σ w` (biased but often lower-variance); 0 if `Σ w = 0`.
-    pub fn self_normalized_estimate(&self) -> f64 {
-        if self.sum_w > 0.0 {
-            self.products.mean() * self.products.count() as f64 / self.sum_w
-        } else {
-            0.0
-        }
-    }
-
-    /// Standard error of [`estimate`](Self::estimate).
-    pub fn std_error(&self) -> f64 {
-        self.products.std_error()
-    }
-
-    /// Kish's effective sample size `(Σ w)² / Σ w²` (0 when all weights are 0).
-    pub fn effective_sample_size(&self) -> f64 {
-        if self.sum_w2 > 0.0 {
-            self.sum_w * self.sum_w / self.sum_w2
-        } else {
-            0.0
-        }
-    }
-
-    /// Largest single weight as a fraction of `Σ w` (0 when all weights are 0).
-    pub fn largest_weight_share(&self) -> f64 {
-        if self.sum_w > 0.0 {
-            self.max_w / self.sum_w
-        } else {
-            0.0
-        }
-    }
+/// Normal-approximation (Wald) interval `mean ± z·se`, `z` the two-sided standard normal
+/// quantile for `confidence` (1.959964 at 95 %).
+///
+/// # Errors
+/// [`StatsError::BadConfidence`] unless `0 < confidence < 1`.
+pub fn z_interval(mean: f64, std_error: f64, confidence: f64) -> Result<(f64, f64), StatsError> {
+    let z = super::normal_quantile(confidence)?;
+    Ok((mean - z * std_error, mean + z * std_error))
 }
 
 #[cfg(test)]
@@ -270,17 +215,31 @@ mod tests {
         assert!((lo - (2.0 - 12.7062)).abs() < 1e-3 && (hi - (2.0 + 12.7062)).abs() < 1e-3);
     }
 
+    /// Source: the textbook variance of 1, 2, 3, 4 (mean 2.5, sample variance 5/3), and the
+    /// same data through the Welford accumulator as an independent computation.
     #[test]
-    fn weighted_mean_basics() {
-        let mut w = WeightedMean::new();
-        for (wi, xi) in [(1.0, 2.0), (1.0, 4.0), (2.0, 0.0)] {
-            w.push(wi, xi);
-        }
-        assert!((w.estimate() - 2.0).abs() < 1e-12);
-        assert!((w.self_normalized_estimate() - 1.5).abs() < 1e-12);
-        assert!((w.effective_sample_size() - 16.0 / 6.0).abs() < 1e-12);
-        assert!((w.largest_weight_share() - 0.5).abs() < 1e-12);
-        // products 2, 4, 0: variance 4, se = sqrt(4/3)
-        assert!((w.std_error() - (4.0_f64 / 3.0).sqrt()).abs() < 1e-12);
+    fn mean_and_variance_from_sums() {
+        let (m, v) = mean_var_from_sums(4, 10.0, 30.0);
+        assert_eq!(m, 2.5);
+        assert!((v - 5.0 / 3.0).abs() < 1e-15);
+        let mut w = MeanVar::new();
+        [3.0, 0.0, 7.0, 7.0, 1.0].iter().for_each(|&x| w.push(x));
+        let (m, v) = mean_var_from_sums(5, 18.0, 108.0);
+        assert!((m - w.mean()).abs() < 1e-15 && (v - w.variance()).abs() < 1e-12);
+        assert_eq!(mean_var_from_sums(1, 3.0, 9.0), (3.0, 0.0));
+        assert_eq!(mean_var_from_sums(0, 0.0, 0.0), (0.0, 0.0));
+    }
+
+    /// Source: z(0.975) = 1.959964 (Abramowitz & Stegun Table 26.1, from memory); 90 %:
+    /// z = 1.644854.
+    #[test]
+    fn z_interval_uses_the_two_sided_normal_quantile() {
+        let (lo, hi) = z_interval(10.0, 2.0, 0.95).unwrap();
+        assert!(
+            (hi - 10.0 - 2.0 * 1.959964).abs() < 1e-5 && (10.0 - lo - 2.0 * 1.959964).abs() < 1e-5
+        );
+        let (lo, _) = z_interval(0.0, 1.0, 0.90).unwrap();
+        assert!((lo + 1.644854).abs() < 1e-6);
+        assert!(z_interval(0.0, 1.0, 1.0).is_err());
     }
 }

@@ -38,11 +38,14 @@ use serde::{Deserialize, Serialize};
 use serde_json::Value;
 use thiserror::Error;
 
-use crate::engine::{Engine, EngineError, Interval, LossProbability, RunOptions, RunSummary};
+use crate::engine::{
+    Engine, EngineError, Interval, LossProbability, RunChoices, RunSettings, RunSettingsError,
+    RunSummary,
+};
 use crate::model::{tether_design, Model};
 use crate::orbit::EarthMoon;
-use crate::report::plot::pareto_front;
 use crate::scenario::{nearest, parse_spec, scenario_hash, Scenario, ScenarioError};
+use crate::stats::{pareto_front, sig};
 use crate::structure::TetherProfile;
 
 /// Largest number of varied fields.
@@ -103,6 +106,9 @@ pub enum SweepError {
     /// A run setting is out of range.
     #[error("{0}")]
     Settings(String),
+    /// A run setting is out of range or not available for a study.
+    #[error("{0}")]
+    RunSettings(#[from] RunSettingsError),
     /// The Monte Carlo failed at run time.
     #[error("grid point {label}: the simulation failed: {message}")]
     Run {
@@ -218,43 +224,17 @@ impl SweepSpec {
 }
 
 /// How every point of a sweep is run.
-#[derive(Clone, Debug, PartialEq)]
+#[derive(Clone, Debug, PartialEq, Default)]
 pub struct SweepSettings {
-    /// Histories per point (default: the base scenario's `run.histories`).
-    pub histories: Option<u64>,
-    /// Master seed shared by every point (default: the base scenario's `run.seed`).
-    pub seed: Option<u64>,
-    /// Worker threads per run; 0 means one per core. Never changes the results.
-    pub threads: usize,
-    /// Rare-event boost factor (1: plain Monte Carlo); see [`Engine::with_rare_event`].
-    pub rare_event_factor: f64,
-    /// Stop each point once its loss probability's relative standard error is at most this;
-    /// `histories` is then a ceiling per point (see [`RunOptions::target_rel_error`]).
-    pub target_rel_error: Option<f64>,
-    /// Largest acceptable stock-out probability, for the recommended initial stock.
-    pub stockout_target: f64,
+    /// The run settings of every point: histories (default: the base scenario's
+    /// `run.histories`), seed (default: the base's `run.seed`), threads, sampler, rare-event
+    /// factor, target error (histories are then a ceiling per point), stock-out target. A
+    /// sweep has no shards and no latent-damage bias.
+    pub run: RunChoices,
     /// Text of the flux table file when the base scenario names one.
     pub flux_table_json: Option<String>,
-    /// Damage sampler of every point.
-    pub sampler: crate::engine::Sampler,
     /// Run points whose expected work is beyond the engine's budget.
     pub force_work: bool,
-}
-
-impl Default for SweepSettings {
-    fn default() -> Self {
-        SweepSettings {
-            histories: None,
-            seed: None,
-            threads: 0,
-            rare_event_factor: 1.0,
-            target_rel_error: None,
-            stockout_target: 0.05,
-            flux_table_json: None,
-            sampler: crate::engine::Sampler::OnDemand,
-            force_work: false,
-        }
-    }
 }
 
 /// One axis of the grid as run.
@@ -682,7 +662,7 @@ impl SweepResult {
                         "smallest fleet with a known loss probability at most {} x that of the largest fleet swept ({} climbers, P = {}), which stands in for an unlimited fleet",
                         1.0 + FLEET_TOLERANCE,
                         climbers(reference).unwrap_or(0),
-                        crate::report::table::sig(p_ref, 3)
+                        sig(p_ref, 3)
                     );
                 }
                 out.push(rec);
@@ -719,7 +699,7 @@ fn loss_status(p: &PointResult) -> (bool, Option<String>) {
             false,
             Some(format!(
                 "no loss seen: only an upper bound ({} at {} % confidence)",
-                crate::report::table::sig(hi, 3),
+                sig(hi, 3),
                 l.confidence * 100.0
             )),
         ),
@@ -799,7 +779,7 @@ pub fn run_sweep_resumable(
     point_progress: &(dyn Fn(u64, u64) + Sync),
 ) -> Result<SweepOutcome, SweepError> {
     spec.check_size()?;
-    check_settings(settings)?;
+    settings.run.check_study("a sweep")?;
     let table = settings.flux_table_json.clone();
     let base_spec =
         parse_spec(&base_json.to_string()).map_err(|e| SweepError::Base(Box::new(e)))?;
@@ -809,13 +789,10 @@ pub fn run_sweep_resumable(
             return Err(SweepError::Base(Box::new(e)));
         }
     }
-    let histories = settings.histories.unwrap_or(base_spec.run.histories);
-    let seed = settings.seed.unwrap_or(base_spec.run.seed);
-    if histories == 0 {
-        return Err(SweepError::Settings(
-            "--histories = 0 is out of range: allowed [1, 1e12] histories".into(),
-        ));
-    }
+    let run = settings
+        .run
+        .resolve(base_spec.run.histories, base_spec.run.seed)?;
+    let histories = run.histories;
     let canonical = serde_json::to_value(&base_spec)
         .map_err(|e| SweepError::Spec(format!("the base scenario cannot be re-serialised: {e}")))?;
     let axes = resolve_axes(&canonical, spec, table.as_deref())?;
@@ -867,8 +844,7 @@ pub fn run_sweep_resumable(
             &axes,
             index,
             coordinates,
-            histories,
-            seed,
+            &run,
             settings,
             stop,
             point_progress,
@@ -892,12 +868,12 @@ pub fn run_sweep_resumable(
         version: crate::VERSION.into(),
         scenario: base_spec.name.clone(),
         scenario_hash: format!("{:016x}", scenario_hash(&base_spec, table.as_deref())),
-        seed,
+        seed: run.seed,
         histories,
-        rare_event_factor: settings.rare_event_factor,
-        target_rel_error: settings.target_rel_error,
-        stockout_target: settings.stockout_target,
-        loss_probability_method: if settings.rare_event_factor > 1.0 {
+        rare_event_factor: run.rare_event,
+        target_rel_error: run.target_rel_error,
+        stockout_target: run.stockout_target,
+        loss_probability_method: if run.is_weighted() {
             format!(
                 "rare-event weighted estimate; {} when resolved, no interval otherwise",
                 crate::engine::WEIGHTED_INTERVAL_METHOD
@@ -930,29 +906,6 @@ fn point_label(axes: &[AxisResult], coordinates: &[usize]) -> String {
         .map(|(a, &c)| format!("{}={}", a.name, a.labels.get(c).map_or("?", String::as_str)))
         .collect::<Vec<_>>()
         .join(", ")
-}
-
-fn check_settings(s: &SweepSettings) -> Result<(), SweepError> {
-    if !(s.stockout_target > 0.0 && s.stockout_target < 1.0) {
-        return Err(SweepError::Settings(format!(
-            "--stockout-target = {} is out of range: allowed (0, 1) (probability)",
-            s.stockout_target
-        )));
-    }
-    if let Some(t) = s.target_rel_error {
-        if !(t > 0.0 && t < 1.0) {
-            return Err(SweepError::Settings(format!(
-                "--target-rel-error = {t} is out of range: allowed (0, 1) (relative standard error)"
-            )));
-        }
-    }
-    let f = s.rare_event_factor;
-    if !(f.is_finite() && (1.0..=1e6).contains(&f)) {
-        return Err(SweepError::Settings(format!(
-            "--rare-event = {f} is out of range: allowed [1, 1e6] (dimensionless boost factor)"
-        )));
-    }
-    Ok(())
 }
 
 /// A short name for a path: its last field, with the indexed parent when there is one. An
@@ -1067,8 +1020,7 @@ fn evaluate_point(
     axes: &[AxisResult],
     index: usize,
     coordinates: Vec<usize>,
-    histories: u64,
-    seed: u64,
+    run: &RunSettings,
     settings: &SweepSettings,
     stop: Option<&AtomicBool>,
     progress: &(dyn Fn(u64, u64) + Sync),
@@ -1188,15 +1140,14 @@ fn evaluate_point(
         Err(ScenarioError::Infeasible { reason }) => return Ok(Some(infeasible(&mut p, reason))),
         Err(e) => return Err(point_err(e)),
     };
-    let engine = match Engine::with_sampler(&model, 1.0, settings.sampler)
-        .and_then(|e| e.with_rare_event(settings.rare_event_factor))
-        .and_then(|e| {
-            // With a target error the history count is only a ceiling (as in `simulate`).
-            if !settings.force_work && settings.target_rel_error.is_none() {
-                e.check_work_budget(histories, 1.0)?;
-            }
-            Ok(e)
-        }) {
+    let histories = run.histories;
+    let engine = match Engine::for_settings(&model, run).and_then(|e| {
+        // With a target error the history count is only a ceiling (as in `simulate`).
+        if !settings.force_work && run.target_rel_error.is_none() {
+            e.check_work_budget(histories, run.floor_fraction)?;
+        }
+        Ok(e)
+    }) {
         Ok(e) => e,
         Err(EngineError::Model(m)) => {
             return Ok(Some(infeasible(
@@ -1211,14 +1162,7 @@ fn evaluate_point(
             })
         }
     };
-    let opts = RunOptions {
-        histories,
-        seed,
-        threads: settings.threads,
-        floor_fraction: 1.0,
-        shard: None,
-        target_rel_error: settings.target_rel_error,
-    };
+    let opts = run.options(settings.run.threads);
     let outcome = engine
         .run_resumable(&opts, None, &|done| progress(done, histories), stop)
         .map_err(|e| SweepError::Run {
@@ -1234,11 +1178,11 @@ fn evaluate_point(
         &engine,
         tally,
         histories,
-        seed,
+        run.seed,
         None,
-        settings.stockout_target,
+        run.stockout_target,
         outcome.status,
-        settings.target_rel_error,
+        run.target_rel_error,
     );
     p.histories_run = Some(s.tally.histories);
     p.relative_error = s.relative_error;

@@ -23,7 +23,7 @@ use serde_json::Value;
 
 use super::path;
 use super::SweepError;
-use crate::engine::{Engine, EngineError, LossProbability, RunOptions, RunSummary};
+use crate::engine::{Engine, EngineError, LossProbability, RunChoices, RunSettings, RunSummary};
 use crate::model::markov::mission_times_s;
 use crate::model::Model;
 use crate::scenario::{parse_spec, Scenario, ScenarioError};
@@ -126,16 +126,10 @@ pub const INPUTS: &[InputSpec] = &[
 /// How the runs are made.
 #[derive(Clone, Debug, PartialEq)]
 pub struct SensitivitySettings {
-    /// Histories per run (default: the base scenario's `run.histories`).
-    pub histories: Option<u64>,
-    /// Master seed shared by every run (default: the base scenario's `run.seed`).
-    pub seed: Option<u64>,
-    /// Worker threads per run; 0 means one per core. Never changes the results.
-    pub threads: usize,
-    /// Rare-event boost factor (1: plain Monte Carlo).
-    pub rare_event_factor: f64,
-    /// Stop each run once its relative standard error is at most this.
-    pub target_rel_error: Option<f64>,
+    /// The run settings of every run: histories (default: the base scenario's
+    /// `run.histories`), seed (default: the base's `run.seed`), threads, sampler, rare-event
+    /// factor, target error. No shards and no latent-damage bias.
+    pub run: RunChoices,
     /// Also compute the fast damage-memory estimate of every variant.
     pub fast_estimate: bool,
     /// Text of the flux table file when the base scenario names one.
@@ -145,11 +139,7 @@ pub struct SensitivitySettings {
 impl Default for SensitivitySettings {
     fn default() -> Self {
         SensitivitySettings {
-            histories: None,
-            seed: None,
-            threads: 0,
-            rare_event_factor: 1.0,
-            target_rel_error: None,
+            run: RunChoices::default(),
             fast_estimate: true,
             flux_table_json: None,
         }
@@ -240,6 +230,10 @@ pub struct SensitivityResult {
     pub histories: u64,
     /// Rare-event boost factor (1: plain).
     pub rare_event_factor: f64,
+    /// Damage sampler of every run (absent in studies written before it could be chosen:
+    /// on-demand).
+    #[serde(default)]
+    pub sampler: crate::engine::Sampler,
     /// What common random numbers mean here.
     pub common_random_numbers: String,
     /// The base run.
@@ -264,8 +258,7 @@ fn scale_value(v: &Value, f: f64) -> Option<Value> {
 /// Run one scenario document.
 fn evaluate(
     doc: &Value,
-    histories: u64,
-    seed: u64,
+    run: &RunSettings,
     s: &SensitivitySettings,
     label: &str,
 ) -> Result<VariantResult, SweepError> {
@@ -300,8 +293,7 @@ fn evaluate(
             })
         }
     };
-    let engine = match Engine::new(&model, 1.0).and_then(|e| e.with_rare_event(s.rare_event_factor))
-    {
+    let engine = match Engine::for_settings(&model, run) {
         Ok(e) => e,
         Err(EngineError::Model(m)) => {
             return Ok(infeasible(format!("the strikes cannot be sampled: {m}")))
@@ -313,19 +305,19 @@ fn evaluate(
             })
         }
     };
-    let opts = RunOptions {
-        histories,
-        seed,
-        threads: s.threads,
-        floor_fraction: 1.0,
-        shard: None,
-        target_rel_error: s.target_rel_error,
-    };
+    let opts = run.options(s.run.threads);
     let tally = engine.run(&opts, &|_| {}).map_err(|e| SweepError::Run {
         label: label.to_string(),
         message: e.to_string(),
     })?;
-    let summary = RunSummary::from_tally(&engine, tally, histories, seed, None, 0.05);
+    let summary = RunSummary::from_tally(
+        &engine,
+        tally,
+        run.histories,
+        run.seed,
+        None,
+        run.stockout_target,
+    );
     // The damage-memory estimate approximates local sharing by equal sharing: not a valid
     // answer for the local-sharing variant.
     let local = model.scenario.tether.load_sharing == crate::scenario::LoadSharingSpec::Local;
@@ -392,24 +384,13 @@ pub fn run_sensitivity(
     s: &SensitivitySettings,
     progress: &dyn Fn(&str),
 ) -> Result<SensitivityResult, SweepError> {
-    let f = s.rare_event_factor;
-    if !(f.is_finite() && (1.0..=1e6).contains(&f)) {
-        return Err(SweepError::Settings(format!(
-            "--rare-event = {f} is out of range: allowed [1, 1e6] (dimensionless boost factor)"
-        )));
-    }
+    s.run.check_study("a sensitivity study")?;
     let base_spec =
         parse_spec(&base_json.to_string()).map_err(|e| SweepError::Base(Box::new(e)))?;
-    let histories = s.histories.unwrap_or(base_spec.run.histories);
-    let seed = s.seed.unwrap_or(base_spec.run.seed);
-    if histories == 0 {
-        return Err(SweepError::Settings(
-            "--histories = 0 is out of range: allowed [1, 1e12] histories".into(),
-        ));
-    }
+    let run = s.run.resolve(base_spec.run.histories, base_spec.run.seed)?;
     let canonical = serde_json::to_value(&base_spec)
         .map_err(|e| SweepError::Spec(format!("the base scenario cannot be re-serialised: {e}")))?;
-    let base = evaluate(&canonical, histories, seed, s, "base")?;
+    let base = evaluate(&canonical, &run, s, "base")?;
     progress("base scenario");
     let mut rows = Vec::new();
     let mut skipped = Vec::new();
@@ -458,7 +439,7 @@ pub fn run_sensitivity(
                 path::set(&mut doc, p, v);
             }
             let label = format!("{} = {}", input.name, first);
-            ends.push(evaluate(&doc, histories, seed, s, &label)?);
+            ends.push(evaluate(&doc, &run, s, &label)?);
             progress(&label);
             shown.push(first);
         }
@@ -499,9 +480,10 @@ pub fn run_sensitivity(
         tool: "tether-risk".into(),
         version: crate::VERSION.into(),
         scenario: base_spec.name.clone(),
-        seed,
-        histories,
-        rare_event_factor: f,
+        seed: run.seed,
+        histories: run.histories,
+        rare_event_factor: run.rare_event,
+        sampler: run.sampler,
         common_random_numbers: super::CRN_NOTE.into(),
         base,
         rows,

@@ -24,8 +24,8 @@ use tether_risk::stats::{chi_square_p_value, ks_p_value, ks_statistic};
 
 use crate::util::*;
 
-/// Significance level of every goodness-of-fit test here.
-const ALPHA: f64 = 0.001;
+/// Significance level of every goodness-of-fit test here (see [`STAT_ALPHA`]).
+const ALPHA: f64 = STAT_ALPHA;
 
 // ---------------------------------------------------------------------------------------------
 // Helpers

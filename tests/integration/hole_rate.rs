@@ -95,7 +95,10 @@ fn hole_rate_matches_the_strike_sampler() {
             })
             .fold(0.0, f64::max);
         let p = ks_p_value(ks, above.len() as u64);
-        assert!(p > 0.001, "bay {j}: removed-width KS D = {ks:e}, p = {p:e}");
+        assert!(
+            p > STAT_ALPHA,
+            "bay {j}: removed-width KS D = {ks:e}, p = {p:e}"
+        );
         assert!(above.len() > 10_000, "bay {j}: only {} above", above.len());
     }
 }

@@ -25,7 +25,8 @@ use tether_risk::stats::{ks_p_value, ks_statistic};
 
 use crate::util::*;
 
-const ALPHA: f64 = 0.001;
+/// Significance level of every goodness-of-fit test here (see [`STAT_ALPHA`]).
+const ALPHA: f64 = STAT_ALPHA;
 
 /// Pearson's chi-square test of homogeneity of two count vectors; cells whose pooled count is
 /// below 5 are merged with the next. Returns (statistic, degrees of freedom, p-value).

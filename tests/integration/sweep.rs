@@ -11,7 +11,10 @@ fn demo_value() -> Value {
 
 fn settings(histories: u64) -> SweepSettings {
     SweepSettings {
-        histories: Some(histories),
+        run: tether_risk::engine::RunChoices {
+            histories: Some(histories),
+            ..Default::default()
+        },
         ..SweepSettings::default()
     }
 }

@@ -23,7 +23,7 @@ mod tornado;
 pub use bar::{bar_chart, Bar};
 pub use distribution::{distribution_chart, histogram_chart, HistogramBin, Marker, PmfPoint};
 pub use heatmap::{heatmap, HeatmapGrid};
-pub use pareto::{pareto_chart, pareto_front, ParetoPoint};
+pub use pareto::{pareto_chart, ParetoPoint};
 pub use survival::{survival_chart, Band, ProbabilityAxis, Series};
 pub use tornado::{tornado_chart, SwingRow};
 

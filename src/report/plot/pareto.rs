@@ -7,6 +7,7 @@ use super::layout::{
     TICK_SIZE,
 };
 use super::{check_finite, check_range, draw_err, render, Chart, ChartSpec, Figure, PlotError};
+use crate::stats::pareto_front;
 use plotters::coord::Shift;
 use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, Pos, VPos};
@@ -20,31 +21,6 @@ pub struct ParetoPoint {
     pub mass_kg: f64,
     /// Probability of loss over the mission, in [0, 1].
     pub loss_probability: f64,
-}
-
-/// Indices of the non-dominated points when both coordinates are to be minimised, ordered by
-/// the first coordinate (ties by the second, then by index).
-///
-/// A point is dominated when another is no worse in both coordinates and better in at least
-/// one; equal points therefore do not dominate each other and are all kept. Points with a NaN
-/// coordinate are never on the front and never dominate.
-pub fn pareto_front(points: &[(f64, f64)]) -> Vec<usize> {
-    let valid = |p: &(f64, f64)| !p.0.is_nan() && !p.1.is_nan();
-    let dominates =
-        |a: &(f64, f64), b: &(f64, f64)| a.0 <= b.0 && a.1 <= b.1 && (a.0 < b.0 || a.1 < b.1);
-    let mut front: Vec<usize> = (0..points.len())
-        .filter(|&i| {
-            valid(&points[i]) && !points.iter().any(|q| valid(q) && dominates(q, &points[i]))
-        })
-        .collect();
-    front.sort_by(|&a, &b| {
-        points[a]
-            .0
-            .total_cmp(&points[b].0)
-            .then(points[a].1.total_cmp(&points[b].1))
-            .then(a.cmp(&b))
-    });
-    front
 }
 
 /// Scatter of loss probability (log axis) against mass (linear axis), each point labelled;
@@ -266,35 +242,5 @@ impl Chart for ParetoChart<'_> {
         }
         notes.extend(empty);
         Ok(notes)
-    }
-}
-
-#[cfg(test)]
-mod tests {
-    use super::pareto_front;
-
-    // Source: hand-made case. (1,5) (2,3) (3,4) (4,1) (2,3) (5,5) (NaN,0):
-    // (3,4) is dominated by (2,3); (5,5) by everything left of it; the two (2,3) tie and are
-    // both kept; the NaN point is ignored.
-    #[test]
-    fn front_of_hand_made_case() {
-        let pts = [
-            (1.0, 5.0),
-            (2.0, 3.0),
-            (3.0, 4.0),
-            (4.0, 1.0),
-            (2.0, 3.0),
-            (5.0, 5.0),
-            (f64::NAN, 0.0),
-        ];
-        assert_eq!(pareto_front(&pts), vec![0, 1, 4, 3]);
-    }
-
-    // Source: definition of dominance; equal x with lower y dominates.
-    #[test]
-    fn same_mass_lower_loss_dominates() {
-        assert_eq!(pareto_front(&[(1.0, 2.0), (1.0, 1.0)]), vec![1]);
-        assert_eq!(pareto_front(&[]), Vec::<usize>::new());
-        assert_eq!(pareto_front(&[(3.0, 3.0)]), vec![0]);
     }
 }
