@@ -23,31 +23,34 @@ pub fn policy_table(e: &PolicyEffect) -> Table {
         "spares_per_history",
     ]);
     let n = e.histories;
-    let cp = |k: u64| clopper_pearson(k, n, e.confidence).unwrap_or((0.0, 1.0));
-    let (lw, hw) = cp(e.losses_with_policy);
-    t.push([
-        "with the policy".to_string(),
-        e.losses_with_policy.to_string(),
-        n.to_string(),
-        sig(e.loss_probability_with_policy, 3),
-        sig(lw, 3),
-        sig(hw, 3),
-        "Clopper-Pearson".into(),
-        sig(e.replaced_per_history, 4),
-        sig(e.spares_per_history_with_policy, 4),
-    ]);
-    let (lo, ho) = cp(e.losses_without_policy);
-    t.push([
-        "without the policy".to_string(),
-        e.losses_without_policy.to_string(),
-        n.to_string(),
-        sig(e.loss_probability_without_policy, 3),
-        sig(lo, 3),
-        sig(ho, 3),
-        "Clopper-Pearson".into(),
-        "0".into(),
-        sig(e.spares_per_history_without_policy, 4),
-    ]);
+    let mut variant = |name: &str, k: u64, p: f64, replaced: f64, spares: f64| {
+        let (lo, hi) = clopper_pearson(k, n, e.confidence).unwrap_or((0.0, 1.0));
+        t.push([
+            name.to_string(),
+            k.to_string(),
+            n.to_string(),
+            sig(p, 3),
+            sig(lo, 3),
+            sig(hi, 3),
+            "Clopper-Pearson".into(),
+            sig(replaced, 4),
+            sig(spares, 4),
+        ]);
+    };
+    variant(
+        "with the policy",
+        e.losses_with_policy,
+        e.loss_probability_with_policy,
+        e.replaced_per_history,
+        e.spares_per_history_with_policy,
+    );
+    variant(
+        "without the policy",
+        e.losses_without_policy,
+        e.loss_probability_without_policy,
+        0.0,
+        e.spares_per_history_without_policy,
+    );
     t.push([
         "difference (with - without)".to_string(),
         String::new(),

@@ -621,14 +621,14 @@ impl SweepResult {
                             rec.meets_splice_target_climbers = climbers(i);
                             format!(
                                 "smallest fleet swept whose 90th percentile of the time from cut to splice ({} h over {} splices, a sample quantile) is at most the target of {} h (repair.splice_p90_target_hours)",
-                                crate::report::table::sig(self.points[i].time_to_splice_p90_hours.unwrap_or(f64::NAN), 3),
+                                crate::stats::sig(self.points[i].time_to_splice_p90_hours.unwrap_or(f64::NAN), 3),
                                 self.points[i].splices.unwrap_or(0),
-                                crate::report::table::sig(target, 3)
+                                crate::stats::sig(target, 3)
                             )
                         }
                         None => format!(
                             "no fleet swept meets the target of {} h on the 90th percentile of the time from cut to splice (repair.splice_p90_target_hours): sweep larger fleets, or faster climbers",
-                            crate::report::table::sig(target, 3)
+                            crate::stats::sig(target, 3)
                         ),
                     };
                 }
