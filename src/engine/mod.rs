@@ -24,8 +24,9 @@ pub use rng::{splitmix64, stream, Purpose};
 pub use sampler::{open01, unit, Strike, StrikeSampler};
 pub use summary::{
     BandRow, CauseCounts, CountQuantiles, DurationStats, EstimateMethod, Interval, LittleLaw,
-    LossProbability, RepairSummary, RunSummary, SpareSummary, StationDemand, StationProbability,
-    StationStock, SurvivalPoint, YearCuts, PLAIN_INTERVAL_METHOD, WEIGHTED_INTERVAL_METHOD,
+    LossProbability, MonthRow, RepairSummary, RunSummary, SpareSummary, StationDemand,
+    StationProbability, StationStock, SurvivalPoint, YearCuts, PLAIN_INTERVAL_METHOD,
+    WEIGHTED_INTERVAL_METHOD,
 };
 pub use tally::{Loss, LossCause, Tally, WeightedBatch, ANOMALY_EXAMPLES, LOSS_CAUSES};
 
@@ -269,6 +270,11 @@ pub struct Engine<'m> {
     strict: bool,
     /// Climber loads on bays (absent without repair or with them switched off).
     climber_load: Option<crate::model::climber::ClimberLoadTable>,
+    /// Every-strike: one strike sampler per meteor stream (empty without streams or under
+    /// on-demand).
+    stream_samplers: Vec<sampler::StreamSampler>,
+    /// Day of the year of mission start (streams' peaks, month tallies), d.
+    start_day: f64,
 }
 
 impl<'m> Engine<'m> {
@@ -333,6 +339,14 @@ impl<'m> Engine<'m> {
                 plan
             })
         };
+        let stream_samplers =
+            if sampler_kind == Sampler::EveryStrike && model.scenario.validation_mode.is_none() {
+                (0..model.scenario.environment.meteor_streams.len())
+                    .map(|k| sampler::StreamSampler::new(model, k, &sampler))
+                    .collect::<Result<Vec<_>, _>>()?
+            } else {
+                Vec::new()
+            };
         let policy: Box<dyn DispatchPolicy> = match repair.as_ref().map(|r| r.dispatch) {
             Some(DispatchSpec::FirstCome) => Box::new(FirstCome),
             _ => Box::new(MostEndangered),
@@ -357,6 +371,8 @@ impl<'m> Engine<'m> {
             latent_bias: 0.0,
             strict: false,
             climber_load,
+            stream_samplers,
+            start_day: model.scenario.environment.mission_start_day_of_year,
         })
     }
 

@@ -103,12 +103,28 @@ pub struct OnDemandTables {
     total_rate_s: f64,
     /// Expected sub-critical holes (at least the floor) per second, whole intact tether.
     subcritical_rate_s: f64,
+    /// Meteor streams (empty: none): each stream's tables at its peak.
+    pub(crate) streams: Vec<StreamTables>,
+    /// The stream tables alone (for the combined-rate functions).
+    pub(crate) stream_holes: Vec<HoleRateTable>,
+}
+
+/// On-demand tables of one meteor stream at its peak.
+#[derive(Debug)]
+pub struct StreamTables {
+    /// Cut rate at the peak of one intact segment of an intact bay, per bay, 1/s.
+    pub(crate) intact_cut_rate_s: Vec<f64>,
+    /// Bay choice of the stream's untouched-bay cut process.
+    pub(crate) bay_alias: AliasTable,
+    /// Total peak rate of that process (all bays intact), 1/s.
+    pub(crate) total_rate_s: f64,
 }
 
 impl OnDemandTables {
     /// Build for a model (`floor_fraction` as for the strike sampler).
     pub fn new(model: &Model, floor_fraction: f64) -> Result<Self, EngineError> {
-        let holes = HoleRateTable::build(model, floor_fraction).map_err(EngineError::Model)?;
+        let holes =
+            HoleRateTable::build_background(model, floor_fraction).map_err(EngineError::Model)?;
         let p = &model.profile;
         let n = p.design.ribbon_count;
         let mut intact_critical_m = Vec::with_capacity(p.bays.len());
@@ -132,7 +148,30 @@ impl OnDemandTables {
             AliasTable::new(&vec![1.0; weights.len()])
         }
         .map_err(|e| EngineError::Model(e.to_string()))?;
+        let stream_holes = crate::model::streams::stream_tables(model, floor_fraction)
+            .map_err(EngineError::Model)?;
+        let mut streams = Vec::with_capacity(stream_holes.len());
+        for t in &stream_holes {
+            let rates: Vec<f64> = (0..p.bays.len())
+                .map(|j| t.bay(j).rate_at_least_per_s(intact_critical_m[j]))
+                .collect();
+            let w: Vec<f64> = rates.iter().map(|r| r * n as f64).collect();
+            let total: f64 = w.iter().sum();
+            let bay_alias = if total > 0.0 {
+                AliasTable::new(&w)
+            } else {
+                AliasTable::new(&vec![1.0; w.len()])
+            }
+            .map_err(|e| EngineError::Model(e.to_string()))?;
+            streams.push(StreamTables {
+                intact_cut_rate_s: rates,
+                bay_alias,
+                total_rate_s: total,
+            });
+        }
         Ok(OnDemandTables {
+            streams,
+            stream_holes,
             holes,
             intact_critical_m,
             intact_cut_rate_s,
@@ -160,6 +199,26 @@ impl OnDemandTables {
     /// Expected sub-critical holes at least the floor per second on the intact tether.
     pub fn subcritical_rate_per_s(&self) -> f64 {
         self.subcritical_rate_s
+    }
+
+    /// Number of meteor streams.
+    pub fn stream_count(&self) -> usize {
+        self.streams.len()
+    }
+
+    /// Peak cut rate of one intact segment of intact bay `j` from stream `k`, 1/s.
+    pub fn stream_segment_cut_rate_per_s(&self, k: usize, j: usize) -> f64 {
+        self.streams[k].intact_cut_rate_s[j]
+    }
+
+    /// Peak cut rate from stream `k` of the intact tether, 1/s.
+    pub fn stream_intact_cut_rate_per_s(&self, k: usize) -> f64 {
+        self.streams[k].total_rate_s
+    }
+
+    /// The hole-rate table of stream `k` at its peak.
+    pub fn stream_holes(&self, k: usize) -> &HoleRateTable {
+        &self.stream_holes[k]
     }
 
     /// The hole-rate table.
