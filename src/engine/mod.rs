@@ -436,6 +436,25 @@ impl<'m> Engine<'m> {
         self.sampler_kind
     }
 
+    /// Peak rate of meteor stream `k`'s own process, 1/s: every-strike, its strikes above the
+    /// sampling floors on the whole tether; on-demand, its cuts of intact segments of the
+    /// intact tether. 0 for a stream index out of range.
+    pub fn stream_peak_rate_per_s(&self, k: usize) -> f64 {
+        match (&self.on_demand, self.sampler_kind) {
+            (Some(od), Sampler::OnDemand) => {
+                if k < od.stream_count() {
+                    od.stream_intact_cut_rate_per_s(k)
+                } else {
+                    0.0
+                }
+            }
+            _ => self
+                .stream_samplers
+                .get(k)
+                .map_or(0.0, |s| s.peak_rate_per_s()),
+        }
+    }
+
     /// The on-demand tables (absent under every-strike and in validation mode).
     pub fn on_demand(&self) -> Option<&OnDemandTables> {
         self.on_demand.as_ref()

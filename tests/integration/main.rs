@@ -20,4 +20,5 @@ mod repair;
 mod report;
 mod robust;
 mod sensitivity;
+mod streams;
 mod sweep;
