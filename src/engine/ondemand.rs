@@ -63,10 +63,22 @@
 //! numerical quadrature of H itself (see [`crate::model::hole_rate`]), which the tests bound.
 //! The cost is O(cuts + state changes x N) per history, independent of the number of strikes.
 //!
-//! # Time-varying flux
-//! With a flux that varies in time (meteor streams) H_j(x) becomes H_j(x, t); the rates above
-//! become integrals over the interval: P(M < x) = exp(-∫ (H(x, s) - H(c, s)) ds), and cut
-//! times come from the integrated rate. The structure of the algorithm does not change.
+//! # Time-varying flux (meteor streams)
+//! With streams H_j(x, t) = H_bg(x) + Σ_k g_k(t) H_k(x), g_k the stream's activity (1 at its
+//! peak) and H_k its hole-rate table at the peak. Then, exactly:
+//! - worst holes: P(M < x) = exp(-∫ (H(x, s) - H(c, s)) ds) over the interval, i.e. the
+//!   formulas above with the interval's mean rate K(x) = H_bg(x) + Σ_k H_k(x) G_k / dt, G_k
+//!   the closed-form integral of g_k (inverted on the shared x grid);
+//! - untouched bays: each stream has its own cut process of rate g_k(t) Σ_j N H_k(c0_j), drawn
+//!   by inversion of its integrated rate on the streams random stream (bay by alias table; a
+//!   candidate on a bay holding state is discarded, as for the background);
+//! - bays holding state: each segment's process runs at the dominating rate
+//!   H_bg(c) + Σ_k H_k(c) (the streams at their peaks), and a candidate is attributed to a
+//!   source in proportion and, for stream k, kept with probability g_k(t) (thinning, Lewis &
+//!   Shedler 1979; a rejected candidate changes nothing). Under `--rare-event` the boost
+//!   applies to the candidates and the compensator uses the dominating rate: the likelihood
+//!   ratio of the candidate process, still unbiased.
+//! Without streams none of this draws anything: the default draws are unchanged.
 //!
 //! # Rare-event estimator
 //! Under `--rare-event θ` the cut process of intact segments in bays that already have a cut

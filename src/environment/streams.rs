@@ -287,7 +287,8 @@ mod tests {
                     .map(|w| simpson(&s, start, w[0], w[1]))
                     .sum::<f64>()
             } else {
-                1.0
+                // One second after the peak: τf (1 − e^{−1/τf}).
+                s.fall_e_folding_s * -(-1.0 / s.fall_e_folding_s).exp_m1()
             };
             let got = s.exposure_s(start, t0, t1);
             assert!((got / num - 1.0).abs() < 1e-9, "[{t0}, {t1}]: {got} {num}");
