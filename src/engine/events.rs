@@ -301,7 +301,7 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
     /// the inhomogeneous Poisson process).
     fn next_stream_time(&mut self, k: usize, t0: f64) -> f64 {
         let r = self.stream_peak_rate(k);
-        if !(r > 0.0) {
+        if r.is_nan() || r <= 0.0 {
             return f64::INFINITY;
         }
         let exposure = -open01(&mut self.streams_rng).ln() / r;
@@ -1153,9 +1153,9 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
         let mut none_big = 1.0;
         // K(c_i) of each intact segment (without streams: its cut rate, as stored).
         let mut rate_c = [0.0f64; MAX_RIBBONS];
-        for i in 0..n {
+        for (i, rc) in rate_c.iter_mut().enumerate().take(n) {
             if s.intact[base + i] {
-                rate_c[i] = if streams {
+                *rc = if streams {
                     rate_at(s.critical_m[base + i])
                 } else {
                     s.cut_rate_s[base + i]

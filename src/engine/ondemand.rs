@@ -78,6 +78,7 @@
 //!   Shedler 1979; a rejected candidate changes nothing). Under `--rare-event` the boost
 //!   applies to the candidates and the compensator uses the dominating rate: the likelihood
 //!   ratio of the candidate process, still unbiased.
+//!
 //! Without streams none of this draws anything: the default draws are unchanged.
 //!
 //! # Rare-event estimator

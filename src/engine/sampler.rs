@@ -582,7 +582,7 @@ impl StreamSampler {
         let consts = crate::model::streams::stream_bay_constants(model, stream)
             .map_err(EngineError::Model)?;
         let q = 3.0 * (1.0 - stream.mass_index);
-        if !(q < -1.0) {
+        if q.is_nan() || q >= -1.0 {
             return Err(EngineError::Model(format!(
                 "meteor stream `{}`: mass index {} <= 4/3 gives an unbounded size distribution",
                 stream.name, stream.mass_index

@@ -121,7 +121,7 @@ impl MeteorStream {
     /// Flux of particles of mass >= `mass_kg` at the peak through a surface normal to the
     /// radiant, per m² per s.
     pub fn peak_flux_above_per_m2_per_s(&self, mass_kg: f64) -> f64 {
-        if !(mass_kg > 0.0) {
+        if mass_kg.is_nan() || mass_kg <= 0.0 {
             return 0.0;
         }
         self.peak_flux_above_reference_per_m2_per_s
@@ -176,7 +176,7 @@ impl MeteorStream {
 
     /// G(t0, t1) = ∫_{t0}^{t1} g(t) dt, s (exact; 0 when t1 <= t0).
     pub fn exposure_s(&self, start_day: f64, t0_s: f64, t1_s: f64) -> f64 {
-        if !(t1_s > t0_s) {
+        if t1_s.is_nan() || t0_s.is_nan() || t1_s <= t0_s {
             return 0.0;
         }
         let (k0, d0) = self.phase(start_day, t0_s);

@@ -486,7 +486,7 @@ pub fn width_with_combined_rate_m(
         r
     };
     let last = X_POINTS - 1;
-    if !(rate_per_s > at(last)) {
+    if rate_per_s.is_nan() || rate_per_s <= at(last) {
         return bg.width_m;
     }
     if rate_per_s >= at(0) {
