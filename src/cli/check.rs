@@ -193,9 +193,76 @@ fn climber_power(model: &Model) -> Option<(String, serde_json::Value)> {
     Some((line, json))
 }
 
+/// One `check` line per meteor stream: its peak, and the holes able to sever in some load
+/// state (at least the smallest severing hole) it adds over the mission against the
+/// background's.
+#[derive(serde::Serialize)]
+struct StreamCheck {
+    name: String,
+    peak_day_of_year: f64,
+    rise_e_folding_days: f64,
+    fall_e_folding_days: f64,
+    peak_severing_strikes_per_year: f64,
+    mission_severing_strikes: f64,
+    background_mission_severing_strikes: f64,
+}
+
+fn stream_checks(model: &Model) -> anyhow::Result<Vec<StreamCheck>> {
+    let env = &model.scenario.environment;
+    if env.meteor_streams.is_empty() {
+        return Ok(Vec::new());
+    }
+    let bg = tether_risk::model::hole_rate::HoleRateTable::build_background(model, 1.0)
+        .map_err(anyhow::Error::msg)?;
+    let n = model.profile.design.ribbon_count as f64;
+    let bg_mission: f64 = (0..bg.len())
+        .map(|j| bg.bay(j).floor_rate_per_s() * n)
+        .sum::<f64>()
+        * model.scenario.run.mission_s;
+    env.meteor_streams
+        .iter()
+        .enumerate()
+        .map(|(k, st)| {
+            let (peak, mission) = tether_risk::model::streams::stream_damaging_strikes(model, k)
+                .map_err(anyhow::Error::msg)?;
+            Ok(StreamCheck {
+                name: st.name.clone(),
+                peak_day_of_year: st.peak_day_of_year,
+                rise_e_folding_days: st.rise_e_folding_s / 86_400.0,
+                fall_e_folding_days: st.fall_e_folding_s / 86_400.0,
+                peak_severing_strikes_per_year: peak,
+                mission_severing_strikes: mission,
+                background_mission_severing_strikes: bg_mission,
+            })
+        })
+        .collect()
+}
+
+fn stream_text(c: &StreamCheck) -> String {
+    let share = if c.background_mission_severing_strikes > 0.0 {
+        format!(
+            "{:+.3} % of the background's",
+            100.0 * c.mission_severing_strikes / c.background_mission_severing_strikes
+        )
+    } else {
+        "no background".into()
+    };
+    format!(
+        "Meteor stream \"{}\": peak on day {:.1} (e-folding {:.3} d before, {:.3} d after); strikes able to sever in some load state: {:.4} per year at the peak, {:.4} over the mission ({share}; background {:.4})\n",
+        c.name,
+        c.peak_day_of_year,
+        c.rise_e_folding_days,
+        c.fall_e_folding_days,
+        c.peak_severing_strikes_per_year,
+        c.mission_severing_strikes,
+        c.background_mission_severing_strikes,
+    )
+}
+
 pub fn run(a: Args) -> anyhow::Result<()> {
     let model = load_model(&a.file)?;
     let power = climber_power(&model);
+    let streams = stream_checks(&model)?;
     let s = DesignSummary::from_model(&model);
     let work = if model.scenario.validation_mode.is_none() {
         work_report(&model)
@@ -216,12 +283,41 @@ pub fn run(a: Args) -> anyhow::Result<()> {
                 if let Some(w) = &work {
                     obj.insert("work_estimate".into(), serde_json::to_value(w)?);
                 }
+                if !streams.is_empty() {
+                    obj.insert("meteor_streams".into(), serde_json::to_value(&streams)?);
+                }
             }
             print(&(serde_json::to_string_pretty(&v)? + "\n"))
         }
         // CSV: the design quantities (quantity, value, unit) and one row per warning.
         Format::Csv => {
             let mut t = s.quantity_table();
+            for c in &streams {
+                for (what, v, unit) in [
+                    ("peak day", c.peak_day_of_year, "d of the year"),
+                    (
+                        "severing strikes at the peak",
+                        c.peak_severing_strikes_per_year,
+                        "1/yr",
+                    ),
+                    (
+                        "severing strikes over the mission",
+                        c.mission_severing_strikes,
+                        "-",
+                    ),
+                    (
+                        "background severing strikes over the mission",
+                        c.background_mission_severing_strikes,
+                        "-",
+                    ),
+                ] {
+                    t.push([
+                        format!("meteor stream {}: {what}", c.name),
+                        format!("{v:.6e}"),
+                        unit.to_string(),
+                    ]);
+                }
+            }
             for w in &warnings {
                 t.push([
                     format!("warning {}", w.code),
@@ -238,6 +334,9 @@ pub fn run(a: Args) -> anyhow::Result<()> {
             }
             if let Some(w) = &work {
                 text.push_str(&work_text(w));
+            }
+            for c in &streams {
+                text.push_str(&stream_text(c));
             }
             if !warnings.is_empty() {
                 text.push_str("\nWarnings\n");

@@ -50,6 +50,7 @@ use super::rng::{stream, Purpose};
 use super::sampler::{open01, unit};
 use super::tally::{LossCause, Tally};
 use super::{Engine, Sampler};
+use crate::model::hole_rate::{combined_rate_at_least_per_s, width_with_combined_rate_m};
 
 /// Events between two polls of the stop flag inside one history.
 const EVENTS_PER_STOP_POLL: u64 = 1024;
@@ -65,6 +66,9 @@ enum Event {
     FirstCut(f64),
     /// On-demand: a cut on a bay that holds state.
     Cut(f64),
+    /// Meteor stream `k`: every-strike, its next strike; on-demand, its next cut candidate on
+    /// a bay untouched so far.
+    Stream { k: usize, t: f64 },
     /// Nothing before mission end.
     MissionEnd,
 }
@@ -209,7 +213,15 @@ pub(crate) struct HistoryRun<'a, 'm> {
     stop: Option<&'a AtomicBool>,
     /// Segments replaced in the inspection being handled (bit i: ribbon i).
     replaced_mask: u64,
+    /// Meteor streams: their own random stream (see [`Purpose::Streams`]).
+    streams_rng: Pcg64Mcg,
+    /// Next event of each meteor stream's process, s (first `stream_count` entries).
+    next_stream_s: [f64; MAX_STREAMS],
+    stream_count: usize,
 }
+
+/// Most meteor streams a history handles (the scenario's limit).
+const MAX_STREAMS: usize = crate::scenario::MAX_METEOR_STREAMS;
 
 impl<'a, 'm> HistoryRun<'a, 'm> {
     pub(crate) fn new(
@@ -233,7 +245,14 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
             }
             _ => e.sampler.next_gap_s(&mut strikes),
         };
-        HistoryRun {
+        let stream_count = e
+            .model
+            .scenario
+            .environment
+            .meteor_streams
+            .len()
+            .min(MAX_STREAMS);
+        let mut run = HistoryRun {
             e,
             scratch,
             tally,
@@ -254,7 +273,49 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
             events: 0,
             stop,
             replaced_mask: 0,
+            streams_rng: stream(seed, Purpose::Streams, index),
+            next_stream_s: [f64::INFINITY; MAX_STREAMS],
+            stream_count,
+        };
+        for k in 0..run.stream_count {
+            run.next_stream_s[k] = run.next_stream_time(k, 0.0);
         }
+        run
+    }
+
+    /// Peak rate of stream `k`'s process: every-strike, its strikes above the floors;
+    /// on-demand, its cut candidates on untouched bays. 1/s.
+    fn stream_peak_rate(&self, k: usize) -> f64 {
+        match (self.e.sampler_kind, self.e.on_demand.as_ref()) {
+            (Sampler::OnDemand, Some(od)) => od.streams.get(k).map_or(0.0, |s| s.total_rate_s),
+            _ => self
+                .e
+                .stream_samplers
+                .get(k)
+                .map_or(0.0, |s| s.peak_rate_per_s()),
+        }
+    }
+
+    /// The next event of stream `k`'s process after `t0`: an exponential exposure at the peak
+    /// rate turned into time by the inverse of the integrated profile (exact inversion of
+    /// the inhomogeneous Poisson process).
+    fn next_stream_time(&mut self, k: usize, t0: f64) -> f64 {
+        let r = self.stream_peak_rate(k);
+        if r.is_nan() || r <= 0.0 {
+            return f64::INFINITY;
+        }
+        let exposure = -open01(&mut self.streams_rng).ln() / r;
+        self.e.model.scenario.environment.meteor_streams[k].time_after_exposure_s(
+            self.e.start_day,
+            t0,
+            exposure,
+        )
+    }
+
+    /// Activity g_k(t) of stream `k`.
+    #[inline]
+    fn stream_activity(&self, k: usize, t: f64) -> f64 {
+        self.e.model.scenario.environment.meteor_streams[k].profile(self.e.start_day, t)
     }
 
     /// Run to the end; the outcome (its scores are in the tally).
@@ -269,6 +330,7 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
                 Event::Strike { t, extra } => self.on_strike(t, extra),
                 Event::FirstCut(t) => self.on_first_cut(t),
                 Event::Cut(t) => self.on_cut(t),
+                Event::Stream { k, t } => self.on_stream(k, t),
                 Event::MissionEnd => break,
             };
             if flow == Flow::End {
@@ -303,14 +365,27 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
             Sampler::OnDemand => (self.next_cut_s, Event::Cut(self.next_cut_s)),
         };
         let t_primary = self.next_primary_s;
-        if t_repair.min(t_boost).min(t_primary) > self.e.mission_s {
+        let (mut t_stream, mut k_stream) = (f64::INFINITY, 0);
+        for k in 0..self.stream_count {
+            if self.next_stream_s[k] < t_stream {
+                t_stream = self.next_stream_s[k];
+                k_stream = k;
+            }
+        }
+        if t_repair.min(t_boost).min(t_primary).min(t_stream) > self.e.mission_s {
             return Event::MissionEnd;
         }
-        if t_repair <= t_primary && t_repair <= t_boost {
+        if t_repair <= t_primary && t_repair <= t_boost && t_repair <= t_stream {
             return Event::Repair(t_repair);
         }
-        if t_boost < t_primary {
+        if t_boost < t_primary && t_boost <= t_stream {
             return boost;
+        }
+        if t_stream < t_primary {
+            return Event::Stream {
+                k: k_stream,
+                t: t_stream,
+            };
         }
         match self.e.sampler_kind {
             Sampler::EveryStrike => Event::Strike {
@@ -742,6 +817,65 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
     // Damage: on-demand
     // ---------------------------------------------------------------------------------------
 
+    /// An event of meteor stream `k`. Every-strike: one stream particle (details, then the
+    /// stream's next strike time; never boosted by the rare-event estimator, which biases the
+    /// background strikes only). On-demand: a cut candidate of the stream's untouched-bay
+    /// process (bay, ribbon, next time), discarded on a bay that holds state (that bay's own
+    /// process includes the stream).
+    fn on_stream(&mut self, k: usize, t: f64) -> Flow {
+        if self.e.sampler_kind == Sampler::EveryStrike {
+            let Some(sampler) = self.e.stream_samplers.get(k) else {
+                return Flow::End;
+            };
+            let strike = sampler.sample(&mut self.streams_rng);
+            self.next_stream_s[k] = self.next_stream_time(k, t);
+            self.out.strikes += 1;
+            if self.advance_clock(t, "time went backwards at a stream strike") == Flow::End {
+                return Flow::End;
+            }
+            if !(strike.diameter_m.is_finite() && strike.diameter_m > 0.0) {
+                self.out.anomaly = Some("non-finite strike");
+                return Flow::End;
+            }
+            let damaged_before = self.scratch.damaged.len();
+            let (newly, loss) = self.e.apply_strike(
+                t,
+                &strike,
+                self.scratch,
+                self.tally,
+                &mut self.out,
+                self.log.as_deref_mut(),
+            );
+            if self.rare.active() && self.scratch.damaged.len() != damaged_before {
+                let r = self.scratch.damaged_rate();
+                self.rare.strikes_changed(t, r);
+            }
+            if self.e.strict {
+                if let Some(a) = self.e.check_invariants(self.scratch, Some(strike.bay)) {
+                    self.out.anomaly = Some(a);
+                    return Flow::End;
+                }
+            }
+            return self.after_cuts(t, strike.bay, newly, loss);
+        }
+        let Some(od) = self.e.on_demand.as_ref() else {
+            return Flow::End;
+        };
+        let n = self.e.ribbons;
+        let bay = od.streams[k].bay_alias.sample(&mut self.streams_rng) as u32;
+        let ribbon = ((unit(&mut self.streams_rng) * n as f64) as usize).min(n - 1);
+        self.next_stream_s[k] = self.next_stream_time(k, t);
+        if self.scratch.slot_of(bay).is_some() {
+            return Flow::Go; // thinned away
+        }
+        if self.advance_clock(t, "time went backwards at a stream cut") == Flow::End {
+            return Flow::End;
+        }
+        let slot = self.scratch.slot(bay, n);
+        self.loads_changed(slot, 0.0); // intact loads since mission start
+        self.cut_segment(t, slot, ribbon, Some(k))
+    }
+
     /// On-demand: a candidate of the untouched-bay cut process. Draws (bay, ribbon, next gap)
     /// whatever the state, so this stream does not depend on what happened elsewhere; a
     /// candidate on a bay that already holds state is discarded (that bay has its own process).
@@ -761,7 +895,7 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
         }
         let slot = self.scratch.slot(bay, n);
         self.loads_changed(slot, 0.0); // intact loads since mission start
-        self.cut_segment(t, slot, ribbon)
+        self.cut_segment(t, slot, ribbon, None)
     }
 
     /// On-demand: a cut on a bay holding state, chosen in proportion to the (boosted) rates.
@@ -810,12 +944,48 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
         if s.cuts_in_bay[slot] > 0 {
             self.rare.on_boosted_event();
         }
-        self.cut_segment(t, slot, ribbon)
+        if self.stream_count == 0 {
+            return self.cut_segment(t, slot, ribbon, None);
+        }
+        // With streams the segment's rate is the dominating one, H_bg(c) + Σ_k H_k(c) at the
+        // streams' peaks: choose the source in proportion, and keep a stream candidate with
+        // probability g_k(t) (thinning; the rejected candidate changes nothing).
+        let Some(od) = self.e.on_demand.as_ref() else {
+            return Flow::End;
+        };
+        let j = s.touched[slot] as usize;
+        let c = s.critical_m[base + ribbon];
+        let mut z = unit(&mut self.damage) * s.cut_rate_s[base + ribbon];
+        let mut source = None;
+        let r_bg = od.holes.bay(j).rate_at_least_per_s(c);
+        if z >= r_bg {
+            z -= r_bg;
+            source = Some(self.stream_count - 1);
+            for k in 0..self.stream_count {
+                let r = od.stream_holes[k].bay(j).rate_at_least_per_s(c);
+                if z < r {
+                    source = Some(k);
+                    break;
+                }
+                z -= r;
+            }
+        }
+        if let Some(k) = source {
+            if unit(&mut self.damage) >= self.stream_activity(k, t) {
+                // Rejected: no state change; the next candidate at the same rates.
+                let rate = self.touched_cut_rate();
+                self.next_cut_s = t + exp_gap(&mut self.damage, rate);
+                return Flow::Go;
+            }
+        }
+        self.cut_segment(t, slot, ribbon, source)
     }
 
     /// On-demand: segment `ribbon` of the bay in `slot` is cut at `t` (a hole at least its
     /// critical width). The state-change recipe: bring up to date, cut, cascade, new rates.
-    fn cut_segment(&mut self, t: f64, slot: usize, ribbon: usize) -> Flow {
+    /// `source`: `None` for the background, `Some(k)` for meteor stream k (the cut's removed
+    /// width follows that source's hole-size law).
+    fn cut_segment(&mut self, t: f64, slot: usize, ribbon: usize, source: Option<usize>) -> Flow {
         let e = self.e;
         let Some(od) = e.on_demand.as_ref() else {
             return Flow::End;
@@ -826,7 +996,10 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
         let j = bay as usize;
         self.bring_up_to_date_before_cut(slot, t);
         // The cut's removed width: P(X >= x | X >= c) = H(x) / H(c).
-        let hr = od.holes.bay(j);
+        let hr = match source {
+            Some(k) => od.stream_holes[k].bay(j),
+            None => od.holes.bay(j),
+        };
         let c = self.scratch.critical_m[base + ribbon];
         let removed = hr.width_with_rate_m(unit(&mut self.damage) * hr.rate_at_least_per_s(c));
         self.scratch.worst_hole_m[base + ribbon] = removed.max(c).min(hr.width_m());
@@ -927,7 +1100,32 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
         let base = slot * n;
         let j = s.touched[slot] as usize;
         let hr = od.holes.bay(j);
-        let floor_rate = hr.floor_rate_per_s();
+        // With meteor streams every rate below is the interval's mean rate
+        // K(x) = H_bg(x) + Σ_k H_k(x) G_k / dt (G_k the exact integral of stream k's profile
+        // over the interval): P(M < x) = exp(-(K(x) - K(c)) dt) as before.
+        let streams = self.stream_count > 0;
+        let mut wk = [0.0f64; MAX_STREAMS];
+        if streams {
+            let t0 = t - dt;
+            for (k, w) in wk.iter_mut().enumerate().take(self.stream_count) {
+                *w = e.model.scenario.environment.meteor_streams[k].exposure_s(e.start_day, t0, t)
+                    / dt;
+            }
+        }
+        let wk = &wk[..self.stream_count];
+        let tables = &od.stream_holes[..];
+        let rate_at = |x: f64| {
+            if streams {
+                combined_rate_at_least_per_s(hr, tables, j, wk, x)
+            } else {
+                hr.rate_at_least_per_s(x)
+            }
+        };
+        let floor_rate = if streams {
+            rate_at(hr.floor_m())
+        } else {
+            hr.floor_rate_per_s()
+        };
         // The bias thresholds: critical widths one cut later (only when the bias is on and a
         // further cut would leave a survivor).
         let p = self.rare.latent_p();
@@ -946,17 +1144,28 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
                 if s.intact[base + i] {
                     let a =
                         critical_width_m(&e.model.profile, j, loads[i] * scale).max(hr.floor_m());
-                    next_rate[i] = hr.rate_at_least_per_s(a);
+                    next_rate[i] = rate_at(a);
                 }
             }
         }
         // q_i = P(M_i >= a_i) under the natural law; Q = P(at least one i).
         let mut q = [0.0f64; MAX_RIBBONS];
         let mut none_big = 1.0;
+        // K(c_i) of each intact segment (without streams: its cut rate, as stored).
+        let mut rate_c = [0.0f64; MAX_RIBBONS];
+        for (i, rc) in rate_c.iter_mut().enumerate().take(n) {
+            if s.intact[base + i] {
+                *rc = if streams {
+                    rate_at(s.critical_m[base + i])
+                } else {
+                    s.cut_rate_s[base + i]
+                };
+            }
+        }
         if biased {
             for i in 0..n {
                 if s.intact[base + i] {
-                    q[i] = -(-(next_rate[i] - s.cut_rate_s[base + i]).max(0.0) * dt).exp_m1();
+                    q[i] = -(-(next_rate[i] - rate_c[i]).max(0.0) * dt).exp_m1();
                     none_big *= 1.0 - q[i];
                 }
             }
@@ -990,7 +1199,7 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
                 continue;
             }
             let u = open01(&mut self.damage);
-            let h_c = s.cut_rate_s[base + i];
+            let h_c = rate_c[i];
             // F = P(M < m) at the drawn m: the plain draw uses F = u.
             let big_f = if first_big == usize::MAX || i > first_big {
                 u
@@ -1007,7 +1216,12 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
                 continue; // the largest sub-critical hole is below the floor: irrelevant
             }
             let c = s.critical_m[base + i];
-            let m = hr.width_with_rate_m(target).min(c * (1.0 - 1e-9));
+            let m = if streams {
+                width_with_combined_rate_m(hr, tables, j, wk, target)
+            } else {
+                hr.width_with_rate_m(target)
+            }
+            .min(c * (1.0 - 1e-9));
             if m > s.worst_hole_m[base + i] {
                 s.worst_hole_m[base + i] = m;
             }
@@ -1050,7 +1264,12 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
                     Some((l, c, r)) if l.to_bits() == loads[i].to_bits() => (c, r),
                     _ => {
                         let c = critical_width_m(&e.model.profile, j, loads[i]).max(hr.floor_m());
-                        let r = hr.rate_at_least_per_s(c);
+                        let mut r = hr.rate_at_least_per_s(c);
+                        // Meteor streams: the dominating rate at their peaks (thinned in
+                        // `on_cut`).
+                        for table in &od.stream_holes {
+                            r += table.bay(j).rate_at_least_per_s(c);
+                        }
                         last = Some((loads[i], c, r));
                         (c, r)
                     }
@@ -1227,6 +1446,7 @@ impl Engine<'_> {
                 Event::Strike { t, extra } => run.on_strike(t, extra),
                 Event::FirstCut(t) => run.on_first_cut(t),
                 Event::Cut(t) => run.on_cut(t),
+                Event::Stream { k, t } => run.on_stream(k, t),
                 Event::MissionEnd => break,
             };
             if flow == Flow::End {

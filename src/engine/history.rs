@@ -285,6 +285,9 @@ impl Engine<'_> {
                 *c += 1;
             }
             tally.losses_by_band[self.bay_band[loss.bay as usize] as usize] += 1;
+            if let Some(c) = tally.losses_by_month.get_mut(self.month_of(loss.time_s)) {
+                *c += 1;
+            }
             if let Some(l) = log {
                 l.push(LogEvent::Loss(loss));
             }
@@ -351,6 +354,11 @@ impl Engine<'_> {
         None
     }
 
+    pub(crate) fn month_of(&self, time_s: f64) -> usize {
+        crate::environment::streams::month_of(self.start_day, time_s)
+    }
+
+    /// Mission year (0-based) of a time, s.
     pub(crate) fn year_of(&self, time_s: f64) -> usize {
         let y = (time_s / crate::scenario::SECONDS_PER_YEAR) as usize;
         y.min(self.years.saturating_sub(1))
@@ -429,7 +437,16 @@ impl Engine<'_> {
                     (Some(e), Some(_)) => {
                         (&e.perforation, e.environment.particle_density_kg_per_m3)
                     }
-                    _ => (self.model.perforation.as_ref(), self.particle_density),
+                    _ => (
+                        self.model.perforation.as_ref(),
+                        match s.stream {
+                            Some(k) => {
+                                self.model.scenario.environment.meteor_streams[k as usize]
+                                    .density_kg_per_m3
+                            }
+                            None => self.particle_density,
+                        },
+                    ),
                 };
             let impact = Impact {
                 diameter_m: s.diameter_m,
@@ -540,6 +557,9 @@ impl Engine<'_> {
         tally.cuts_by_band[band] += u64::from(newly);
         let y = self.year_of(t);
         if let Some(c) = tally.cuts_by_year.get_mut(y) {
+            *c += u64::from(newly);
+        }
+        if let Some(c) = tally.cuts_by_month.get_mut(self.month_of(t)) {
             *c += u64::from(newly);
         }
         scratch.add_cuts(slot, n, newly, t, self.sampler.bay_rate_per_s(j));

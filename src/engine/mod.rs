@@ -31,8 +31,9 @@ pub use settings::{
 };
 pub use summary::{
     BandRow, CauseCounts, CountQuantiles, DurationStats, EstimateMethod, Interval, LittleLaw,
-    LossProbability, RepairSummary, RunSummary, SpareSummary, StationDemand, StationProbability,
-    StationStock, SurvivalPoint, YearCuts, PLAIN_INTERVAL_METHOD, WEIGHTED_INTERVAL_METHOD,
+    LossProbability, MonthRow, RepairSummary, RunSummary, SpareSummary, StationDemand,
+    StationProbability, StationStock, SurvivalPoint, YearCuts, PLAIN_INTERVAL_METHOD,
+    WEIGHTED_INTERVAL_METHOD,
 };
 pub use tally::{Loss, LossCause, Tally, WeightedBatch, ANOMALY_EXAMPLES, LOSS_CAUSES};
 
@@ -279,6 +280,11 @@ pub struct Engine<'m> {
     strict: bool,
     /// Climber loads on bays (absent without repair or with them switched off).
     climber_load: Option<crate::model::climber::ClimberLoadTable>,
+    /// Every-strike: one strike sampler per meteor stream (empty without streams or under
+    /// on-demand).
+    stream_samplers: Vec<sampler::StreamSampler>,
+    /// Day of the year of mission start (streams' peaks, month tallies), d.
+    start_day: f64,
 }
 
 impl<'m> Engine<'m> {
@@ -340,6 +346,14 @@ impl<'m> Engine<'m> {
                 plan
             })
         };
+        let stream_samplers =
+            if sampler_kind == Sampler::EveryStrike && model.scenario.validation_mode.is_none() {
+                (0..model.scenario.environment.meteor_streams.len())
+                    .map(|k| sampler::StreamSampler::new(model, k, &sampler))
+                    .collect::<Result<Vec<_>, _>>()?
+            } else {
+                Vec::new()
+            };
         let policy: Box<dyn DispatchPolicy> = match repair.as_ref().map(|r| r.dispatch) {
             Some(DispatchSpec::FirstCome) => Box::new(FirstCome),
             _ => Box::new(MostEndangered),
@@ -364,6 +378,8 @@ impl<'m> Engine<'m> {
             latent_bias: 0.0,
             strict: false,
             climber_load,
+            stream_samplers,
+            start_day: model.scenario.environment.mission_start_day_of_year,
         })
     }
 
@@ -428,6 +444,25 @@ impl<'m> Engine<'m> {
     /// Which sampler runs the histories.
     pub fn sampler_kind(&self) -> Sampler {
         self.sampler_kind
+    }
+
+    /// Peak rate of meteor stream `k`'s own process, 1/s: every-strike, its strikes above the
+    /// sampling floors on the whole tether; on-demand, its cuts of intact segments of the
+    /// intact tether. 0 for a stream index out of range.
+    pub fn stream_peak_rate_per_s(&self, k: usize) -> f64 {
+        match (&self.on_demand, self.sampler_kind) {
+            (Some(od), Sampler::OnDemand) => {
+                if k < od.stream_count() {
+                    od.stream_intact_cut_rate_per_s(k)
+                } else {
+                    0.0
+                }
+            }
+            _ => self
+                .stream_samplers
+                .get(k)
+                .map_or(0.0, |s| s.peak_rate_per_s()),
+        }
     }
 
     /// The on-demand tables (absent under every-strike and in validation mode).

@@ -63,10 +63,23 @@
 //! numerical quadrature of H itself (see [`crate::model::hole_rate`]), which the tests bound.
 //! The cost is O(cuts + state changes x N) per history, independent of the number of strikes.
 //!
-//! # Time-varying flux
-//! With a flux that varies in time (meteor streams) H_j(x) becomes H_j(x, t); the rates above
-//! become integrals over the interval: P(M < x) = exp(-∫ (H(x, s) - H(c, s)) ds), and cut
-//! times come from the integrated rate. The structure of the algorithm does not change.
+//! # Time-varying flux (meteor streams)
+//! With streams H_j(x, t) = H_bg(x) + Σ_k g_k(t) H_k(x), g_k the stream's activity (1 at its
+//! peak) and H_k its hole-rate table at the peak. Then, exactly:
+//! - worst holes: P(M < x) = exp(-∫ (H(x, s) - H(c, s)) ds) over the interval, i.e. the
+//!   formulas above with the interval's mean rate K(x) = H_bg(x) + Σ_k H_k(x) G_k / dt, G_k
+//!   the closed-form integral of g_k (inverted on the shared x grid);
+//! - untouched bays: each stream has its own cut process of rate g_k(t) Σ_j N H_k(c0_j), drawn
+//!   by inversion of its integrated rate on the streams random stream (bay by alias table; a
+//!   candidate on a bay holding state is discarded, as for the background);
+//! - bays holding state: each segment's process runs at the dominating rate
+//!   H_bg(c) + Σ_k H_k(c) (the streams at their peaks), and a candidate is attributed to a
+//!   source in proportion and, for stream k, kept with probability g_k(t) (thinning, Lewis &
+//!   Shedler 1979; a rejected candidate changes nothing). Under `--rare-event` the boost
+//!   applies to the candidates and the compensator uses the dominating rate: the likelihood
+//!   ratio of the candidate process, still unbiased.
+//!
+//! Without streams none of this draws anything: the default draws are unchanged.
 //!
 //! # Rare-event estimator
 //! Under `--rare-event θ` the cut process of intact segments in bays that already have a cut
@@ -103,12 +116,28 @@ pub struct OnDemandTables {
     total_rate_s: f64,
     /// Expected sub-critical holes (at least the floor) per second, whole intact tether.
     subcritical_rate_s: f64,
+    /// Meteor streams (empty: none): each stream's tables at its peak.
+    pub(crate) streams: Vec<StreamTables>,
+    /// The stream tables alone (for the combined-rate functions).
+    pub(crate) stream_holes: Vec<HoleRateTable>,
+}
+
+/// On-demand tables of one meteor stream at its peak.
+#[derive(Debug)]
+pub struct StreamTables {
+    /// Cut rate at the peak of one intact segment of an intact bay, per bay, 1/s.
+    pub(crate) intact_cut_rate_s: Vec<f64>,
+    /// Bay choice of the stream's untouched-bay cut process.
+    pub(crate) bay_alias: AliasTable,
+    /// Total peak rate of that process (all bays intact), 1/s.
+    pub(crate) total_rate_s: f64,
 }
 
 impl OnDemandTables {
     /// Build for a model (`floor_fraction` as for the strike sampler).
     pub fn new(model: &Model, floor_fraction: f64) -> Result<Self, EngineError> {
-        let holes = HoleRateTable::build(model, floor_fraction).map_err(EngineError::Model)?;
+        let holes =
+            HoleRateTable::build_background(model, floor_fraction).map_err(EngineError::Model)?;
         let p = &model.profile;
         let n = p.design.ribbon_count;
         let mut intact_critical_m = Vec::with_capacity(p.bays.len());
@@ -132,7 +161,30 @@ impl OnDemandTables {
             AliasTable::new(&vec![1.0; weights.len()])
         }
         .map_err(|e| EngineError::Model(e.to_string()))?;
+        let stream_holes = crate::model::streams::stream_tables(model, floor_fraction)
+            .map_err(EngineError::Model)?;
+        let mut streams = Vec::with_capacity(stream_holes.len());
+        for t in &stream_holes {
+            let rates: Vec<f64> = (0..p.bays.len())
+                .map(|j| t.bay(j).rate_at_least_per_s(intact_critical_m[j]))
+                .collect();
+            let w: Vec<f64> = rates.iter().map(|r| r * n as f64).collect();
+            let total: f64 = w.iter().sum();
+            let bay_alias = if total > 0.0 {
+                AliasTable::new(&w)
+            } else {
+                AliasTable::new(&vec![1.0; w.len()])
+            }
+            .map_err(|e| EngineError::Model(e.to_string()))?;
+            streams.push(StreamTables {
+                intact_cut_rate_s: rates,
+                bay_alias,
+                total_rate_s: total,
+            });
+        }
         Ok(OnDemandTables {
+            streams,
+            stream_holes,
             holes,
             intact_critical_m,
             intact_cut_rate_s,
@@ -160,6 +212,26 @@ impl OnDemandTables {
     /// Expected sub-critical holes at least the floor per second on the intact tether.
     pub fn subcritical_rate_per_s(&self) -> f64 {
         self.subcritical_rate_s
+    }
+
+    /// Number of meteor streams.
+    pub fn stream_count(&self) -> usize {
+        self.streams.len()
+    }
+
+    /// Peak cut rate of one intact segment of intact bay `j` from stream `k`, 1/s.
+    pub fn stream_segment_cut_rate_per_s(&self, k: usize, j: usize) -> f64 {
+        self.streams[k].intact_cut_rate_s[j]
+    }
+
+    /// Peak cut rate from stream `k` of the intact tether, 1/s.
+    pub fn stream_intact_cut_rate_per_s(&self, k: usize) -> f64 {
+        self.streams[k].total_rate_s
+    }
+
+    /// The hole-rate table of stream `k` at its peak.
+    pub fn stream_holes(&self, k: usize) -> &HoleRateTable {
+        &self.stream_holes[k]
     }
 
     /// The hole-rate table.

@@ -27,6 +27,10 @@ pub enum Purpose {
     /// Extra strikes of the rare-event estimator (importance sampling), kept apart so the
     /// natural strikes stay identical with and without it.
     Bias = 0x4249_4153,
+    /// Meteor streams: every-strike, the stream strikes; on-demand, the stream cut process of
+    /// untouched bays (kept apart so the background draws stay identical with and without
+    /// streams).
+    Streams = 0x5354_524d,
 }
 
 /// SplitMix64 finaliser: a bijective 64-bit mixer with full avalanche.

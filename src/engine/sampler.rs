@@ -61,6 +61,8 @@ pub struct Strike {
     /// `Some(altitude above the surface, m)` for a lunar-ejecta strike; `None` for a primary
     /// meteoroid.
     pub ejecta_altitude_m: Option<f64>,
+    /// `Some(k)` for a particle of meteor stream k (its density applies); `None` otherwise.
+    pub stream: Option<u16>,
 }
 
 /// Per-bay lunar-ejecta sampling constants (see [`crate::model::ejecta`]).
@@ -500,6 +502,7 @@ impl StrikeSampler {
             cos_incidence,
             track_angle_rad: std::f64::consts::FRAC_PI_2,
             ejecta_altitude_m: Some(alt),
+            stream: None,
         }
     }
 
@@ -532,6 +535,7 @@ impl StrikeSampler {
             cos_incidence,
             track_angle_rad,
             ejecta_altitude_m: None,
+            stream: None,
         }
     }
 }
@@ -546,6 +550,117 @@ pub fn unit<R: Rng + ?Sized>(rng: &mut R) -> f64 {
 #[inline]
 pub fn open01<R: Rng + ?Sized>(rng: &mut R) -> f64 {
     1.0 - unit(rng)
+}
+
+/// Strikes of one meteor stream at its peak (every-strike sampler): per-bay rates above the
+/// floor, the bay alias table, and the power-law size distribution. The strike times come from
+/// the stream's time profile (inversion of the integrated rate; see
+/// [`crate::environment::streams`]).
+///
+/// Sizes: F(>= d) = A_j d^q with q = 3 (1 - s) (s the mass index), so the w n(d) component is
+/// d = d_f u^(1/q) and the d n(d) component d = d_f u^(1/(q+1)) (mass d_f F(d_f) (-q)/(-q-1);
+/// s > 4/3 keeps it finite). Speed: the radiant speed focused at the bay; incidence cos =
+/// sqrt(u) (random face orientation against the radiant); track angle uniform.
+///
+/// **Draw order** per stream strike (streams stream): bay (alias), size component, size,
+/// ribbon, centre, incidence, track angle; then the gap to the stream's next strike.
+#[derive(Debug)]
+pub struct StreamSampler {
+    index: u16,
+    bay_alias: AliasTable,
+    total_rate_per_s: f64,
+    q: f64,
+    /// Per bay: (probability of the w n(d) component, floor diameter m, width m, speed m/s).
+    bays: Vec<(f64, f64, f64, f64)>,
+    ribbon_count: u32,
+}
+
+impl StreamSampler {
+    /// Build for stream `k` of a model, with the floors of the strike sampler.
+    pub fn new(model: &Model, k: usize, sampler: &StrikeSampler) -> Result<Self, EngineError> {
+        let stream = &model.scenario.environment.meteor_streams[k];
+        let consts = crate::model::streams::stream_bay_constants(model, stream)
+            .map_err(EngineError::Model)?;
+        let q = 3.0 * (1.0 - stream.mass_index);
+        if q.is_nan() || q >= -1.0 {
+            return Err(EngineError::Model(format!(
+                "meteor stream `{}`: mass index {} <= 4/3 gives an unbounded size distribution",
+                stream.name, stream.mass_index
+            )));
+        }
+        let n = model.profile.design.ribbon_count;
+        let mut rates = Vec::with_capacity(consts.len());
+        let mut bays = Vec::with_capacity(consts.len());
+        for (j, bay) in model.profile.bays.iter().enumerate() {
+            let d_f = sampler.floor_diameter_m(j);
+            let w = bay.width_m;
+            let f = mass_from_diameter_kg(d_f, stream.density_kg_per_m3)
+                .map(|m| stream.peak_flux_above_per_m2_per_s(m))
+                .unwrap_or(0.0)
+                * consts[j].0;
+            let g = d_f * f * (-q) / (-q - 1.0);
+            rates.push(2.0 * (w * f + g) * bay.length_m() * n as f64);
+            bays.push((
+                if w * f + g > 0.0 {
+                    w * f / (w * f + g)
+                } else {
+                    1.0
+                },
+                d_f,
+                w,
+                consts[j].1,
+            ));
+        }
+        let total: f64 = rates.iter().sum();
+        let bay_alias = if total > 0.0 {
+            AliasTable::new(&rates)
+        } else {
+            AliasTable::new(&vec![1.0; rates.len()])
+        }
+        .map_err(|e| EngineError::Model(e.to_string()))?;
+        Ok(StreamSampler {
+            index: k as u16,
+            bay_alias,
+            total_rate_per_s: total,
+            q,
+            bays,
+            ribbon_count: n as u32,
+        })
+    }
+
+    /// Strike rate above the floors at the peak, whole tether, per second.
+    pub fn peak_rate_per_s(&self) -> f64 {
+        self.total_rate_per_s
+    }
+
+    /// Draw one stream strike's details.
+    #[inline]
+    pub fn sample<R: Rng + ?Sized>(&self, rng: &mut R) -> Strike {
+        let j = self.bay_alias.sample(rng);
+        let (p_width, d_f, w, speed) = self.bays[j];
+        let u_comp = unit(rng);
+        let u = open01(rng);
+        let d = if u_comp < p_width {
+            d_f * u.powf(1.0 / self.q)
+        } else {
+            d_f * u.powf(1.0 / (self.q + 1.0))
+        };
+        let ribbon = ((unit(rng) * self.ribbon_count as f64) as u32).min(self.ribbon_count - 1);
+        let centre = -0.5 * d + unit(rng) * (w + d);
+        let cos_incidence = unit(rng).sqrt();
+        let track_angle_rad = std::f64::consts::FRAC_PI_2 * unit(rng);
+        Strike {
+            bay: j as u32,
+            ribbon,
+            diameter_m: d,
+            centre_m: centre,
+            speed_m_per_s: speed,
+            cos_incidence,
+            track_angle_rad,
+            ejecta_altitude_m: None,
+            stream: Some(self.index),
+        }
+    }
 }
 
 #[cfg(test)]

@@ -168,6 +168,22 @@ pub struct BandRow {
     pub loss_probability: Option<Interval>,
 }
 
+/// Cuts and losses in one calendar month of the year (written with meteor streams).
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct MonthRow {
+    /// Month name (`Jan` ... `Dec`).
+    pub month: String,
+    /// Cut segments counted in that month over all histories (every mission year).
+    pub cuts: u64,
+    /// Expected cut segments in that month per mission (cuts / histories).
+    pub expected_cuts: f64,
+    /// Losses counted in that month.
+    pub losses: u64,
+    /// Share of histories lost in that month (plain runs; absent under a rare-event
+    /// estimator, whose counts are under the biased measure).
+    pub loss_fraction: Option<f64>,
+}
+
 /// Expected cuts in one mission year.
 #[derive(Clone, Copy, Debug, PartialEq, Serialize, Deserialize)]
 pub struct YearCuts {
@@ -240,6 +256,9 @@ pub struct RunSummary {
     /// in a rare-event run). Absent in files of older versions.
     #[serde(default)]
     pub expected_cuts_by_year: Vec<YearCuts>,
+    /// Cuts and losses by calendar month (only with meteor streams; empty otherwise).
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub by_month: Vec<MonthRow>,
     /// Losses by cause.
     pub losses_by_cause: CauseCounts,
     /// Fraction of cuts that came from load redistribution.
@@ -401,6 +420,25 @@ impl RunSummary {
                 }
             })
             .collect();
+        let by_month = if sc.environment.meteor_streams.is_empty() {
+            Vec::new()
+        } else {
+            crate::environment::streams::MONTH_NAMES
+                .iter()
+                .enumerate()
+                .map(|(m, name)| {
+                    let cuts = tally.cuts_by_month.get(m).copied().unwrap_or(0);
+                    let losses = tally.losses_by_month.get(m).copied().unwrap_or(0);
+                    MonthRow {
+                        month: (*name).to_string(),
+                        cuts,
+                        expected_cuts: cuts as f64 / h,
+                        losses,
+                        loss_fraction: rare_event.is_none().then(|| losses as f64 / h),
+                    }
+                })
+                .collect()
+        };
         let edges = altitude_band_edges_m(model.profile.length_m());
         let cuts_by_altitude_band = (0..edges.len() - 1)
             .map(|b| BandRow {
@@ -437,6 +475,7 @@ impl RunSummary {
             cuts_per_year,
             cuts_by_altitude_band,
             expected_cuts_by_year,
+            by_month,
             losses_by_cause: CauseCounts {
                 direct_cut: tally.losses_by_cause[0],
                 cascade: tally.losses_by_cause[1],

@@ -72,6 +72,14 @@ pub struct Tally {
     pub cuts_by_band: Vec<u64>,
     /// Cuts in each mission year.
     pub cuts_by_year: Vec<u64>,
+    /// Cuts by calendar month of the year (0 = January; the scenario's
+    /// `environment.mission_start_day_of_year` places mission time in the year). Unweighted
+    /// counts.
+    #[serde(default = "twelve")]
+    pub cuts_by_month: Vec<u64>,
+    /// Losses by calendar month of the year (unweighted counts).
+    #[serde(default = "twelve")]
+    pub losses_by_month: Vec<u64>,
     /// Cuts that were caused by load redistribution (not by a strike's own hole).
     pub cascade_cuts: u64,
     /// Cuts caused by a climber's weight arriving on a bay (a subset of `cascade_cuts`).
@@ -147,6 +155,8 @@ impl Tally {
             losses_by_band: vec![0; bands],
             cuts_by_band: vec![0; bands],
             cuts_by_year: vec![0; years],
+            cuts_by_month: vec![0; 12],
+            losses_by_month: vec![0; 12],
             max_cuts_in_bay: vec![0; ribbons + 1],
             repair: RepairTally::new(stations, years),
             ..Default::default()
@@ -166,6 +176,8 @@ impl Tally {
         self.cuts_sq += o.cuts_sq;
         add(&mut self.cuts_by_band, &o.cuts_by_band);
         add(&mut self.cuts_by_year, &o.cuts_by_year);
+        add(&mut self.cuts_by_month, &o.cuts_by_month);
+        add(&mut self.losses_by_month, &o.losses_by_month);
         self.cascade_cuts += o.cascade_cuts;
         self.climber_load_cuts += o.climber_load_cuts;
         self.strikes += o.strikes;
@@ -184,6 +196,10 @@ impl Tally {
         self.weighted.extend(o.weighted.iter().cloned());
         self.repair.merge(&o.repair);
     }
+}
+
+fn twelve() -> Vec<u64> {
+    vec![0; 12]
 }
 
 fn add(a: &mut Vec<u64>, b: &[u64]) {

@@ -23,6 +23,7 @@ mod ejecta;
 mod factors;
 mod flux;
 mod grun;
+pub mod streams;
 mod table;
 mod velocity;
 
@@ -37,6 +38,7 @@ pub use factors::{
 };
 pub use flux::FluxModel;
 pub use grun::Grun1985;
+pub use streams::MeteorStream;
 pub use table::TabulatedFlux;
 pub use velocity::{
     ecss_table_c1_rows, TableC1Row, VelocityDistribution, TABLE_C1_SPACING_M_PER_S,

@@ -187,14 +187,14 @@ impl SpeedBand {
 }
 
 /// Gauss–Legendre nodes and weights on [0, 1] (4 points).
-const GL4: [(f64, f64); 4] = [
+pub(crate) const GL4: [(f64, f64); 4] = [
     (0.069_431_844_202_973_71, 0.173_927_422_568_726_9),
     (0.330_009_478_207_571_9, 0.326_072_577_431_273_1),
     (0.669_990_521_792_428_1, 0.326_072_577_431_273_1),
     (0.930_568_155_797_026_3, 0.173_927_422_568_726_9),
 ];
 /// Gauss–Legendre nodes and weights on [0, 1] (2 points).
-const GL2: [(f64, f64); 2] = [
+pub(crate) const GL2: [(f64, f64); 2] = [
     (0.211_324_865_405_187_1, 0.5),
     (0.788_675_134_594_812_9, 0.5),
 ];
@@ -448,6 +448,71 @@ impl BayHoleRate {
     }
 }
 
+/// The combined rate K(x) = H_bg(x) + Σ_k w_k H_k(x) of bay `j` (`tables[k]` the stream
+/// tables, `w[k]` their weights), per second.
+#[inline]
+pub fn combined_rate_at_least_per_s(
+    bg: &BayHoleRate,
+    tables: &[HoleRateTable],
+    j: usize,
+    w: &[f64],
+    x_m: f64,
+) -> f64 {
+    let mut r = bg.rate_at_least_per_s(x_m);
+    for (t, &wk) in tables.iter().zip(w) {
+        if wk > 0.0 {
+            r += wk * t.bay(j).rate_at_least_per_s(x_m);
+        }
+    }
+    r
+}
+
+/// Inverse of [`combined_rate_at_least_per_s`] on the shared grid (log-log between grid
+/// points, as [`BayHoleRate::width_with_rate_m`]).
+pub fn width_with_combined_rate_m(
+    bg: &BayHoleRate,
+    tables: &[HoleRateTable],
+    j: usize,
+    w: &[f64],
+    rate_per_s: f64,
+) -> f64 {
+    let at = |i: usize| {
+        let mut r = bg.h[i];
+        for (t, &wk) in tables.iter().zip(w) {
+            if wk > 0.0 {
+                r += wk * t.bay(j).h[i];
+            }
+        }
+        r
+    };
+    let last = X_POINTS - 1;
+    if rate_per_s.is_nan() || rate_per_s <= at(last) {
+        return bg.width_m;
+    }
+    if rate_per_s >= at(0) {
+        return bg.floor_m;
+    }
+    let (mut lo, mut hi) = (0usize, last);
+    while hi - lo > 1 {
+        let mid = (lo + hi) / 2;
+        if at(mid) >= rate_per_s {
+            lo = mid;
+        } else {
+            hi = mid;
+        }
+    }
+    let (hl, hh) = (at(lo), at(hi));
+    let f = if hl > 0.0 && hh > 0.0 && hl > hh {
+        (hl.ln() - rate_per_s.ln()) / (hl.ln() - hh.ln())
+    } else if hl > hh {
+        (hl - rate_per_s) / (hl - hh)
+    } else {
+        1.0
+    };
+    let ln_x = bg.ln_x0 + (lo as f64 + f.clamp(0.0, 1.0)) * bg.step;
+    ln_x.exp().clamp(bg.floor_m, bg.width_m)
+}
+
 /// Hole-rate functions of every bay of a model.
 #[derive(Clone, Debug)]
 pub struct HoleRateTable {
@@ -466,7 +531,56 @@ struct DPoint {
 impl HoleRateTable {
     /// Build for a model with the primary meteoroids only. `floor_fraction` in (0, 1] scales
     /// each bay's smallest severing hole to set the floor (as for the strike sampler).
+    ///
+    /// With meteor streams the table is the **mission average**: the background plus each
+    /// stream's peak table times its mean activity over the mission (what the constant-rate
+    /// estimates use; the samplers use [`Self::build_background`] and the stream tables with
+    /// their exact time profiles). Without streams it is the background table itself.
     pub fn build(model: &Model, floor_fraction: f64) -> Result<Self, String> {
+        let bg = Self::build_background(model, floor_fraction)?;
+        if model.scenario.environment.meteor_streams.is_empty() {
+            return Ok(bg);
+        }
+        let tables = super::streams::stream_tables(model, floor_fraction)?;
+        let means = super::streams::mission_mean_activity(model);
+        let parts: Vec<(&HoleRateTable, f64)> = tables.iter().zip(means).collect();
+        bg.plus_weighted(&parts)
+    }
+
+    /// `self` + Σ weight × table, point by point on the shared x grid (the tables must come
+    /// from the same model and floor fraction).
+    pub fn plus_weighted(&self, parts: &[(&HoleRateTable, f64)]) -> Result<Self, String> {
+        let mut out = self.clone();
+        for (j, bay) in out.bays.iter_mut().enumerate() {
+            for (t, w) in parts {
+                let o = t.bay(j);
+                if o.floor_m != bay.floor_m || o.width_m != bay.width_m || o.h.len() != bay.h.len()
+                {
+                    return Err(format!(
+                        "bay {j}: stream and background tables differ in grid"
+                    ));
+                }
+                for i in 0..bay.h.len() {
+                    bay.h[i] += w * o.h[i];
+                    bay.h_ext[i] += w * o.h_ext[i];
+                }
+                bay.floor_diameter_m = bay.floor_diameter_m.min(o.floor_diameter_m);
+            }
+            bay.ln_h = bay
+                .h
+                .iter()
+                .map(|&v| if v > 0.0 { v.ln() } else { f64::NEG_INFINITY })
+                .collect();
+        }
+        for (t, _) in parts {
+            out.sources.extend(t.sources.iter().cloned());
+        }
+        Ok(out)
+    }
+
+    /// Build for the constant background only (primary meteoroids and, when enabled, lunar
+    /// ejecta; no meteor stream).
+    pub fn build_background(model: &Model, floor_fraction: f64) -> Result<Self, String> {
         let primary = PrimaryMeteoroids::new(model)?;
         match &model.ejecta {
             Some(e) => {

@@ -369,7 +369,8 @@ impl MarkovModel {
                 ..
             } => *hole_size != HoleSizeSpec::Constant || *oblique_footprint == Some(true),
             DamageSpec::FractionOfWidth { .. } => false,
-        } || sc.environment.lunar_ejecta.enabled;
+        } || sc.environment.lunar_ejecta.enabled
+            || !sc.environment.meteor_streams.is_empty();
         let hole_rates = if needs_table {
             Some(
                 super::hole_rate::HoleRateTable::build(model, 1.0)
@@ -468,6 +469,12 @@ impl MarkovModel {
                 "cut rates from the per-bay hole-rate table (quadrature over diameter, speed, incidence and track angle of: {})",
                 t.sources().join(", ")
             ));
+        }
+        if !sc.environment.meteor_streams.is_empty() {
+            assumptions.push(
+                "meteor streams enter at their mission-averaged rates (the chains need constant rates; a stream's peak raises the risk of short exposures more than this shows; the Monte Carlo uses the exact time profile)"
+                    .to_string(),
+            );
         }
         Ok(MarkovModel {
             mode: MarkovMode::Physical,

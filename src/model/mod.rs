@@ -12,6 +12,7 @@ pub mod ejecta;
 pub mod hole_rate;
 pub mod markov;
 mod rates;
+pub mod streams;
 pub mod warnings;
 
 pub use rates::ribbon_strike_rate_per_m_per_year;

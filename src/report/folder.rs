@@ -223,6 +223,8 @@ pub const RUN_FILES: &[&str] = &[
     "survival_by_year.md",
     "altitude_bands.csv",
     "altitude_bands.md",
+    "by_month.csv",
+    "by_month.md",
     "spares.csv",
     "spares.md",
     "design.json",

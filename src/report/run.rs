@@ -465,6 +465,11 @@ pub fn write_run(dir: &Path, summary: &RunSummary) -> std::io::Result<Vec<String
         "altitude_bands.md",
         band_table(summary).to_markdown().as_bytes(),
     )?;
+    if !summary.by_month.is_empty() {
+        let t = super::statement::by_month_table(summary);
+        put("by_month.csv", t.to_csv().as_bytes())?;
+        put("by_month.md", t.to_markdown().as_bytes())?;
+    }
     if let (Some(r), Some(sp)) = (&summary.repair, &summary.spares) {
         put("spares.csv", stock_table(r, sp).to_csv().as_bytes())?;
         put("spares.md", stock_table(r, sp).to_markdown().as_bytes())?;

@@ -104,6 +104,60 @@ pub struct EnvironmentSpec {
     /// Lunar secondary ejecta (a second strike source on the lowest bays).
     #[serde(default)]
     pub lunar_ejecta: LunarEjectaSpec,
+    /// Day of the year on which the mission starts, d, in [0, 365.25) (default 0: 1 January).
+    /// Places the meteor streams' peaks in mission time and names the months of the
+    /// by-month tables.
+    #[serde(default, skip_serializing_if = "is_zero")]
+    pub mission_start_day_of_year: f64,
+    /// Meteor streams on top of the sporadic background (default none: a constant flux).
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub meteor_streams: Vec<MeteorStreamSpec>,
+}
+
+fn is_zero(v: &f64) -> bool {
+    *v == 0.0
+}
+
+/// One meteor stream (see `environment::streams`): peak, activity profile, strength, speed.
+/// Strength is either `zhr_per_hour` or `flux_above_reference_per_m2_per_year` with
+/// `reference_mass_g`; each side of the profile is either a B slope per degree of solar
+/// longitude (`rise_b_per_deg`, `fall_b_per_deg`) or an e-folding time in days.
+#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+#[serde(deny_unknown_fields)]
+pub struct MeteorStreamSpec {
+    /// Name for tables and checks.
+    pub name: String,
+    /// Peak time, days from the start of the year, in [0, 365.25).
+    pub peak_day_of_year: f64,
+    /// Geocentric speed of the stream's particles, km/s.
+    pub radiant_speed_km_per_s: f64,
+    /// Population index r (dimensionless; mass index s = 1 + 2.5 log10 r).
+    pub population_index: f64,
+    /// Zenithal hourly rate at the peak, per hour.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub zhr_per_hour: Option<f64>,
+    /// Flux at the peak of particles of mass at least `reference_mass_g` through a surface
+    /// normal to the radiant, per m^2 per year.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub flux_above_reference_per_m2_per_year: Option<f64>,
+    /// Reference mass of `flux_above_reference_per_m2_per_year`, g.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub reference_mass_g: Option<f64>,
+    /// Profile slope before the peak, per degree of solar longitude (Jenniskens' B).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub rise_b_per_deg: Option<f64>,
+    /// Profile slope after the peak, per degree of solar longitude.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub fall_b_per_deg: Option<f64>,
+    /// e-folding time of the rise, days (instead of `rise_b_per_deg`).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub rise_e_folding_days: Option<f64>,
+    /// e-folding time of the fall, days (instead of `fall_b_per_deg`).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub fall_e_folding_days: Option<f64>,
+    /// Particle bulk density, g/cm^3 (ECSS-E-ST-10-04C 10.2.4.5c: 1.0 for streams).
+    #[serde(default = "one")]
+    pub particle_density_g_per_cm3: f64,
 }
 
 /// Surface geometry for the lunar shielding factor.

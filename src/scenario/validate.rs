@@ -36,6 +36,10 @@ pub struct EnvironmentSettings {
     pub flux_scale_factor: f64,
     /// Lunar ejecta source, validated (`enabled` false: absent).
     pub lunar_ejecta: LunarEjectaSpec,
+    /// Day of the year of mission start, d.
+    pub mission_start_day_of_year: f64,
+    /// Meteor streams in SI (empty: a constant flux).
+    pub meteor_streams: Vec<crate::environment::MeteorStream>,
 }
 
 /// The tether section in SI units.
@@ -427,7 +431,160 @@ fn validate_environment(
         moon_shielding_geometry: e.moon_shielding_geometry,
         flux_scale_factor: scale,
         lunar_ejecta: validate_ejecta(&e.lunar_ejecta)?,
+        mission_start_day_of_year: check(
+            "environment.mission_start_day_of_year",
+            e.mission_start_day_of_year,
+            Range::closed(0.0, 365.25),
+            "d",
+            "days from 1 January",
+        )?,
+        meteor_streams: validate_streams(&e.meteor_streams)?,
     })
+}
+
+/// Most meteor streams a scenario may list.
+pub const MAX_METEOR_STREAMS: usize = 16;
+
+fn validate_streams(
+    list: &[MeteorStreamSpec],
+) -> Result<Vec<crate::environment::MeteorStream>, ScenarioError> {
+    use crate::environment::streams as st;
+    if list.len() > MAX_METEOR_STREAMS {
+        return Err(ScenarioError::OutOfRange {
+            path: "environment.meteor_streams".into(),
+            value: list.len().to_string(),
+            allowed: format!("[0, {MAX_METEOR_STREAMS}]"),
+            unit: "streams".into(),
+            note: "list the strongest streams; the sporadic model already holds the yearly average of all".into(),
+        });
+    }
+    let mut out = Vec::with_capacity(list.len());
+    for (i, s) in list.iter().enumerate() {
+        let p = |f: &str| format!("environment.meteor_streams[{i}].{f}");
+        let model = |f: &str, message: String| ScenarioError::Model {
+            path: p(f),
+            message,
+        };
+        let name = s.name.trim();
+        if name.is_empty() || name.chars().count() > 64 || name.chars().any(char::is_control) {
+            return Err(model(
+                "name",
+                "a stream needs a name of 1 to 64 printable characters".into(),
+            ));
+        }
+        if list[..i].iter().any(|o| o.name.trim() == name) {
+            return Err(model("name", format!("two streams are named `{name}`")));
+        }
+        let peak = check(
+            &p("peak_day_of_year"),
+            s.peak_day_of_year,
+            Range::closed(0.0, 365.0),
+            "d",
+            "days from 1 January",
+        )?;
+        let v = check(
+            &p("radiant_speed_km_per_s"),
+            s.radiant_speed_km_per_s,
+            Range::closed(11.0, 73.0),
+            "km/s",
+            "geocentric speeds of meteoroids bound to the Sun lie between about 11 and 72 km/s",
+        )?;
+        let r = check(
+            &p("population_index"),
+            s.population_index,
+            Range::open_closed(1.4, 4.0),
+            "(dimensionless)",
+            "the Koschack–Rendtel flux needs r > 1.3 and a bounded size distribution (mass index above 4/3) r > 1.36; showers have r of about 1.8 to 3.5",
+        )?;
+        let rho = check(
+            &p("particle_density_g_per_cm3"),
+            s.particle_density_g_per_cm3,
+            Range::closed(0.1, 10.0),
+            "g/cm^3",
+            "ECSS-E-ST-10-04C 10.2.4.5c uses 1.0 g/cm^3 for streams",
+        )?;
+        let mass_index = st::mass_index_of_population_index(r);
+        let (flux_ref, m_ref) = match (
+            s.zhr_per_hour,
+            s.flux_above_reference_per_m2_per_year,
+            s.reference_mass_g,
+        ) {
+            (Some(zhr), None, None) => {
+                let zhr = check(
+                    &p("zhr_per_hour"),
+                    zhr,
+                    Range::closed(0.0, 1e6),
+                    "per hour",
+                    "annual showers reach ZHR 10 to 150, storms thousands",
+                )?;
+                (
+                    st::koschack_rendtel_flux_per_km2_per_h(zhr, r) / 1e6 / 3600.0,
+                    st::mass_of_magnitude_6_5_kg(v * 1e3),
+                )
+            }
+            (None, Some(f), Some(m)) => {
+                let f = check(
+                    &p("flux_above_reference_per_m2_per_year"),
+                    f,
+                    Range::closed(0.0, 1e6),
+                    "m^-2 yr^-1",
+                    "",
+                )?;
+                let m = check(
+                    &p("reference_mass_g"),
+                    m,
+                    Range::closed(1e-15, 1e3),
+                    "g",
+                    "",
+                )?;
+                (f / crate::scenario::SECONDS_PER_YEAR, m * 1e-3)
+            }
+            _ => {
+                return Err(model(
+                    "zhr_per_hour",
+                    "give the strength either as zhr_per_hour or as flux_above_reference_per_m2_per_year with reference_mass_g".into(),
+                ))
+            }
+        };
+        let side = |b: Option<f64>, days: Option<f64>, which: &str| -> Result<f64, ScenarioError> {
+            match (b, days) {
+                (Some(b), None) => Ok(st::e_folding_s_of_b(check(
+                    &p(&format!("{which}_b_per_deg")),
+                    b,
+                    Range::closed(0.01, 1000.0),
+                    "per degree of solar longitude",
+                    "annual showers have B of about 0.1 to 1, outbursts 7 to 220 (Jenniskens)",
+                )?)),
+                (None, Some(d)) => Ok(check(
+                    &p(&format!("{which}_e_folding_days")),
+                    d,
+                    Range::closed(1e-3, 45.0),
+                    "d",
+                    "a profile wider than 45 days is not a stream but background",
+                )? * st::DAY_S),
+                _ => Err(model(
+                    &format!("{which}_b_per_deg"),
+                    format!("give exactly one of {which}_b_per_deg and {which}_e_folding_days"),
+                )),
+            }
+        };
+        let rise = side(s.rise_b_per_deg, s.rise_e_folding_days, "rise")?;
+        let fall = side(s.fall_b_per_deg, s.fall_e_folding_days, "fall")?;
+        let stream = crate::environment::MeteorStream {
+            name: name.to_string(),
+            peak_day_of_year: peak,
+            rise_e_folding_s: rise,
+            fall_e_folding_s: fall,
+            peak_flux_above_reference_per_m2_per_s: flux_ref,
+            reference_mass_kg: m_ref,
+            mass_index,
+            speed_m_per_s: v * 1e3,
+            density_kg_per_m3: rho * 1000.0,
+        };
+        stream.check().map_err(|e| model("name", e.to_string()))?;
+        out.push(stream);
+    }
+    Ok(out)
 }
 
 fn validate_ejecta(e: &LunarEjectaSpec) -> Result<LunarEjectaSpec, ScenarioError> {

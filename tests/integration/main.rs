@@ -28,5 +28,6 @@ mod report;
 mod robust;
 mod sensitivity;
 mod shade;
+mod streams;
 mod surface_run;
 mod sweep;
