@@ -370,6 +370,19 @@ pub fn wait_sentence(r: &crate::engine::RepairSummary) -> String {
 /// The repair trip split into travel, waiting for light (solar climbers in the Moon's shadow)
 /// and splicing, per segment sent (one sentence, no trailing period).
 pub fn trip_sentence(r: &crate::engine::RepairSummary) -> String {
+    if let Some(l) = &r.looped {
+        let h = &l.haul_time_hours;
+        return format!(
+            "looped-ribbon repairs: {} completed of {} hauls started; haul to the pulley station and back per repair: mean {} h, P50 {} h, P90 {} h; wait at the station for a splice position or a spare {} h; splice-position utilisation {}",
+            l.repairs,
+            l.hauls_started,
+            sig(h.mean, 3),
+            sig(h.p50, 3),
+            sig(h.p90, 3),
+            sig(l.mean_station_wait_hours, 3),
+            format!("{:.3} %", 100.0 * l.splice_position_utilisation)
+        );
+    }
     format!(
         "repair trip per segment sent: travel {} h (turnaround and climb at full speed), waiting for light {} h (solar climbers in the Moon's shadow), splicing {} h; the rest of the time from cut to splice is detection and the wait for dispatch",
         sig(r.mean_trip_travel_hours, 3),
