@@ -1198,9 +1198,10 @@ fn validate_looped(r: &RepairSpec) -> Result<Option<LoopedSettings>, ScenarioErr
             .position(|s| s.name.trim().to_lowercase() == key)
         {
             Some(k) => pulley[k] = true,
-            None => return Err(ScenarioError::Model {
-                path: format!("{q}.pulley_stations[{i}]"),
-                message: format!(
+            None => {
+                return Err(ScenarioError::Model {
+                    path: format!("{q}.pulley_stations[{i}]"),
+                    message: format!(
                     "{name:?} is not a station name; allowed: the names in repair.stations ({})",
                     r.stations
                         .iter()
@@ -1208,7 +1209,8 @@ fn validate_looped(r: &RepairSpec) -> Result<Option<LoopedSettings>, ScenarioErr
                         .collect::<Vec<_>>()
                         .join(", ")
                 ),
-            }),
+                })
+            }
         }
     }
     if r.concept != RepairConceptSpec::LoopedRibbon {
