@@ -372,6 +372,7 @@ pub fn wait_sentence(r: &crate::engine::RepairSummary) -> String {
 pub fn trip_sentence(r: &crate::engine::RepairSummary) -> String {
     if let Some(l) = &r.looped {
         let h = &l.haul_time_hours;
+        let utilisation = format!("{:.3} %", 100.0 * l.splice_position_utilisation);
         return format!(
             "looped-ribbon repairs: {} completed of {} hauls started; haul to the pulley station and back per repair: mean {} h, P50 {} h, P90 {} h; wait at the station for a splice position or a spare {} h; splice-position utilisation {}",
             l.repairs,
@@ -380,7 +381,7 @@ pub fn trip_sentence(r: &crate::engine::RepairSummary) -> String {
             sig(h.p50, 3),
             sig(h.p90, 3),
             sig(l.mean_station_wait_hours, 3),
-            format!("{:.3} %", 100.0 * l.splice_position_utilisation)
+            utilisation
         );
     }
     format!(
