@@ -63,7 +63,9 @@ pub fn monte_carlo_assumptions(s: &RunSummary, scenario: Option<&Value>) -> Vec<
                 "looped-ribbon repair: each ribbon is a loop over pulleys at stations; a detected cut ({} detection) is hauled at {} m/s from its bay's middle to the nearest pulley station, waits there for one of {} splice positions and a spare, is spliced in {} h and hauled back; the bay stays weakened until the new length is in place; hauls do not delay each other and do not change the state of the other bays the moving loop passes through (engineering assumptions)",
                 text(r.get("detection"), "kind").unwrap_or("scenario's"),
                 sig(num("haul_speed_m_per_s"), 3),
-                sig(num("station_splice_capacity"), 3),
+                l.and_then(|l| l.get("station_splice_capacity"))
+                    .and_then(Value::as_u64)
+                    .unwrap_or(0),
                 sig(num("station_splice_hours"), 3)
             ));
         }
