@@ -26,7 +26,11 @@ fn value_label(v: &serde_json::Value) -> String {
 fn variant_cell(v: &VariantResult) -> String {
     match (&v.loss_probability, &v.infeasible) {
         (_, Some(r)) => format!("infeasible ({r})"),
-        (Some(l), None) => format!("{} ({} losses)", loss_cell(l), v.losses.unwrap_or(0)),
+        (Some(l), None) => format!(
+            "{} ({})",
+            loss_cell(l),
+            super::run::count_noun(v.losses.unwrap_or(0), "loss", "losses")
+        ),
         (None, None) => "-".into(),
     }
 }
