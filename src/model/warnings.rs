@@ -219,7 +219,7 @@ pub fn unit_slip_warnings(sc: &crate::scenario::Scenario) -> Vec<DesignWarning> 
         checks.push(Usual {
             code: "unit.splice_time",
             path: "repair.climber.splice_hours",
-            value: r.splice_s / 3600.0,
+            value: r.splice_s / crate::units::SECONDS_PER_HOUR,
             low: 0.1,
             high: 200.0,
             unit: "h",
