@@ -72,3 +72,4 @@ pub mod scenario;
 pub mod stats;
 pub mod structure;
 pub mod sweep;
+pub mod units;

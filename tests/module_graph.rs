@@ -11,7 +11,7 @@ use std::path::Path;
 
 /// Layers, lowest first. A module may use modules of lower layers only.
 const LAYERS: &[&[&str]] = &[
-    &["orbit", "stats"],
+    &["orbit", "stats", "units"],
     &["environment", "structure"],
     &["damage", "scenario"],
     &["analytic", "repair"],

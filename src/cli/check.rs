@@ -109,7 +109,7 @@ fn work_text(w: &WorkReport) -> String {
         } else if s < 7200.0 {
             format!("{:.1} min", s / 60.0)
         } else {
-            format!("{:.1} h", s / 3600.0)
+            format!("{:.1} h", s / tether_risk::units::SECONDS_PER_HOUR)
         }
     };
     format!(
@@ -170,9 +170,9 @@ fn climber_power(model: &Model) -> Option<(String, serde_json::Value)> {
                     "solar_with_battery",
                     format!(
                         "{} Wh battery at {} W ({:.2} h at full speed in shade), then {dark}",
-                        s.battery_j / 3600.0,
+                        s.battery_j / 3600.0, /* J to Wh */
                         s.power_w,
-                        s.battery_j / s.power_w / 3600.0
+                        s.battery_j / s.power_w / tether_risk::units::SECONDS_PER_HOUR
                     ),
                 )
             } else {

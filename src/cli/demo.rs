@@ -90,6 +90,7 @@ pub fn run(a: Args) -> anyhow::Result<()> {
     }
 
     sweep_spacing(a.threads, dir, stop)?;
+    sensitivity(a.threads, dir, stop)?;
 
     // Keep this last: the report reads every file the steps above wrote (the simulation
     // wrote design.json, estimate.json and the manifest).
@@ -168,5 +169,44 @@ fn sweep_spacing(
     std::fs::create_dir_all(&sdir)
         .map_err(|e| anyhow::anyhow!("cannot create {}: {e}", sdir.display()))?;
     tether_risk::report::sweep::write_sweep(&sdir, &result)?;
+    Ok(())
+}
+
+/// The one-at-a-time sensitivity of the demo, into `sensitivity/` (the report's section "Which
+/// assumption decides the answer?"). 100 000 histories per run: enough for the base's tens of
+/// losses; the main run above is the number to quote.
+fn sensitivity(
+    threads: usize,
+    dir: &std::path::Path,
+    stop: &std::sync::atomic::AtomicBool,
+) -> anyhow::Result<()> {
+    use tether_risk::sweep::sensitivity::{run_sensitivity, SensitivitySettings, INPUTS};
+    print("Sensitivity: which assumption decides the answer\n")?;
+    let base: serde_json::Value = serde_json::from_str(scenario::DEMO_SCENARIO_JSON)?;
+    let settings = SensitivitySettings {
+        run: tether_risk::engine::RunChoices {
+            histories: Some(100_000),
+            threads,
+            ..Default::default()
+        },
+        ..Default::default()
+    };
+    let progress = |what: &str| {
+        let _ = print(&format!("  run done: {what}\n"));
+    };
+    let result = match run_sensitivity(&base, INPUTS, &settings, &progress) {
+        Ok(r) => r,
+        Err(_) if stop.load(std::sync::atomic::Ordering::SeqCst) => {
+            return Err(super::interrupt::Stopped(format!(
+                "the demo stopped during its sensitivity study (not kept); the main run's results, its report and the trade study are in {}; run `tether-risk demo` again for the sensitivity section",
+                dir.display()
+            ))
+            .into())
+        }
+        Err(e) => return Err(anyhow::anyhow!("the demo's sensitivity study failed: {e}")),
+    };
+    let sdir = dir.join("sensitivity");
+    tether_risk::report::sensitivity::write_sensitivity(&sdir, &result)
+        .map_err(|e| anyhow::anyhow!("cannot write {}: {e}", sdir.display()))?;
     Ok(())
 }

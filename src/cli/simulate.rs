@@ -564,7 +564,7 @@ fn replay(model: &Model, s: &RunSettings, index: u64) -> anyhow::Result<String> 
                 removed_m,
             } => format!(
                 "{:>12.1} h  strike  bay {:>5} ribbon {:>2}  d {:.3} mm  v {:.1} km/s  removed {:.3} mm",
-                time_s / 3600.0,
+                time_s / tether_risk::units::SECONDS_PER_HOUR,
                 strike.bay,
                 strike.ribbon,
                 strike.diameter_m * 1e3,
@@ -578,7 +578,7 @@ fn replay(model: &Model, s: &RunSettings, index: u64) -> anyhow::Result<String> 
                 survivors,
             } => format!(
                 "{:>12.1} h  CUT     bay {bay:>5}  newly cut {newly_cut}, survivors {survivors}",
-                time_s / 3600.0
+                time_s / tether_risk::units::SECONDS_PER_HOUR
             ),
             LogEvent::CutHole {
                 time_s,
@@ -587,11 +587,11 @@ fn replay(model: &Model, s: &RunSettings, index: u64) -> anyhow::Result<String> 
                 removed_m,
             } => format!(
                 "{:>12.1} h  hole    bay {bay:>5} ribbon {ribbon:>2}  removed {:.3} mm (at least the critical width)",
-                time_s / 3600.0,
+                time_s / tether_risk::units::SECONDS_PER_HOUR,
                 removed_m * 1e3
             ),
-            LogEvent::Repair { time_s, kind } => format!("{:>12.1} h  repair  {kind:?}", time_s / 3600.0),
-            LogEvent::Loss(l) => format!("{:>12.1} h  LOSS    bay {:>5} ({:?})", l.time_s / 3600.0, l.bay, l.cause),
+            LogEvent::Repair { time_s, kind } => format!("{:>12.1} h  repair  {kind:?}", time_s / tether_risk::units::SECONDS_PER_HOUR),
+            LogEvent::Loss(l) => format!("{:>12.1} h  LOSS    bay {:>5} ({:?})", l.time_s / tether_risk::units::SECONDS_PER_HOUR, l.bay, l.cause),
         };
         o.push_str(&line);
         o.push('\n');

@@ -1,7 +1,10 @@
 //! Tallies: what each history adds to its batch, merged batch by batch in order.
 //!
-//! Every score is an integer count (losses, cuts, sums of squares), so merging is exact and
-//! cannot depend on thread scheduling; floating point appears only when the summary is formed.
+//! Every plain score is an integer count (losses, cuts, sums of squares), so merging is exact
+//! and cannot depend on thread scheduling. The one floating-point score is the weighted
+//! estimator's likelihood-ratio sums ([`WeightedBatch`]): they are kept per batch and summed in
+//! batch order when the summary is formed, so they too are the same bits at any thread count
+//! and shard split.
 
 use serde::{Deserialize, Serialize};
 

@@ -239,7 +239,7 @@ mod tests {
         );
         // §3.1 [COMPUTED] table at 1e-3 g, per m² per year: total 2.21, <= 0.1 km/s 2.04,
         // 0.25-1 km/s 4.9e-3.
-        let yr = 3.15576e7;
+        let yr = crate::units::SECONDS_PER_YEAR;
         let at = |b: usize| e.bin_flux_per_m2_per_s(b, 1e-6) * yr;
         assert!((at(0) / 2.04 - 1.0).abs() < 0.01);
         assert!((at(2) / 4.9e-3 - 1.0).abs() < 0.01);

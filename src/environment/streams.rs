@@ -37,12 +37,12 @@
 
 use super::EnvironmentError;
 
-/// Seconds in the model year (Julian, 365.25 d).
-pub const YEAR_S: f64 = 3.15576e7;
-/// Seconds in a day.
-pub const DAY_S: f64 = 86_400.0;
 /// Days in the model year.
-pub const YEAR_DAYS: f64 = 365.25;
+pub use crate::units::DAYS_PER_YEAR as YEAR_DAYS;
+/// Seconds in a day.
+pub use crate::units::SECONDS_PER_DAY as DAY_S;
+/// Seconds in the model year (Julian, 365.25 d).
+pub use crate::units::SECONDS_PER_YEAR as YEAR_S;
 
 /// Koschack & Rendtel (1990, eq. 41): flux of meteoroids brighter than +6.5 mag through a
 /// surface normal to the radiant, per km² per hour, for a zenithal hourly rate `zhr` and

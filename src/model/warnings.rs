@@ -17,6 +17,8 @@ pub const LUNAR_EJECTA_EXCLUDED: &str = "lunar_ejecta_excluded";
 pub const SURFACE_RUN_WITHOUT_EJECTA: &str = "surface_run_without_ejecta";
 /// The hole size is a constant multiple of the particle diameter (engineering assumption).
 pub const CONSTANT_HOLE_FACTOR: &str = "constant_hole_factor";
+/// The ribbon's residual strength is net section: the notch-insensitive bound.
+pub const NET_SECTION_NOTCH_INSENSITIVE: &str = "net_section_notch_insensitive";
 /// A notch-sensitive model rates edge-breaking holes as central holes (not conservative).
 pub const EDGE_HOLES_AS_CENTRAL: &str = "edge_holes_rated_as_central";
 
@@ -86,8 +88,22 @@ pub fn design_warnings(model: &Model) -> Vec<DesignWarning> {
             message: format!(
                 "damage.hole_size = \"constant\": every hole is {hole_factor} x the particle \
                  diameter, an engineering assumption; \"sawle_type\" or \"hill_type\" follow \
-                 thickness, speed and obliquity"
+                 thickness, speed and obliquity. The hole factor and the oblique footprint \
+                 (damage.oblique_footprint) can each move a latent-damage answer by orders of \
+                 magnitude: run `tether-risk sensitivity` before quoting it"
             ),
+        });
+    }
+    if matches!(model.profile.design.notch, NotchModel::NetSection(_)) {
+        out.push(DesignWarning {
+            code: NET_SECTION_NOTCH_INSENSITIVE,
+            message: "tether.material.notch_model = net_section: a hole costs only the width it \
+                      removes, the notch-insensitive bound (right for films that split or yield \
+                      around the hole, optimistic for a notch-sensitive film); a Whitney-Nuismer \
+                      criterion with a characteristic length of about 1 mm makes much smaller \
+                      holes critical. Without residual-strength tests of this ribbon, run \
+                      `tether-risk sensitivity`: the notch model can decide the answer"
+                .into(),
         });
     }
     if matches!(model.profile.design.notch, NotchModel::WhitneyNuismer(_)) {
@@ -209,7 +225,7 @@ pub fn unit_slip_warnings(sc: &crate::scenario::Scenario) -> Vec<DesignWarning> 
         checks.push(Usual {
             code: "unit.splice_time",
             path: "repair.climber.splice_hours",
-            value: r.splice_s / 3600.0,
+            value: r.splice_s / crate::units::SECONDS_PER_HOUR,
             low: 0.1,
             high: 200.0,
             unit: "h",

@@ -183,7 +183,9 @@ impl EstimateSummary {
                     },
                     cut_rate_per_year_by_state: per_year(mb.chain.cut_rate_per_s()),
                     repair_rate_per_year_by_state: per_year(mb.chain.repair_rate_per_s()),
-                    repair_mean_time_hours: mb.repair_mean_time_s.map(|t| t / 3600.0),
+                    repair_mean_time_hours: mb
+                        .repair_mean_time_s
+                        .map(|t| t / crate::units::SECONDS_PER_HOUR),
                 }
             })
             .collect();
@@ -192,7 +194,7 @@ impl EstimateSummary {
             .iter()
             .filter_map(|b| b.repair_mean_time_s)
             .reduce(f64::max)
-            .map(|t| t / 3600.0);
+            .map(|t| t / crate::units::SECONDS_PER_HOUR);
         EstimateSummary {
             version: crate::VERSION.into(),
             scenario: sc.spec.name.clone(),

@@ -368,7 +368,9 @@ pub fn wait_sentence(r: &crate::engine::RepairSummary) -> String {
 }
 
 /// The repair trip split into travel, waiting for light (solar climbers in the Moon's shadow)
-/// and splicing, per segment sent (one sentence, no trailing period).
+/// and splicing, per segment sent (one sentence, no trailing period). With no time lost in
+/// shade (beamed power, or solar climbers that never met the shadow) the waiting part is
+/// stated as absent rather than as "0 h waiting for light".
 pub fn trip_sentence(r: &crate::engine::RepairSummary) -> String {
     if let Some(l) = &r.looped {
         let h = &l.haul_time_hours;
@@ -384,10 +386,17 @@ pub fn trip_sentence(r: &crate::engine::RepairSummary) -> String {
             utilisation
         );
     }
+    let light = if r.mean_wait_for_light_hours > 0.0 {
+        format!(
+            ", waiting for light {} h (solar climbers in the Moon's shadow)",
+            sig(r.mean_wait_for_light_hours, 3)
+        )
+    } else {
+        String::new()
+    };
     format!(
-        "repair trip per segment sent: travel {} h (turnaround and climb at full speed), waiting for light {} h (solar climbers in the Moon's shadow), splicing {} h; the rest of the time from cut to splice is detection and the wait for dispatch",
+        "repair trip per segment sent: travel {} h (turnaround and climb at full speed){light}, splicing {} h; the rest of the time from cut to splice is detection and the wait for dispatch",
         sig(r.mean_trip_travel_hours, 3),
-        sig(r.mean_wait_for_light_hours, 3),
         sig(r.mean_trip_splice_hours, 3)
     )
 }

@@ -9,10 +9,15 @@ use super::table::{sig, Table};
 use super::write_atomic;
 use crate::sweep::sensitivity::{SensitivityResult, SensitivityRow, VariantResult};
 
-/// A value as written in a table cell (strings without quotes).
+/// A value as written in a table cell: strings without quotes, a tagged model object by its
+/// tag (`point_stress`), a null field as the model's default.
 fn value_label(v: &serde_json::Value) -> String {
     match v {
         serde_json::Value::String(s) => s.clone(),
+        serde_json::Value::Null => "model default".into(),
+        serde_json::Value::Object(o) if o.get("model").is_some_and(|m| m.is_string()) => {
+            o["model"].as_str().unwrap_or_default().to_string()
+        }
         serde_json::Value::Number(n) => n.as_f64().map_or_else(|| n.to_string(), |x| sig(x, 3)),
         other => other.to_string(),
     }
@@ -21,7 +26,11 @@ fn value_label(v: &serde_json::Value) -> String {
 fn variant_cell(v: &VariantResult) -> String {
     match (&v.loss_probability, &v.infeasible) {
         (_, Some(r)) => format!("infeasible ({r})"),
-        (Some(l), None) => format!("{} ({} losses)", loss_cell(l), v.losses.unwrap_or(0)),
+        (Some(l), None) => format!(
+            "{} ({})",
+            loss_cell(l),
+            super::run::count_noun(v.losses.unwrap_or(0), "loss", "losses")
+        ),
         (None, None) => "-".into(),
     }
 }

@@ -7,8 +7,9 @@ use super::spec::*;
 use crate::orbit::Side;
 use crate::structure::load_sharing::{Arrangement, MAX_RIBBONS};
 
-/// Seconds in a Julian year (365.25 d), the year of the flux models.
-pub const SECONDS_PER_YEAR: f64 = 3.15576e7;
+/// Seconds in a Julian year (365.25 d), the year of the flux models (kept here for the
+/// scenario's users; the home of unit constants is [`crate::units`]).
+pub use crate::units::SECONDS_PER_YEAR;
 
 /// Largest number of bays a scenario may have (memory of per-bay tables stays small).
 pub const MAX_BAYS: usize = 2_000_000;
@@ -533,7 +534,7 @@ fn validate_streams(
                     "annual showers reach ZHR 10 to 150, storms thousands",
                 )?;
                 (
-                    st::koschack_rendtel_flux_per_km2_per_h(zhr, r) / 1e6 / 3600.0,
+                    st::koschack_rendtel_flux_per_km2_per_h(zhr, r) / 1e6 / crate::units::SECONDS_PER_HOUR,
                     st::mass_of_magnitude_6_5_kg(v * 1e3),
                 )
             }
@@ -1149,8 +1150,8 @@ fn validate_repair(r: &RepairSpec, top_altitude_m: f64) -> Result<RepairSettings
         speed_up_m_per_s: up,
         speed_down_m_per_s: down,
         payload_kg: payload,
-        turnaround_s: turnaround * 3600.0,
-        splice_s: splice * 3600.0,
+        turnaround_s: turnaround * crate::units::SECONDS_PER_HOUR,
+        splice_s: splice * crate::units::SECONDS_PER_HOUR,
         climber_mass_kg: climber_mass,
         detection: r.detection.clone(),
         resupply: r.resupply.clone(),
@@ -1303,7 +1304,7 @@ fn validate_power(
                 "W",
                 "power drawn while moving at full speed",
             )?;
-            (wh * 3600.0, w)
+            (wh * 3600.0 /* Wh to J */, w)
         }
     };
     Ok(Some(SolarSettings {

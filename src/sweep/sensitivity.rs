@@ -60,10 +60,17 @@ pub struct InputSpec {
     pub unit: &'static str,
     /// Where the range comes from (a source, or "engineering assumption").
     pub basis: &'static str,
+    /// The field may be `null` in the base scenario, meaning "the model's default" (for
+    /// example the oblique footprint, which follows the hole-size law unless set); the input
+    /// then still applies. Otherwise a null field means "not applicable".
+    pub null_base_ok: bool,
 }
 
-/// The uncertain inputs, one line each. Hole-law and notch (residual-strength) parameters join
-/// here as soon as the scenario has fields for them.
+/// The uncertain inputs, one line each. The hole-size law's own coefficients are not varied
+/// one by one: at the diameters that cut these ribbons both fitted laws fall inside the hole
+/// factor's range, so the hole factor and the oblique footprint carry the hole-size
+/// uncertainty. The lunar ejecta source is not an input here: switched on at face value it
+/// dominates the answer, so it is studied on its own (README, "Lunar secondary ejecta").
 pub const INPUTS: &[InputSpec] = &[
     InputSpec {
         name: "meteoroid flux scale factor",
@@ -71,6 +78,7 @@ pub const INPUTS: &[InputSpec] = &[
         change: Change::Values { low: "0.33", high: "3.0" },
         unit: "x model flux",
         basis: "ECSS-E-ST-10-04C Rev.1 Annex J.2.3.2: flux uncertainty at a given mass at least a factor 0.33 to 3 (REFERENCES.md §1) [READ]",
+        null_base_ok: false,
     },
     InputSpec {
         name: "particle density",
@@ -78,6 +86,7 @@ pub const INPUTS: &[InputSpec] = &[
         change: Change::Values { low: "1.0", high: "3.0" },
         unit: "g/cm^3",
         basis: "low: 1 g/cm^3, the density the ECSS alternative (Divine-type) model uses between 1e-6 g and 0.01 g (REFERENCES.md §2) [READ]; high: 3 g/cm^3, stony material, engineering assumption",
+        null_base_ok: false,
     },
     InputSpec {
         name: "hole factor (hole width / particle diameter)",
@@ -85,6 +94,26 @@ pub const INPUTS: &[InputSpec] = &[
         change: Change::Values { low: "1.0", high: "2.1" },
         unit: "-",
         basis: "REFERENCES-damage.md sensitivity table: low 1.0 thin-film limit (Francesconi et al. 2013) [READ]; high 2.1 Sawle-type law at 30 km/s [MEMORY law, COMPUTED value]",
+        null_base_ok: false,
+    },
+    InputSpec {
+        name: "oblique hole footprint (ellipse along the track)",
+        paths: &["damage.oblique_footprint"],
+        change: Change::Values { low: "false", high: "true" },
+        unit: "on/off",
+        basis: "REFERENCES-damage.md sensitivity table, oblique elongation: low round hole (no elongation); high ellipse d_p x d_p/cos(theta), cos(theta) capped at damage.min_cos_incidence [DERIVED geometry, an upper bound at grazing incidence]; damage grows markedly at highly oblique angles (Francesconi et al. 2013) [READ]",
+        null_base_ok: true,
+    },
+    InputSpec {
+        name: "notch model (residual strength of a holed ribbon)",
+        paths: &["tether.material.notch_model"],
+        change: Change::Values {
+            low: r#"{"model":"net_section"}"#,
+            high: r#"{"model":"point_stress","characteristic_length_mm":1.0,"kt_infinite":3.0,"finite_width_correction":true,"basis":"REFERENCES-damage.md 2.6: cross-plied or woven fibre films, Whitney-Nuismer with d_0 of order 1 mm until tests exist [MEMORY / physical reasoning]"}"#,
+        },
+        unit: "model",
+        basis: "REFERENCES-damage.md sensitivity table, notch model: low net section (1 - D/W), the notch-insensitive bound; high Whitney-Nuismer point stress, d_0 = 1 mm, K_T = 3 with the isotropic finite-width correction (Whitney & Nuismer 1974 [READ] abstract, formulas [READ-sec]; d_0 = 1 mm [MEMORY])",
+        null_base_ok: false,
     },
     InputSpec {
         name: "load-sharing rule",
@@ -92,6 +121,7 @@ pub const INPUTS: &[InputSpec] = &[
         change: Change::Values { low: "\"none\"", high: "\"local\"" },
         unit: "rule",
         basis: "bounds of the cross-link behaviour: none (each ribbon keeps its share) to local (Harlow–Phoenix nearest-neighbour); engineering assumption",
+        null_base_ok: false,
     },
     InputSpec {
         name: "climber load on the bay (traffic load)",
@@ -99,6 +129,7 @@ pub const INPUTS: &[InputSpec] = &[
         change: Change::Scale { low: 0.0, high: 2.0 },
         unit: "N",
         basis: "no climber on the bay to twice the design traffic load; engineering assumption",
+        null_base_ok: false,
     },
     InputSpec {
         name: "detection delay",
@@ -106,6 +137,7 @@ pub const INPUTS: &[InputSpec] = &[
         change: Change::Values { low: "0.5", high: "48.0" },
         unit: "h",
         basis: "continuous monitoring (30 min) to a two-day inspection latency; engineering assumption",
+        null_base_ok: false,
     },
     InputSpec {
         name: "climber speeds (up and down)",
@@ -113,6 +145,7 @@ pub const INPUTS: &[InputSpec] = &[
         change: Change::Scale { low: 0.5, high: 2.0 },
         unit: "m/s",
         basis: "half to twice the design speeds; engineering assumption",
+        null_base_ok: false,
     },
     InputSpec {
         name: "resupply interval",
@@ -120,6 +153,7 @@ pub const INPUTS: &[InputSpec] = &[
         change: Change::Scale { low: 0.5, high: 2.0 },
         unit: "days",
         basis: "half to twice the planned interval; engineering assumption",
+        null_base_ok: false,
     },
 ];
 
@@ -402,7 +436,7 @@ pub fn run_sensitivity(
             .collect();
         if let Some(k) = current
             .iter()
-            .position(|c| c.is_none() || c == &Some(&Value::Null))
+            .position(|c| c.is_none() || (c == &Some(&Value::Null) && !input.null_base_ok))
         {
             skipped.push(SkippedInput {
                 input: input.name.into(),

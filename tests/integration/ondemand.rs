@@ -18,7 +18,7 @@
 //! - Reproducibility of each sampler across threads and shards is in `determinism`.
 
 use serde_json::{json, Value};
-use statrs::distribution::{ChiSquared, ContinuousCDF};
+
 use tether_risk::engine::{stream, Engine, LogEvent, Purpose, Sampler};
 use tether_risk::model::Model;
 use tether_risk::stats::{ks_p_value, ks_statistic};
@@ -27,45 +27,6 @@ use crate::util::*;
 
 /// Significance level of every goodness-of-fit test here (see [`STAT_ALPHA`]).
 const ALPHA: f64 = STAT_ALPHA;
-
-/// Pearson's chi-square test of homogeneity of two count vectors; cells whose pooled count is
-/// below 5 are merged with the next. Returns (statistic, degrees of freedom, p-value).
-fn homogeneity_p_value(a: &[u64], b: &[u64]) -> (f64, usize, f64) {
-    let mut cells: Vec<(f64, f64)> = Vec::new();
-    let (mut pa, mut pb) = (0.0, 0.0);
-    for (&x, &y) in a.iter().zip(b) {
-        pa += x as f64;
-        pb += y as f64;
-        if pa + pb >= 5.0 {
-            cells.push((pa, pb));
-            pa = 0.0;
-            pb = 0.0;
-        }
-    }
-    if pa + pb > 0.0 {
-        match cells.last_mut() {
-            Some(c) => {
-                c.0 += pa;
-                c.1 += pb;
-            }
-            None => cells.push((pa, pb)),
-        }
-    }
-    let (na, nb): (f64, f64) = cells.iter().fold((0.0, 0.0), |s, c| (s.0 + c.0, s.1 + c.1));
-    let n = na + nb;
-    let mut stat = 0.0;
-    for &(x, y) in &cells {
-        let col = x + y;
-        let (ea, eb) = (col * na / n, col * nb / n);
-        stat += (x - ea).powi(2) / ea + (y - eb).powi(2) / eb;
-    }
-    let df = cells.len().saturating_sub(1);
-    if df == 0 {
-        return (0.0, 0, 1.0);
-    }
-    let p = 1.0 - ChiSquared::new(df as f64).unwrap().cdf(stat);
-    (stat, df, p)
-}
 
 /// Outcome counts [no loss, direct cut, cascade, stock-out delay] and cut events by band.
 fn outcomes(model: &Model, sampler: Sampler, histories: u64, seed: u64) -> (Vec<u64>, Vec<u64>) {
@@ -105,7 +66,7 @@ fn compare(name: &str, v: Value, histories: u64) {
         total_events > 1000,
         "{name}: too few cut events ({total_events}) to test"
     );
-    let (s, df, p) = homogeneity_p_value(&oa, &ob);
+    let (s, df, p) = homogeneity(&oa, &ob);
     eprintln!(
         "{name}: outcomes on-demand {oa:?} every-strike {ob:?}: chi2 {s:.2} df {df} p {p:.3}"
     );
@@ -113,7 +74,7 @@ fn compare(name: &str, v: Value, histories: u64) {
         p > ALPHA,
         "{name}: outcomes differ: {oa:?} vs {ob:?} (p = {p:e})"
     );
-    let (s, df, p) = homogeneity_p_value(&ea, &eb);
+    let (s, df, p) = homogeneity(&ea, &eb);
     eprintln!("{name}: cut events by band on-demand {ea:?} every-strike {eb:?}: chi2 {s:.2} df {df} p {p:.3}");
     assert!(
         p > ALPHA,

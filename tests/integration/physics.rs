@@ -171,6 +171,13 @@ fn profile_and_check_json_fields() {
         codes.contains(&"traffic_envelope_below_climber_weight"),
         "{codes:?}"
     );
+    // The demo's two decisive damage assumptions are named: the round constant hole and the
+    // notch-insensitive net section (REFERENCES-damage.md §1.3 and §2.6).
+    assert!(codes.contains(&"constant_hole_factor"), "{codes:?}");
+    assert!(
+        codes.contains(&"net_section_notch_insensitive"),
+        "{codes:?}"
+    );
     // Raising the envelope above the heaviest loaded climber removes that warning.
     let p = scenario_with("traffic-ok", |v| {
         v["tether"]["traffic_load_n"] = 1200.0.into()
@@ -182,6 +189,26 @@ fn profile_and_check_json_fields() {
         .unwrap()
         .iter()
         .any(|w| w["code"] == "traffic_envelope_below_climber_weight"));
+    // A notch-sensitive material does not get the net-section warning.
+    let p = scenario_with("notch-wn", |v| {
+        v["tether"]["material"]["notch_model"] = serde_json::json!({
+            "model": "point_stress", "characteristic_length_mm": 1.0, "kt_infinite": 3.0,
+            "basis": "engineering assumption"
+        })
+    });
+    let o = run(&["check", p.to_str().unwrap(), "--format", "json"]);
+    let v: serde_json::Value = serde_json::from_str(&stdout(&o)).unwrap();
+    let codes: Vec<&str> = v["warnings"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|w| w["code"].as_str().unwrap())
+        .collect();
+    assert!(
+        !codes.contains(&"net_section_notch_insensitive"),
+        "{codes:?}"
+    );
+    assert!(codes.contains(&"edge_holes_rated_as_central"), "{codes:?}");
 }
 
 /// The critical widths of `check`/`profile` follow the notch model: Whitney–Nuismer point

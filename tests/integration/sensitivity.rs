@@ -85,6 +85,29 @@ fn sensitivity_table_json_and_chart() {
                 .as_f64()
                 .unwrap()
     );
+    // The oblique footprint applies although the base leaves it at the law's default (null):
+    // an ellipse d_p x d_p/cos(theta) removes more width than the round hole (REFERENCES-damage
+    // §1.2, geometry), so the high end loses more.
+    let foot = rows
+        .iter()
+        .find(|r| r["input"] == "oblique hole footprint (ellipse along the track)")
+        .expect("footprint row");
+    assert!(foot["base"].is_null(), "{}", foot["base"]);
+    let est = |r: &Value, k: &str| r[k]["loss_probability"]["estimate"].as_f64().unwrap();
+    assert!(est(foot, "loss_high") > est(foot, "loss_low"), "{foot}");
+    // The notch model runs net section against Whitney–Nuismer point stress.
+    let notch = rows
+        .iter()
+        .find(|r| r["input"] == "notch model (residual strength of a holed ribbon)")
+        .expect("notch row");
+    assert_eq!(notch["high"]["model"], "point_stress");
+    assert!(est(notch, "loss_high") >= est(notch, "loss_low"), "{notch}");
+    let md = std::fs::read_to_string(dir.join("sensitivity.md")).unwrap();
+    assert!(
+        md.contains("false .. true on/off (base model default)"),
+        "{md}"
+    );
+    assert!(md.contains("net_section .. point_stress model"), "{md}");
     for f in ["sensitivity.csv", "sensitivity.md", "sensitivity.json"] {
         assert!(dir.join(f).exists(), "{f}");
     }

@@ -187,43 +187,6 @@ fn on_demand_cuts_by_day_agree_with_the_strike_by_strike_reference() {
     assert!(peak_rate > 5.0 * background_rate, "{a:?}");
 }
 
-/// Pearson's chi-square test of homogeneity of two count vectors (cells pooled below 5).
-fn homogeneity(a: &[u64], b: &[u64]) -> (f64, usize, f64) {
-    let mut cells: Vec<(f64, f64)> = Vec::new();
-    let (mut pa, mut pb) = (0.0, 0.0);
-    for (&x, &y) in a.iter().zip(b) {
-        pa += x as f64;
-        pb += y as f64;
-        if pa + pb >= 5.0 {
-            cells.push((pa, pb));
-            pa = 0.0;
-            pb = 0.0;
-        }
-    }
-    if pa + pb > 0.0 {
-        if let Some(c) = cells.last_mut() {
-            c.0 += pa;
-            c.1 += pb;
-        }
-    }
-    let (na, nb) = cells.iter().fold((0.0, 0.0), |s, c| (s.0 + c.0, s.1 + c.1));
-    let n = na + nb;
-    let stat: f64 = cells
-        .iter()
-        .map(|&(x, y)| {
-            let col = x + y;
-            let (ea, eb) = (col * na / n, col * nb / n);
-            (x - ea).powi(2) / ea + (y - eb).powi(2) / eb
-        })
-        .sum();
-    let df = cells.len() - 1;
-    (
-        stat,
-        df,
-        1.0 - ChiSquared::new(df as f64).unwrap().cdf(stat),
-    )
-}
-
 #[test]
 fn an_empty_stream_list_is_the_default_bit_for_bit() {
     let a = scenario_with("streams-none", |_| {});

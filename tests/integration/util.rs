@@ -3,6 +3,8 @@
 use std::path::PathBuf;
 use std::process::{Command, Output, Stdio};
 
+use statrs::distribution::{ChiSquared, ContinuousCDF};
+
 pub const DEMO: &str = include_str!("../../src/scenario/demo.json");
 
 /// Significance level of every goodness-of-fit test of the statistical tier
@@ -100,4 +102,43 @@ pub fn one_bay_validation(lambda_per_day: f64, mu_per_day: f64, crews: u32) -> s
         "required_ribbons": 1
     });
     v
+}
+
+/// Pearson's chi-square test of homogeneity of two count vectors; cells whose pooled count is
+/// below 5 are merged with the next. Returns (statistic, degrees of freedom, p-value).
+pub fn homogeneity(a: &[u64], b: &[u64]) -> (f64, usize, f64) {
+    let mut cells: Vec<(f64, f64)> = Vec::new();
+    let (mut pa, mut pb) = (0.0, 0.0);
+    for (&x, &y) in a.iter().zip(b) {
+        pa += x as f64;
+        pb += y as f64;
+        if pa + pb >= 5.0 {
+            cells.push((pa, pb));
+            pa = 0.0;
+            pb = 0.0;
+        }
+    }
+    if pa + pb > 0.0 {
+        match cells.last_mut() {
+            Some(c) => {
+                c.0 += pa;
+                c.1 += pb;
+            }
+            None => cells.push((pa, pb)),
+        }
+    }
+    let (na, nb): (f64, f64) = cells.iter().fold((0.0, 0.0), |s, c| (s.0 + c.0, s.1 + c.1));
+    let n = na + nb;
+    let mut stat = 0.0;
+    for &(x, y) in &cells {
+        let col = x + y;
+        let (ea, eb) = (col * na / n, col * nb / n);
+        stat += (x - ea).powi(2) / ea + (y - eb).powi(2) / eb;
+    }
+    let df = cells.len().saturating_sub(1);
+    if df == 0 {
+        return (0.0, 0, 1.0);
+    }
+    let p = 1.0 - ChiSquared::new(df as f64).unwrap().cdf(stat);
+    (stat, df, p)
 }
