@@ -193,6 +193,50 @@ fn climber_power(model: &Model) -> Option<(String, serde_json::Value)> {
     Some((line, json))
 }
 
+/// The looped-ribbon repair concept: haul speed, pulley stations and their splice positions,
+/// and the haul time to the station and back over the bays. None without repair or under the
+/// climber concept.
+fn looped_repair(model: &Model) -> Option<(String, serde_json::Value)> {
+    let r = model.scenario.repair.as_ref()?;
+    let l = r.looped.as_ref()?;
+    let plan =
+        tether_risk::repair::RepairPlan::new(r, &model.profile, model.scenario.run.mission_s);
+    let lp = plan.looped.as_ref()?;
+    let hauls: Vec<f64> = (0..lp.haul_distance_m.len())
+        .map(|j| 2.0 * lp.haul_s(j) / 3600.0)
+        .collect();
+    let n = hauls.len().max(1) as f64;
+    let mean = hauls.iter().sum::<f64>() / n;
+    let max = hauls.iter().copied().fold(0.0, f64::max);
+    let min = hauls.iter().copied().fold(f64::INFINITY, f64::min);
+    let pulleys: Vec<&str> = r
+        .stations
+        .iter()
+        .zip(&l.pulley)
+        .filter(|(_, &p)| p)
+        .map(|(s, _)| s.name.as_str())
+        .collect();
+    let line = format!(
+        "Repair concept: looped ribbon; loops hauled at {} m/s to the nearest pulley station ({}; {} splice positions each, {} h per splice); haul to the station and back over the bays: min {:.3} h, mean {:.3} h, max {:.3} h\n",
+        l.haul_speed_m_per_s,
+        pulleys.join(", "),
+        l.station_splice_capacity,
+        l.station_splice_s / 3600.0,
+        min.min(max),
+        mean,
+        max
+    );
+    let json = serde_json::json!({
+        "concept": "looped_ribbon",
+        "haul_speed_m_per_s": l.haul_speed_m_per_s,
+        "pulley_stations": pulleys,
+        "station_splice_capacity": l.station_splice_capacity,
+        "station_splice_hours": l.station_splice_s / 3600.0,
+        "haul_time_both_ways_hours": {"min": min.min(max), "mean": mean, "max": max},
+    });
+    Some((line, json))
+}
+
 /// One `check` line per meteor stream: its peak, and the holes able to sever in some load
 /// state (at least the smallest severing hole) it adds over the mission against the
 /// background's.
@@ -261,7 +305,12 @@ fn stream_text(c: &StreamCheck) -> String {
 
 pub fn run(a: Args) -> anyhow::Result<()> {
     let model = load_model(&a.file)?;
-    let power = climber_power(&model);
+    let looped = looped_repair(&model);
+    let power = if looped.is_some() {
+        None // no climber travels under the looped-ribbon concept
+    } else {
+        climber_power(&model)
+    };
     let streams = stream_checks(&model)?;
     let s = DesignSummary::from_model(&model);
     let work = if model.scenario.validation_mode.is_none() {
@@ -279,6 +328,9 @@ pub fn run(a: Args) -> anyhow::Result<()> {
                 obj.insert("warnings".into(), serde_json::to_value(&warnings)?);
                 if let Some((_, p)) = &power {
                     obj.insert("climber_power".into(), p.clone());
+                }
+                if let Some((_, l)) = &looped {
+                    obj.insert("repair_concept".into(), l.clone());
                 }
                 if let Some(w) = &work {
                     obj.insert("work_estimate".into(), serde_json::to_value(w)?);
@@ -330,6 +382,9 @@ pub fn run(a: Args) -> anyhow::Result<()> {
         Format::Text => {
             let mut text = s.to_text();
             if let Some((line, _)) = &power {
+                text.push_str(line);
+            }
+            if let Some((line, _)) = &looped {
                 text.push_str(line);
             }
             if let Some(w) = &work {

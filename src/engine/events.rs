@@ -435,8 +435,26 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
         match ev.kind {
             EventKind::Detect { bay } => {
                 let rt = &mut self.tally.repair;
-                fleet.on_detect(bay, self.scratch.cuts_in(bay), t, rt);
+                if plan.looped.is_some() {
+                    fleet.start_haul(plan, bay, t, rt);
+                } else {
+                    fleet.on_detect(bay, self.scratch.cuts_in(bay), t, rt);
+                    fleet.dispatch(plan, policy, t, rt);
+                }
+            }
+            EventKind::HauledIn { station, bay } => {
+                let rt = &mut self.tally.repair;
+                fleet.on_hauled_in(station, bay, self.scratch.cuts_in(bay), t, rt);
                 fleet.dispatch(plan, policy, t, rt);
+            }
+            EventKind::StationSpliceDone { station, bay } => {
+                fleet.on_station_splice_done(plan, station, bay, t);
+                fleet.dispatch(plan, policy, t, &mut self.tally.repair);
+            }
+            EventKind::LengthInPlace { station, bay } => {
+                fleet.on_length_in_place(plan, bay, &mut self.tally.repair);
+                // The looped concept refuses preventive replacement: a plain splice.
+                self.on_splice(&mut fleet, plan, t, station, bay, 1);
             }
             EventKind::Arrive {
                 station,
@@ -491,7 +509,9 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
         }
         let flow = if self.e.strict {
             let bay = match ev.kind {
-                EventKind::SpliceDone { bay, .. } | EventKind::Detect { bay } => Some(bay),
+                EventKind::SpliceDone { bay, .. }
+                | EventKind::Detect { bay }
+                | EventKind::LengthInPlace { bay, .. } => Some(bay),
                 _ => Some(u32::MAX),
             };
             match self

@@ -650,6 +650,32 @@ pub struct RepairSummary {
     /// Inspection and preventive replacement tallies (absent without the policy).
     #[serde(default)]
     pub preventive: Option<PreventiveSummary>,
+    /// The repair concept (`climbers` or `looped_ribbon`; absent in older files: climbers).
+    #[serde(default = "climbers_concept")]
+    pub concept: String,
+    /// What the looped-ribbon concept did (absent under the climber concept).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub looped: Option<LoopedSummary>,
+}
+
+fn climbers_concept() -> String {
+    "climbers".into()
+}
+
+/// What the looped-ribbon repair concept did.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct LoopedSummary {
+    /// Repairs by concept: lengths hauled, spliced and back in place, all histories.
+    pub repairs: u64,
+    /// Damaged lengths hauled towards a station (repairs started), all histories.
+    pub hauls_started: u64,
+    /// Haul time per completed repair, to the station and back, hours (quantiles from the
+    /// 2.3 %-bin histogram).
+    pub haul_time_hours: DurationStats,
+    /// Mean wait at the station for a splice position or a spare, hours per hauled length.
+    pub mean_station_wait_hours: f64,
+    /// Busy time of the stations' splice positions over the time available.
+    pub splice_position_utilisation: f64,
 }
 
 /// What the inspection and preventive-replacement policy did.
@@ -822,15 +848,58 @@ impl RunSummary {
                 )
             })
             .collect();
+        let looped = plan.looped.as_ref().map(|l| {
+            let total: u64 = rt.haul_time_hist.iter().sum();
+            let q = |p: f64| {
+                if total > 0 {
+                    RepairTally::splice_bin_centre_hours(
+                        count_quantile(&rt.haul_time_hist, p) as usize
+                    )
+                } else {
+                    0.0
+                }
+            };
+            let positions: u32 = l.splice_positions.iter().sum();
+            LoopedSummary {
+                repairs: rt.looped_repairs,
+                hauls_started: rt.hauls,
+                haul_time_hours: DurationStats {
+                    mean: if rt.looped_repairs > 0 {
+                        rt.haul_time_sum_s as f64 / rt.looped_repairs as f64 / 3600.0
+                    } else {
+                        0.0
+                    },
+                    p50: q(0.5),
+                    p90: q(0.9),
+                    p99: q(0.99),
+                },
+                mean_station_wait_hours: wait_h,
+                splice_position_utilisation: if positions > 0 && tally.time_observed_s > 0 {
+                    rt.busy_s as f64 / (f64::from(positions) * tally.time_observed_s as f64)
+                } else {
+                    0.0
+                },
+            }
+        });
         Some((
             RepairSummary {
+                concept: if looped.is_some() {
+                    "looped_ribbon"
+                } else {
+                    "climbers"
+                }
+                .into(),
+                looped,
                 time_to_splice_hours,
                 splices_per_year: if years > 0.0 {
                     rt.splices as f64 / h / years
                 } else {
                     0.0
                 },
-                climber_utilisation: if climbers > 0 && tally.time_observed_s > 0 {
+                climber_utilisation: if plan.looped.is_none()
+                    && climbers > 0
+                    && tally.time_observed_s > 0
+                {
                     rt.busy_s as f64 / (f64::from(climbers) * tally.time_observed_s as f64)
                 } else {
                     0.0

@@ -236,6 +236,17 @@ pub fn repair_mean_time_along_line_s(
         DetectionSpec::Exponential { mean_hours } => mean_hours * hour,
         DetectionSpec::PeriodicInspection { interval_hours } => 0.5 * interval_hours * hour,
     };
+    if let Some(l) = repair.looped.as_ref() {
+        // Looped ribbon: haul to the nearest pulley station, splice there, haul back.
+        let d = repair
+            .stations
+            .iter()
+            .zip(&l.pulley)
+            .filter(|(_, &p)| p)
+            .map(|(s, _)| (at(s) - altitude_m).abs())
+            .min_by(f64::total_cmp)?;
+        return Some(detection_s + 2.0 * d / l.haul_speed_m_per_s + l.station_splice_s);
+    }
     let station = repair
         .stations
         .iter()
@@ -571,7 +582,11 @@ fn physical_assumptions(model: &Model, bound: Option<f64>) -> Vec<String> {
         LoadSharingSpec::None => "no load sharing: every ribbon keeps its intact share T/N, and a bay is lost only when all its ribbons are cut".into(),
     });
     match &sc.repair {
-        Some(_) => a.push("exponential repair: one climber per bay repairs one segment at a time, with exponential repair time of the stated mean (detection + turnaround + one-way travel from the nearest station with climbers + splice); no fleet contention, spare stock always on hand, resupply ignored".into()),
+        Some(r) => a.push(if r.looped.is_some() {
+            "exponential repair: one segment at a time per bay, with exponential repair time of the stated mean (detection + haul to the nearest pulley station and back + station splice); no splice-position contention, spare stock always on hand, resupply ignored".into()
+        } else {
+            "exponential repair: one climber per bay repairs one segment at a time, with exponential repair time of the stated mean (detection + turnaround + one-way travel from the nearest station with climbers + splice); no fleet contention, spare stock always on hand, resupply ignored".into()
+        }),
         None => a.push("no repair".into()),
     }
     match (&sc.damage, bound) {
@@ -796,6 +811,7 @@ mod tests {
             preventive: None,
             splice_p90_target_hours: None,
             solar: None,
+            looped: None,
         }
     }
 

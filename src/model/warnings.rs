@@ -35,7 +35,13 @@ pub struct DesignWarning {
 pub fn design_warnings(model: &Model) -> Vec<DesignWarning> {
     let mut out = Vec::new();
     let traffic = model.scenario.tether.traffic_load_n;
-    if let Some((alt, w)) = climber::max_loaded_climber_weight(model) {
+    // No climber travels under the looped-ribbon repair concept.
+    let climbers_travel = model
+        .scenario
+        .repair
+        .as_ref()
+        .is_some_and(|r| r.looped.is_none());
+    if let Some((alt, w)) = climber::max_loaded_climber_weight(model).filter(|_| climbers_travel) {
         if traffic < w {
             let mass = climber::loaded_climber_mass_kg(model).unwrap_or(0.0);
             out.push(DesignWarning {

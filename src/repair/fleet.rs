@@ -56,6 +56,27 @@ pub enum EventKind {
         /// Bay.
         bay: u32,
     },
+    /// Looped ribbon: the damaged length of a cut in `bay` has been hauled to `station`.
+    HauledIn {
+        /// Pulley station.
+        station: u32,
+        /// Bay.
+        bay: u32,
+    },
+    /// Looped ribbon: a new length for `bay` is spliced in at `station`; the haul back starts.
+    StationSpliceDone {
+        /// Pulley station.
+        station: u32,
+        /// Bay.
+        bay: u32,
+    },
+    /// Looped ribbon: the new length is in place in `bay` (the segment carries load again).
+    LengthInPlace {
+        /// Pulley station it came from.
+        station: u32,
+        /// Bay.
+        bay: u32,
+    },
     /// A periodic inspection of the lowest bays is due.
     InspectionDue,
     /// An inspection climber from `station` is at the middle of `bay`, sweeping up or down,
@@ -205,6 +226,23 @@ pub struct RepairTally {
     /// Per segment sent, summed: time on site from arrival to the end of the trip's splices, s.
     #[serde(default)]
     pub trip_splice_sum_s: u64,
+    /// Looped ribbon: damaged lengths hauled to a station (repairs started).
+    #[serde(default, skip_serializing_if = "is_zero")]
+    pub hauls: u64,
+    /// Looped ribbon: repairs completed (new length in place).
+    #[serde(default, skip_serializing_if = "is_zero")]
+    pub looped_repairs: u64,
+    /// Looped ribbon: haul time of the completed repairs (to the station and back), summed, s.
+    #[serde(default, skip_serializing_if = "is_zero")]
+    pub haul_time_sum_s: u64,
+    /// Looped ribbon: histogram of the haul time of completed repairs (the time-to-splice
+    /// bins; empty under the climber concept).
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub haul_time_hist: Vec<u64>,
+}
+
+fn is_zero(x: &u64) -> bool {
+    *x == 0
 }
 
 impl RepairTally {
@@ -245,6 +283,10 @@ impl RepairTally {
         self.trip_travel_sum_s += o.trip_travel_sum_s;
         self.trip_wait_for_light_sum_s += o.trip_wait_for_light_sum_s;
         self.trip_splice_sum_s += o.trip_splice_sum_s;
+        self.hauls += o.hauls;
+        self.looped_repairs += o.looped_repairs;
+        self.haul_time_sum_s += o.haul_time_sum_s;
+        add(&mut self.haul_time_hist, &o.haul_time_hist);
         add(&mut self.stockout_histories, &o.stockout_histories);
         add(&mut self.stockout_events, &o.stockout_events);
         for (a, b) in [
@@ -307,6 +349,8 @@ pub struct Fleet {
     trip_travel: f64,
     trip_light_wait: f64,
     trip_splice: f64,
+    /// Looped ribbon: hauled-in lengths waiting at each station for a splice position or stock.
+    loop_jobs: Vec<Vec<Job>>,
 }
 
 impl Fleet {
@@ -332,6 +376,7 @@ impl Fleet {
             trip_travel: 0.0,
             trip_light_wait: 0.0,
             trip_splice: 0.0,
+            loop_jobs: (0..n).map(|_| Vec::with_capacity(8)).collect(),
         }
     }
 
@@ -340,11 +385,12 @@ impl Fleet {
         self.queue.clear();
         for (i, s) in plan.stations.iter().enumerate() {
             self.stock[i] = s.initial_stock;
-            self.idle[i] = s.climbers;
+            self.idle[i] = plan.servers(i);
             self.order_outstanding[i] = false;
             self.stockout_seen[i] = false;
         }
         self.jobs.clear();
+        self.loop_jobs.iter_mut().for_each(Vec::clear);
         self.demand.iter_mut().for_each(|d| *d = 0);
         self.waiting = 0;
         self.area = 0.0;
@@ -515,6 +561,126 @@ impl Fleet {
         for j in self.jobs.iter_mut().filter(|j| j.bay == bay) {
             j.cuts_in_bay = cuts_in_bay;
         }
+        for q in &mut self.loop_jobs {
+            for j in q.iter_mut().filter(|j| j.bay == bay) {
+                j.cuts_in_bay = cuts_in_bay;
+            }
+        }
+    }
+
+    /// Looped ribbon: a cut in `bay` is detected at `t`; its loop is hauled to the bay's
+    /// pulley station (arriving after the one-way haul time).
+    pub fn start_haul(&mut self, plan: &RepairPlan, bay: u32, t: f64, tally: &mut RepairTally) {
+        let Some(l) = plan.looped.as_ref() else {
+            return;
+        };
+        let j = bay as usize;
+        tally.hauls += 1;
+        self.queue.push(
+            t + l.haul_s(j),
+            EventKind::HauledIn {
+                station: l.haul_station[j],
+                bay,
+            },
+        );
+    }
+
+    /// Looped ribbon: the damaged length of a cut in `bay` reached `station` at `t`: it waits
+    /// there for a splice position and a spare (served by [`Fleet::dispatch`]).
+    pub fn on_hauled_in(
+        &mut self,
+        station: u32,
+        bay: u32,
+        cuts_in_bay: u32,
+        t: f64,
+        tally: &mut RepairTally,
+    ) {
+        self.advance_area(t);
+        self.waiting += 1;
+        tally.queue_arrivals += 1;
+        self.wait_sum -= t;
+        self.loop_jobs[station as usize].push(Job {
+            bay,
+            segments: 1,
+            detected_s: t,
+            cuts_in_bay,
+            stockout: false,
+        });
+    }
+
+    /// Looped ribbon: serve the lengths waiting at station `s` while it has a free splice
+    /// position and stock (the dispatch policy chooses among them; `detected_s` of a waiting
+    /// length is its arrival at the station).
+    fn serve_station(
+        &mut self,
+        plan: &RepairPlan,
+        policy: &dyn DispatchPolicy,
+        s: usize,
+        t: f64,
+        tally: &mut RepairTally,
+    ) {
+        let Some(l) = plan.looped.as_ref() else {
+            return;
+        };
+        while self.idle[s] > 0 && !self.loop_jobs[s].is_empty() {
+            let k = policy.choose(&self.loop_jobs[s], plan);
+            if self.stock[s] == 0 {
+                if !self.loop_jobs[s][k].stockout {
+                    self.loop_jobs[s][k].stockout = true;
+                    tally.stockout_events[s] += 1;
+                    self.stockout_seen[s] = true;
+                }
+                return;
+            }
+            let bay = self.loop_jobs[s][k].bay;
+            self.loop_jobs[s].swap_remove(k);
+            self.stock[s] -= 1;
+            self.idle[s] -= 1;
+            let interval = ((t / plan.demand_interval_s) as usize).min(self.intervals - 1);
+            self.demand[s * self.intervals + interval] += 1;
+            self.waiting -= 1;
+            self.wait_sum += t;
+            self.busy -= t;
+            tally.dispatched_segments += 1;
+            self.queue.push(
+                t + l.station_splice_s,
+                EventKind::StationSpliceDone {
+                    station: s as u32,
+                    bay,
+                },
+            );
+            self.reorder_if_low(plan, s, t);
+        }
+    }
+
+    /// Looped ribbon: the splice at `station` is done at `t`: the position is free, and the
+    /// loop is hauled back until the new length is in place in `bay`.
+    pub fn on_station_splice_done(&mut self, plan: &RepairPlan, station: u32, bay: u32, t: f64) {
+        let Some(l) = plan.looped.as_ref() else {
+            return;
+        };
+        self.advance_area(t);
+        self.idle[station as usize] += 1;
+        self.busy += t;
+        self.queue.push(
+            t + l.haul_s(bay as usize),
+            EventKind::LengthInPlace { station, bay },
+        );
+    }
+
+    /// Looped ribbon: count a completed repair of `bay` and its haul time (both ways).
+    pub fn on_length_in_place(&mut self, plan: &RepairPlan, bay: u32, tally: &mut RepairTally) {
+        let Some(l) = plan.looped.as_ref() else {
+            return;
+        };
+        let haul = 2.0 * l.haul_s(bay as usize);
+        if tally.haul_time_hist.is_empty() {
+            // Once per tally (the climber concept never holds one).
+            tally.haul_time_hist = vec![0; SPLICE_BINS_PER_DECADE * SPLICE_HIST_DECADES];
+        }
+        tally.haul_time_hist[RepairTally::splice_bin(haul / 3600.0)] += 1;
+        tally.haul_time_sum_s += haul.round() as u64;
+        tally.looped_repairs += 1;
     }
 
     /// A detection event: the cut joins (or becomes) its bay's waiting job.
@@ -548,6 +714,12 @@ impl Fleet {
     ) {
         // Close the span before this instant under the state that held during it.
         self.advance_area(t);
+        if plan.looped.is_some() {
+            for s in 0..plan.stations.len() {
+                self.serve_station(plan, policy, s, t, tally);
+            }
+            return;
+        }
         while !self.jobs.is_empty() && self.idle.iter().any(|&c| c > 0) {
             let k = policy.choose(&self.jobs, plan);
             let bay = self.jobs[k].bay as usize;
@@ -776,7 +948,7 @@ impl Fleet {
             .stations
             .iter()
             .enumerate()
-            .map(|(i, s)| s.climbers - self.idle[i].min(s.climbers))
+            .map(|(i, _)| plan.servers(i) - self.idle[i].min(plan.servers(i)))
             .sum();
         let busy = self.busy + f64::from(busy_now) * end_s;
         tally.queue_wait_sum_s += wait_sum.max(0.0).round() as u64;
@@ -807,15 +979,16 @@ impl Fleet {
     /// idle climbers than it owns, waiting jobs hold segments, the waiting count matches them,
     /// and every pending event lies in the future of the last one handled.
     pub fn check(&self, plan: &RepairPlan) -> Option<&'static str> {
-        for (i, s) in plan.stations.iter().enumerate() {
-            if self.idle[i] > s.climbers {
-                return Some("more idle climbers than a station owns");
+        for i in 0..plan.stations.len() {
+            if self.idle[i] > plan.servers(i) {
+                return Some("more idle climbers (splice positions) than a station owns");
             }
         }
         if self.jobs.iter().any(|j| j.segments == 0) {
             return Some("an empty repair job is waiting");
         }
-        let waiting: u32 = self.jobs.iter().map(|j| j.segments).sum();
+        let waiting: u32 = self.jobs.iter().map(|j| j.segments).sum::<u32>()
+            + self.loop_jobs.iter().map(|q| q.len() as u32).sum::<u32>();
         if waiting != self.waiting {
             return Some("waiting-segment count out of step with the jobs");
         }
@@ -832,6 +1005,10 @@ impl Fleet {
     /// Whether a job waiting for stock exists for `bay`.
     pub fn bay_waits_for_stock(&self, bay: u32) -> bool {
         self.jobs.iter().any(|j| j.bay == bay && j.stockout)
+            || self
+                .loop_jobs
+                .iter()
+                .any(|q| q.iter().any(|j| j.bay == bay && j.stockout))
     }
 }
 

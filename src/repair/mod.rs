@@ -30,7 +30,8 @@ pub use fleet::{Event, EventKind, EventQueue, Fleet, RepairTally};
 pub use shade::ShadeMotion;
 
 use crate::scenario::{
-    DetectionSpec, DispatchSpec, RepairSettings, ReplacementThresholdSpec, ResupplySpec,
+    DetectionSpec, DispatchSpec, LoopedSettings, RepairSettings, ReplacementThresholdSpec,
+    ResupplySpec,
 };
 use crate::structure::TetherProfile;
 
@@ -120,6 +121,79 @@ pub struct RepairPlan {
     /// Solar climbers: how the Moon's shadow slows them (None: beamed power, travel at
     /// constant speed).
     pub shade: Option<ShadeMotion>,
+    /// The looped-ribbon concept (None: climbers).
+    pub looped: Option<LoopPlan>,
+}
+
+/// The looped-ribbon concept as the fleet needs it. Each ribbon runs as a loop over a pulley
+/// at a station. A detected cut in bay j is repaired in three steps: the loop is hauled until
+/// the damaged length reaches the nearest pulley station (haul distance: from the bay's middle
+/// to the station along the line, as a climber's travel is measured), the length is cut out
+/// and a new one spliced in at the station (one of its splice positions, one spare from its
+/// stock; waiting when all positions are busy or the stock is empty), and the loop is hauled
+/// back the same distance until the new length is in place. The bay stays weakened (the
+/// segment counts as cut) from the cut until the new length is in place. Hauls of different
+/// cuts do not delay each other (each loop has its own drive), and hauling does not change the
+/// state of the other bays the moving loop passes through (an engineering assumption).
+#[derive(Clone, Debug, PartialEq)]
+pub struct LoopPlan {
+    /// Haul speed, m/s.
+    pub haul_speed_m_per_s: f64,
+    /// Splice time at a station, s.
+    pub station_splice_s: f64,
+    /// Splice positions at each station (0 at stations without a pulley).
+    pub splice_positions: Vec<u32>,
+    /// The pulley station nearest bay j (ties: the first listed).
+    pub haul_station: Vec<u32>,
+    /// One-way haul distance of bay j to its station, m.
+    pub haul_distance_m: Vec<f64>,
+}
+
+impl LoopPlan {
+    /// The plan for stations at `station_m` along the line and bays with middles at
+    /// `bay_mid_m`.
+    pub fn new(l: &LoopedSettings, station_m: &[f64], bay_mid_m: &[f64]) -> Self {
+        let mut haul_station = Vec::with_capacity(bay_mid_m.len());
+        let mut haul_distance_m = Vec::with_capacity(bay_mid_m.len());
+        for &x in bay_mid_m {
+            let mut best: Option<(usize, f64)> = None;
+            for (s, &at) in station_m.iter().enumerate() {
+                if !l.pulley.get(s).copied().unwrap_or(false) {
+                    continue;
+                }
+                let d = (x - at).abs();
+                if best.is_none_or(|(_, b)| d < b) {
+                    best = Some((s, d));
+                }
+            }
+            let (s, d) = best.unwrap_or((0, 0.0));
+            haul_station.push(s as u32);
+            haul_distance_m.push(d);
+        }
+        LoopPlan {
+            haul_speed_m_per_s: l.haul_speed_m_per_s,
+            station_splice_s: l.station_splice_s,
+            splice_positions: station_m
+                .iter()
+                .enumerate()
+                .map(|(s, _)| {
+                    if l.pulley.get(s).copied().unwrap_or(false) {
+                        l.station_splice_capacity
+                    } else {
+                        0
+                    }
+                })
+                .collect(),
+            haul_station,
+            haul_distance_m,
+        }
+    }
+
+    /// One-way haul time of bay j, s.
+    #[inline]
+    pub fn haul_s(&self, j: usize) -> f64 {
+        self.haul_distance_m[j] / self.haul_speed_m_per_s
+    }
 }
 
 /// Inspection and preventive replacement as the fleet and the engine need it.
@@ -184,6 +258,21 @@ impl RepairPlan {
             Resupply::Periodic { interval_s, .. } => interval_s.min(mission_s.max(1.0)),
             _ => mission_s.max(1.0),
         };
+        let station_m: Vec<f64> = r
+            .stations
+            .iter()
+            .map(|s| {
+                crate::structure::line_position_of_altitude_m(
+                    s.altitude_m,
+                    profile.surface_run_length_m(),
+                )
+            })
+            .collect();
+        let bay_mid_m: Vec<f64> = profile.bays.iter().map(|b| b.line_mid_m()).collect();
+        let looped = r
+            .looped
+            .as_ref()
+            .map(|l| LoopPlan::new(l, &station_m, &bay_mid_m));
         RepairPlan {
             stations: r
                 .stations
@@ -223,6 +312,7 @@ impl RepairPlan {
                 inspection_spares: p.inspection_spares,
             }),
             shade: None,
+            looped,
         }
     }
 
@@ -283,6 +373,16 @@ impl RepairPlan {
             d / self.speed_up_m_per_s
         } else {
             -d / self.speed_down_m_per_s
+        }
+    }
+
+    /// Simultaneous repairs station `s` can serve: its climbers, or under the looped-ribbon
+    /// concept its splice positions.
+    #[inline]
+    pub fn servers(&self, s: usize) -> u32 {
+        match &self.looped {
+            Some(l) => l.splice_positions[s],
+            None => self.stations[s].climbers,
         }
     }
 

@@ -372,6 +372,20 @@ pub fn wait_sentence(r: &crate::engine::RepairSummary) -> String {
 /// shade (beamed power, or solar climbers that never met the shadow) the waiting part is
 /// stated as absent rather than as "0 h waiting for light".
 pub fn trip_sentence(r: &crate::engine::RepairSummary) -> String {
+    if let Some(l) = &r.looped {
+        let h = &l.haul_time_hours;
+        let utilisation = format!("{:.3} %", 100.0 * l.splice_position_utilisation);
+        return format!(
+            "looped-ribbon repairs: {} completed of {} hauls started; haul to the pulley station and back per repair: mean {} h, P50 {} h, P90 {} h; wait at the station for a splice position or a spare {} h; splice-position utilisation {}",
+            l.repairs,
+            l.hauls_started,
+            sig(h.mean, 3),
+            sig(h.p50, 3),
+            sig(h.p90, 3),
+            sig(l.mean_station_wait_hours, 3),
+            utilisation
+        );
+    }
     let light = if r.mean_wait_for_light_hours > 0.0 {
         format!(
             ", waiting for light {} h (solar climbers in the Moon's shadow)",

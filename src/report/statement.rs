@@ -54,7 +54,21 @@ pub fn monte_carlo_assumptions(s: &RunSummary, scenario: Option<&Value>) -> Vec<
         ),
         "the tether is lost when every ribbon of one bay is cut; one loss ends the history".into(),
     ];
+    let looped = repair.filter(|r| text(Some(r), "concept") == Some("looped_ribbon"));
     match repair {
+        Some(r) if looped.is_some() => {
+            let l = r.get("looped_ribbon");
+            let num = |k: &str| l.and_then(|l| l.get(k)).and_then(Value::as_f64).unwrap_or(0.0);
+            a.push(format!(
+                "looped-ribbon repair: each ribbon is a loop over pulleys at stations; a detected cut ({} detection) is hauled at {} m/s from its bay's middle to the nearest pulley station, waits there for one of {} splice positions and a spare, is spliced in {} h and hauled back; the bay stays weakened until the new length is in place; hauls do not delay each other and do not change the state of the other bays the moving loop passes through (engineering assumptions)",
+                text(r.get("detection"), "kind").unwrap_or("scenario's"),
+                sig(num("haul_speed_m_per_s"), 3),
+                l.and_then(|l| l.get("station_splice_capacity"))
+                    .and_then(Value::as_u64)
+                    .unwrap_or(0),
+                sig(num("station_splice_hours"), 3)
+            ));
+        }
         Some(r) => a.push(format!(
             "cut segments are detected ({} detection), dispatched by the {} rule from the nearest station with a free climber and a spare segment, and spliced back to intact strength",
             text(r.get("detection"), "kind").unwrap_or("scenario's"),
@@ -62,7 +76,7 @@ pub fn monte_carlo_assumptions(s: &RunSummary, scenario: Option<&Value>) -> Vec<
         )),
         None => a.push("no repair: cuts accumulate over the mission".into()),
     }
-    if let Some(r) = repair {
+    if let Some(r) = repair.filter(|_| looped.is_none()) {
         a.push(climber_power_assumption(
             r.get("climber").and_then(|c| c.get("power")),
         ));

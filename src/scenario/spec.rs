@@ -615,6 +615,80 @@ pub struct RepairSpec {
     /// names the smallest fleet that does (none by default).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub splice_p90_target_hours: Option<f64>,
+    /// How a cut segment is replaced: `climbers` (default: a climber carries a spare to the
+    /// bay and splices it there) or `looped_ribbon` (the ribbon is a loop over pulleys at
+    /// stations: the damaged length is hauled to a station, spliced there and hauled back).
+    #[serde(default)]
+    pub concept: RepairConceptSpec,
+    /// The looped-ribbon concept's settings (used only with `concept: looped_ribbon`; always
+    /// listed with their defaults, so a trade study can switch the concept alone).
+    #[serde(default)]
+    pub looped_ribbon: LoopedRibbonSpec,
+}
+
+/// The repair concept.
+#[derive(Clone, Copy, Debug, Serialize, Deserialize, PartialEq, Eq, Default)]
+#[serde(rename_all = "snake_case")]
+pub enum RepairConceptSpec {
+    /// Climbers carry spares to the bay and splice on site (the behaviour before this option).
+    #[default]
+    Climbers,
+    /// Ribbons are loops over pulleys at stations; damaged lengths are hauled to a station.
+    LoopedRibbon,
+}
+
+impl RepairConceptSpec {
+    /// The name as written in a scenario.
+    pub fn name(self) -> &'static str {
+        match self {
+            RepairConceptSpec::Climbers => "climbers",
+            RepairConceptSpec::LoopedRibbon => "looped_ribbon",
+        }
+    }
+}
+
+/// The looped-ribbon repair concept: each ribbon runs as a loop over a pulley at a station. A
+/// detected cut is repaired by hauling the loop until the whole damaged length (the far end of
+/// the cut segment) has reached the nearest pulley station, splicing a new length in there
+/// (one of `station_splice_capacity` splice positions, a spare from the station's stock), and
+/// hauling the loop back until the new length is in place. The defaults are invented
+/// engineering values (no source), of the order of the demo's climber settings.
+#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
+#[serde(deny_unknown_fields)]
+pub struct LoopedRibbonSpec {
+    /// Speed at which a loop is hauled along the line, m/s.
+    #[serde(default = "default_haul_speed")]
+    pub haul_speed_m_per_s: f64,
+    /// Time to splice one new length in at a station, hours.
+    #[serde(default = "default_station_splice_hours")]
+    pub station_splice_hours: f64,
+    /// Splices a station can work on at the same time (a whole number, at least 1).
+    #[serde(default = "default_station_splice_capacity")]
+    pub station_splice_capacity: u32,
+    /// Names of the stations that hold pulleys (empty: every station).
+    #[serde(default)]
+    pub pulley_stations: Vec<String>,
+}
+
+impl Default for LoopedRibbonSpec {
+    fn default() -> Self {
+        LoopedRibbonSpec {
+            haul_speed_m_per_s: default_haul_speed(),
+            station_splice_hours: default_station_splice_hours(),
+            station_splice_capacity: default_station_splice_capacity(),
+            pulley_stations: Vec::new(),
+        }
+    }
+}
+
+fn default_haul_speed() -> f64 {
+    20.0
+}
+fn default_station_splice_hours() -> f64 {
+    6.0
+}
+fn default_station_splice_capacity() -> u32 {
+    2
 }
 
 /// When a holed intact segment counts as worth replacing before it is cut.

@@ -137,6 +137,21 @@ pub struct RepairSettings {
     pub splice_p90_target_hours: Option<f64>,
     /// Solar power: how the shadow slows climbers (None: beamed power, no shade effect).
     pub solar: Option<SolarSettings>,
+    /// The looped-ribbon concept (None: climbers, the default).
+    pub looped: Option<LoopedSettings>,
+}
+
+/// The looped-ribbon repair concept in SI units.
+#[derive(Clone, Debug, PartialEq)]
+pub struct LoopedSettings {
+    /// Haul speed along the line, m/s.
+    pub haul_speed_m_per_s: f64,
+    /// Time to splice one new length in at a station, s.
+    pub station_splice_s: f64,
+    /// Simultaneous splices per pulley station.
+    pub station_splice_capacity: u32,
+    /// Whether station i holds a pulley (same order as `RepairSettings::stations`).
+    pub pulley: Vec<bool>,
 }
 
 /// A solar climber's behaviour in the Moon's shadow, in SI units.
@@ -979,7 +994,8 @@ fn validate_repair(r: &RepairSpec, top_altitude_m: f64) -> Result<RepairSettings
             initial_stock_segments: s.initial_stock_segments,
         });
     }
-    if total_climbers == 0 {
+    let looped = validate_looped(r)?;
+    if total_climbers == 0 && looped.is_none() {
         return Err(ScenarioError::Model {
             path: "repair.stations".into(),
             message: "no station has a climber, so no repair can ever happen (use \"repair\": null for no repair)".into(),
@@ -1144,7 +1160,95 @@ fn validate_repair(r: &RepairSpec, top_altitude_m: f64) -> Result<RepairSettings
         preventive,
         splice_p90_target_hours: r.splice_p90_target_hours,
         solar,
+        looped,
     })
+}
+
+/// The looped-ribbon settings (checked whatever the concept, so a sweep can switch it), and
+/// the options that belong to climbers refused under that concept.
+fn validate_looped(r: &RepairSpec) -> Result<Option<LoopedSettings>, ScenarioError> {
+    let q = "repair.looped_ribbon";
+    let l = &r.looped_ribbon;
+    let speed = check(
+        &format!("{q}.haul_speed_m_per_s"),
+        l.haul_speed_m_per_s,
+        Range::open_closed(0.0, 1e4),
+        "m/s",
+        "speed at which a ribbon loop is hauled along the line",
+    )?;
+    let splice = check(
+        &format!("{q}.station_splice_hours"),
+        l.station_splice_hours,
+        Range::closed(0.0, 1e5),
+        "h",
+        "time to splice one new length in at a station",
+    )?;
+    check_count(
+        &format!("{q}.station_splice_capacity"),
+        u64::from(l.station_splice_capacity),
+        1,
+        10_000,
+        "simultaneous splices per station",
+    )?;
+    let mut pulley = vec![l.pulley_stations.is_empty(); r.stations.len()];
+    for (i, name) in l.pulley_stations.iter().enumerate() {
+        let key = name.trim().to_lowercase();
+        match r
+            .stations
+            .iter()
+            .position(|s| s.name.trim().to_lowercase() == key)
+        {
+            Some(k) => pulley[k] = true,
+            None => {
+                return Err(ScenarioError::Model {
+                    path: format!("{q}.pulley_stations[{i}]"),
+                    message: format!(
+                    "{name:?} is not a station name; allowed: the names in repair.stations ({})",
+                    r.stations
+                        .iter()
+                        .map(|s| format!("{:?}", s.name))
+                        .collect::<Vec<_>>()
+                        .join(", ")
+                ),
+                })
+            }
+        }
+    }
+    if r.concept != RepairConceptSpec::LoopedRibbon {
+        return Ok(None);
+    }
+    let refuse = |path: &str, what: &str| {
+        ScenarioError::Model {
+        path: path.into(),
+        message: format!(
+            "{what} belongs to the climber concept; with repair.concept = \"looped_ribbon\" no climber travels, so it cannot be honoured (remove it or use \"climbers\")"
+        ),
+    }
+    };
+    if !r.climber.power.is_beamed() {
+        return Err(refuse(
+            "repair.climber.power",
+            "solar power (climbers slowed in the Moon's shadow)",
+        ));
+    }
+    if r.climber.load_on_bays {
+        return Err(refuse(
+            "repair.climber.load_on_bays",
+            "a climber's weight on the bays it is in",
+        ));
+    }
+    if r.preventive_replacement.is_some() {
+        return Err(refuse(
+            "repair.preventive_replacement",
+            "inspection and preventive replacement at climber visits and inspection trips",
+        ));
+    }
+    Ok(Some(LoopedSettings {
+        haul_speed_m_per_s: speed,
+        station_splice_s: splice * 3600.0,
+        station_splice_capacity: l.station_splice_capacity,
+        pulley,
+    }))
 }
 
 fn validate_power(

@@ -32,7 +32,7 @@ const ALPHA: f64 = STAT_ALPHA;
 // ---------------------------------------------------------------------------------------------
 
 /// The demo scenario changed by `f`, built into a model.
-fn model_with(f: impl FnOnce(&mut Value)) -> Model {
+pub(crate) fn model_with(f: impl FnOnce(&mut Value)) -> Model {
     let mut v: Value = serde_json::from_str(DEMO).unwrap();
     f(&mut v);
     let spec = parse_spec(&v.to_string()).expect("test scenario parses");
@@ -42,7 +42,7 @@ fn model_with(f: impl FnOnce(&mut Value)) -> Model {
 
 /// Common changes for the closed-form scenarios: no repair, the 1/3-of-width criterion, and an
 /// untapered PBO ribbon without knock-downs (feasible: smallest intact margin about 1.3).
-fn closed_form_base(v: &mut Value, ribbons: u32, mission_years: f64) {
+pub(crate) fn closed_form_base(v: &mut Value, ribbons: u32, mission_years: f64) {
     v["repair"] = Value::Null;
     v["damage"] = json!({"law": "fraction_of_width", "fraction": 0.3333333333333333});
     v["tether"]["load_sharing"] = json!("none");
@@ -108,7 +108,7 @@ fn local_multiplier(model: &Model, j: usize) -> f64 {
 
 /// Per-segment severing rate of bay j under the fraction-of-width law, per year:
 /// strikes by particles of diameter >= fraction x w on one ribbon over the bay length.
-fn severing_rate_per_segment_per_year(model: &Model, j: usize, fraction: f64) -> f64 {
+pub(crate) fn severing_rate_per_segment_per_year(model: &Model, j: usize, fraction: f64) -> f64 {
     let bay = &model.profile.bays[j];
     let w = bay.width_m;
     let per_m = ribbon_strike_rate_per_m_per_year(

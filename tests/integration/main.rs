@@ -19,6 +19,7 @@ mod hole_rate;
 mod issue13;
 mod issue14_reports;
 mod issue15;
+mod looped;
 mod ondemand;
 mod physics;
 mod policy;
