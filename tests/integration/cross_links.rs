@@ -251,3 +251,52 @@ fn check_profile_and_summary_report_the_option() {
         serde_json::from_str(&std::fs::read_to_string(dir.join("summary.json")).unwrap()).unwrap();
     assert!(s["cross_link_cuts_per_history"].as_f64().unwrap() > 0.0);
 }
+
+#[test]
+fn cross_link_strike_rate_is_the_flux_above_the_critical_mass_times_the_exposed_area() {
+    // Independent answer: F(1e-6 g) = 1.4880 per m^2 per year, ECSS-E-ST-10-04C Rev.1
+    // eq. (10-1) (Grün 1985) evaluated independently to 5 s.f. (the same value as
+    // tests/ref_environment.rs, computed), for the critical diameter whose sphere at 2.5 g/cm^3
+    // weighs 1e-6 g. Focusing off; Moon shielding of a randomly oriented plate, ECSS eqs.
+    // C-26/C-27: s = (1 + cos eta) / 2, sin eta = R / (R + h), R = 1737.4 km, at the station's
+    // altitude h; Earth shielding by the same equations with R + R_A = 6378 + 100 km at the
+    // station's distance from the Earth's centre, 384 400 km - 1737.4 km - h on the near side
+    // (mean Earth–Moon distance, from memory; its uncertainty moves s by far less than 1e-5).
+    let m_kg = 1e-9;
+    let d_mm = (6.0 * m_kg / (std::f64::consts::PI * 2500.0)).cbrt() * 1e3;
+    let area = 0.7;
+    for shielding in [false, true] {
+        let mut v = with_hits(area, 6, "equal", 1.0);
+        v["tether"]["cross_link_hits"]["critical_diameter_mm"] = json!(d_mm);
+        v["environment"]["moon_focusing"] = json!(false);
+        v["environment"]["earth_focusing"] = json!(false);
+        v["environment"]["moon_shielding"] = json!(shielding);
+        v["environment"]["moon_shielding_geometry"] = json!("random_plate");
+        let model = model_of(&v);
+        let rates = &model.cross_link_rate_per_year;
+        let bays = model.profile.bays.len();
+        assert_eq!(rates.len(), bays + 1);
+        assert_eq!(
+            (rates[0], rates[bays]),
+            (0.0, 0.0),
+            "ends are not cross-links"
+        );
+        for k in [1, 2, 20, bays / 2, bays - 1] {
+            let h = model.profile.bays[k].bottom_altitude_m;
+            let s = if shielding {
+                let sin_eta = 1737.4e3 / (1737.4e3 + h);
+                0.5 * (1.0 + (1.0 - sin_eta * sin_eta).sqrt())
+            } else {
+                1.0
+            };
+            let sin_e = 6478e3 / (384_400e3 - 1737.4e3 - h);
+            let s_earth = 0.5 * (1.0 + (1.0 - sin_e * sin_e).sqrt());
+            let want = 1.4880 * area * s * s_earth;
+            assert!(
+                (rates[k] / want - 1.0).abs() < 1e-4,
+                "station {k} at {h} m (shielding {shielding}): {} vs {want}",
+                rates[k]
+            );
+        }
+    }
+}
