@@ -106,34 +106,55 @@ fn no_repair_loss_probability_follows_the_merged_bay_rule() {
 }
 
 #[test]
-fn cross_link_cuts_per_history_follow_the_poisson_law_and_merged_spans_keep_the_invariants() {
-    // Equal sharing (loads and critical widths change across merged spans), strict invariant
-    // checks after every event. Independent answer for the count: each interior cross-link is
-    // cut at most once, by mission end with q_k = 1 - exp(-mu_k T), independently, so the mean
-    // is sum q_k and the variance sum q_k (1 - q_k) (histories ended early by a loss, here
-    // rare, would only lower the count).
-    let model = model_of(&with_hits(0.5, 6, "equal", 3.0));
-    let engine = Engine::new(&model, 1.0).unwrap().with_invariant_checks();
+fn cross_link_cuts_per_history_follow_the_poisson_law() {
+    // Independent answer: each interior cross-link is cut at most once, by mission end with
+    // q_k = 1 - exp(-mu_k T), independently, so the mean count is sum q_k and its variance
+    // sum q_k (1 - q_k). Six ribbons without redistribution: a loss needs all six cut along
+    // one span, so no history ends early (checked).
+    let model = model_of(&with_hits(0.5, 6, "none", 1.0));
+    let engine = Engine::new(&model, 1.0).unwrap();
     let (_, q) = segment_and_link_probabilities(&model, &engine);
     let n_hist = 4_000;
     let t = tally_of(&engine, n_hist, 7);
-    assert_eq!(t.anomalies, 0, "{:?}", t.anomaly_examples);
+    assert_eq!(t.losses, 0);
     let mean: f64 = q.iter().sum();
     let var: f64 = q.iter().map(|x| x * (1.0 - x)).sum();
     let se = (var / n_hist as f64).sqrt();
     let got = t.cross_link_cuts as f64 / n_hist as f64;
-    let lost = t.losses as f64 / n_hist as f64;
-    eprintln!("cross-link cuts per history {got} vs sum q_k {mean} (se {se}); loss {lost}");
-    assert!(lost < 0.2, "regime: loss probability {lost}");
+    eprintln!("cross-link cuts per history {got} vs sum q_k {mean} (se {se})");
     assert!(
-        (got - mean).abs() < 3.0 * se + lost * mean,
+        (got - mean).abs() < 3.0 * se,
         "cross-link cuts per history {got} vs sum of q_k {mean} (se {se})"
     );
-    // Merging raises the loss probability over the same run without cross-link hits.
+}
+
+#[test]
+fn merged_spans_keep_the_invariants_and_raise_the_loss_probability() {
+    // Equal sharing (loads and critical widths change across merged spans), strict invariant
+    // checks after every event: no history reaches an impossible state, and merging bays can
+    // only add losses (common random numbers: the ribbon draws are the same with the option
+    // off, the cross-links have their own stream; not a strict coupling once states differ,
+    // so the check is on the counts with a margin of 3 standard errors).
+    let model = model_of(&with_hits(0.5, 6, "equal", 3.0));
+    let engine = Engine::new(&model, 1.0).unwrap().with_invariant_checks();
+    let n_hist = 4_000;
+    let t = tally_of(&engine, n_hist, 7);
+    assert_eq!(t.anomalies, 0, "{:?}", t.anomaly_examples);
+    assert!(t.cross_link_cuts > 0);
     let mut off = with_hits(0.5, 6, "equal", 3.0);
     off["tether"]["cross_link_hits"] = Value::Null;
     let plain = tally_of(&Engine::new(&model_of(&off), 1.0).unwrap(), n_hist, 7);
-    assert!(t.losses >= plain.losses, "{} vs {}", t.losses, plain.losses);
+    let se = (plain.losses.max(1) as f64).sqrt();
+    eprintln!(
+        "equal sharing, flux x3: {} losses with cross-link hits, {} without, in {n_hist}",
+        t.losses, plain.losses
+    );
+    assert!(
+        t.losses as f64 + 3.0 * se >= plain.losses as f64,
+        "{} vs {}",
+        t.losses,
+        plain.losses
+    );
 }
 
 #[test]
