@@ -1182,7 +1182,8 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
             return Flow::End;
         };
         // Newly failed ribbons, each cut in its weakest bay of the span.
-        let mut loss = None;
+        let mut loss: Option<super::tally::Loss> = None;
+        let mut load_cuts = 0u32;
         for bay in a..=b {
             let Some(slot) = self.scratch.slot_of(bay) else {
                 continue;
@@ -1195,6 +1196,7 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
                     by_load += 1;
                 }
             }
+            load_cuts += by_load;
             let by_hole = u32::from(direct == Some(bay));
             if by_load + by_hole > 0 {
                 let l = e.record_cuts(
@@ -1213,6 +1215,14 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
                     loss = l;
                 }
             }
+        }
+        if let Some(l) = loss.as_mut() {
+            // The cause over the whole span: any cut by load redistribution makes it a cascade.
+            l.cause = if load_cuts > 0 || direct.is_none() {
+                LossCause::Cascade
+            } else {
+                LossCause::DirectCut
+            };
         }
         if cascade.survivors == 0 && loss.is_none() {
             // The cross-link's cut alone left no ribbon intact along the span.
@@ -1745,6 +1755,69 @@ mod tests {
     }
 
     const CAPACITY_TOL: f64 = crate::structure::load_sharing::CAPACITY_TOLERANCE;
+
+    /// The merged-bay rule on constructed bays 10 and 11 of the demo (no repair, cross-link
+    /// hits on, equal sharing, net section): the cross-link between them is cut. Worked by
+    /// hand: the span's intact ribbons are those intact in both bays, each carrying T_b / k in
+    /// bay b; a ribbon of width w fails when T_b / k > w t sigma.
+    #[test]
+    fn a_cut_cross_link_merges_two_bays_under_the_union_of_their_cuts() {
+        let model = demo_model(|v| {
+            v["repair"] = serde_json::Value::Null;
+            v["tether"]["cross_link_hits"] =
+                serde_json::json!({"exposed_area_m2": 1.0, "critical_diameter_mm": 0.5});
+        });
+        let e = Engine::new(&model, 1.0).unwrap();
+        let p = &model.profile;
+        let t_m = p.design.thickness_m;
+        let sigma = p.design.allowable_stress_pa;
+        let n = e.ribbons;
+        let setup = |run: &mut HistoryRun<'_, '_>, cut10: &[usize], cut11: &[usize]| {
+            for (bay, cuts) in [(10u32, cut10), (11, cut11)] {
+                let slot = run.scratch.slot(bay, n);
+                for &i in cuts {
+                    run.scratch.intact[slot * n + i] = false;
+                }
+                run.scratch.add_cuts(slot, n, cuts.len() as u32, 0.0, 1e-12);
+                run.loads_changed(slot, 0.0);
+            }
+            run.scratch.link_cut[11] = true;
+            run.scratch.links_cut.push(11);
+        };
+        // Ribbons 0-2 cut below, 3-4 above: one ribbon left along the span; it carries the
+        // whole tension, beyond w t sigma (6 / 2.2 times it at the design margin): loss.
+        for b in [10, 11] {
+            assert!(p.bays[b].max_tension_n > p.bays[b].width_m * t_m * sigma);
+        }
+        let mut scratch = e.new_scratch();
+        let mut tally = e.empty_tally();
+        let mut run = HistoryRun::new(&e, 0, 1, &mut scratch, &mut tally, None, None);
+        setup(&mut run, &[0, 1, 2], &[3, 4]);
+        assert_eq!(run.scratch.span_of(10), (10, 11));
+        assert_eq!(run.settle_span(3600.0, 10, 11, None), Flow::End);
+        assert_eq!(run.out.loss.unwrap().cause, LossCause::Cascade);
+        // Ribbon 0 cut below, ribbon 1 above: four left, each T_b / 4 (below w t sigma); the
+        // critical width of ribbon 2 in bay b is w_b - T_b / (4 t sigma), and ribbon 1 in bay
+        // 10 (intact there, cut above) carries nothing and cannot be cut again.
+        let mut scratch = e.new_scratch();
+        let mut tally = e.empty_tally();
+        let mut run = HistoryRun::new(&e, 0, 1, &mut scratch, &mut tally, None, None);
+        setup(&mut run, &[0], &[1]);
+        assert_eq!(run.settle_span(3600.0, 10, 11, None), Flow::Go);
+        assert!(run.out.loss.is_none());
+        for b in [10u32, 11] {
+            let slot = run.scratch.slot_of(b).unwrap();
+            let bay = &p.bays[b as usize];
+            // (The engine's 1e-9 capacity tolerance: a load within it counts as failing.)
+            let want = bay.width_m - bay.max_tension_n / 4.0 / (1.0 - CAPACITY_TOL) / (t_m * sigma);
+            let got = run.scratch.critical_m[slot * n + 2];
+            assert!((got / want - 1.0).abs() < 1e-9, "bay {b}: {got} vs {want}");
+        }
+        let s10 = run.scratch.slot_of(10).unwrap();
+        assert!(run.scratch.intact[s10 * n + 1]);
+        assert_eq!(run.scratch.cut_rate_s[s10 * n + 1], 0.0);
+        assert_eq!(run.scratch.cuts_in(10) + run.scratch.cuts_in(11), 2);
+    }
 
     #[test]
     fn zero_threshold_replaces_every_intact_segment_of_a_visited_bay() {
