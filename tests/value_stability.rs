@@ -98,6 +98,7 @@ fn purpose_streams_are_stable() {
         ("analysis", Purpose::Analysis),
         ("damage", Purpose::Damage),
         ("bias", Purpose::Bias),
+        ("cross_links", Purpose::CrossLinks),
     ];
     let recorded: &[(&str, u64, u64, [u64; 3])] = &[
         (
@@ -199,6 +200,22 @@ fn purpose_streams_are_stable() {
                 11920478898175637562,
                 8862326171926154088,
             ],
+        ),
+        (
+            "cross_links",
+            7,
+            0,
+            [
+                4042224579191087406,
+                14026923022146982016,
+                9474702690099011498,
+            ],
+        ),
+        (
+            "cross_links",
+            20261202,
+            123456789,
+            [1662707770113620809, 214130388478085627, 3699617152402629242],
         ),
     ];
     let mut got = Vec::new();

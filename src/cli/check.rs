@@ -9,6 +9,7 @@ use tether_risk::model::warnings::design_warnings;
 use tether_risk::model::Model;
 use tether_risk::orbit::shadow::shaded_fraction_of_month;
 use tether_risk::report::design::DesignSummary;
+use tether_risk::stats::sig;
 
 use super::output::{load_model, print};
 use super::Format;
@@ -303,6 +304,57 @@ fn stream_text(c: &StreamCheck) -> String {
     )
 }
 
+/// The cross-link hits option: its state and, when on, the cut rates of the interior
+/// cross-links (`tether.cross_link_hits`; the model's per-station rates).
+fn cross_link_check(model: &Model) -> (String, serde_json::Value) {
+    let Some(h) = model.scenario.tether.cross_link_hits else {
+        return (
+            "\nCross-link hits: off (tether.cross_link_hits absent): cross-links are never cut\n"
+                .into(),
+            serde_json::json!({ "enabled": false }),
+        );
+    };
+    let rates = &model.cross_link_rate_per_year;
+    let interior = model.profile.bays.len().saturating_sub(1);
+    let total: f64 = rates.iter().sum();
+    let (k_max, r_max) = rates
+        .iter()
+        .copied()
+        .enumerate()
+        .fold((0, 0.0), |b, (k, r)| if r > b.1 { (k, r) } else { b });
+    let alt_km = model
+        .profile
+        .bays
+        .get(k_max)
+        .map_or(0.0, |b| b.bottom_altitude_m / 1e3);
+    let years = model.scenario.run.mission_years;
+    // Each cross-link is cut at most once (no repair): sum of 1 - exp(-rate x mission).
+    let expected: f64 = rates.iter().map(|r| -(-r * years).exp_m1()).sum();
+    let text = format!(
+        "\nCross-link hits: on (exposed area {} m^2, critical particle diameter {} mm per cross-link)\n  \
+         {interior} interior cross-links: {} cuts per year in all (highest {} per year, station {k_max} at {} km); \
+         {} cross-link cuts expected over the {} year mission; a cut cross-link merges its two bays (merged-bay rule)\n",
+        sig(h.exposed_area_m2, 4),
+        sig(h.critical_diameter_m * 1e3, 4),
+        sig(total, 4),
+        sig(r_max, 4),
+        sig(alt_km, 5),
+        sig(expected, 4),
+        sig(years, 4),
+    );
+    let json = serde_json::json!({
+        "enabled": true,
+        "exposed_area_m2": h.exposed_area_m2,
+        "critical_diameter_mm": h.critical_diameter_m * 1e3,
+        "interior_cross_links": interior,
+        "cross_link_strike_rate_per_year": total,
+        "highest_station_rate_per_year": r_max,
+        "highest_rate_station": k_max,
+        "expected_cross_link_cuts_over_mission": expected,
+    });
+    (text, json)
+}
+
 pub fn run(a: Args) -> anyhow::Result<()> {
     let model = load_model(&a.file)?;
     let looped = looped_repair(&model);
@@ -311,6 +363,7 @@ pub fn run(a: Args) -> anyhow::Result<()> {
     } else {
         climber_power(&model)
     };
+    let (xl_text, xl_json) = cross_link_check(&model);
     let streams = stream_checks(&model)?;
     let s = DesignSummary::from_model(&model);
     let work = if model.scenario.validation_mode.is_none() {
@@ -338,6 +391,7 @@ pub fn run(a: Args) -> anyhow::Result<()> {
                 if !streams.is_empty() {
                     obj.insert("meteor_streams".into(), serde_json::to_value(&streams)?);
                 }
+                obj.insert("cross_link_hits".into(), xl_json);
             }
             print(&(serde_json::to_string_pretty(&v)? + "\n"))
         }
@@ -370,6 +424,13 @@ pub fn run(a: Args) -> anyhow::Result<()> {
                     ]);
                 }
             }
+            t.push([
+                "cross-link hits".to_string(),
+                xl_json["cross_link_strike_rate_per_year"]
+                    .as_f64()
+                    .map_or("off".to_string(), |r| format!("{r:.6e}")),
+                "1/yr (all interior cross-links)".to_string(),
+            ]);
             for w in &warnings {
                 t.push([
                     format!("warning {}", w.code),
@@ -393,6 +454,7 @@ pub fn run(a: Args) -> anyhow::Result<()> {
             for c in &streams {
                 text.push_str(&stream_text(c));
             }
+            text.push_str(&xl_text);
             if !warnings.is_empty() {
                 text.push_str("\nWarnings\n");
                 for w in &warnings {

@@ -105,6 +105,7 @@ fn sums_fit(parts: &[&Tally]) -> bool {
         && all(&|t| t.anomalies)
         && (0..tether_risk::engine::LOSS_CAUSES).all(|k| all(&|t| t.losses_by_cause[k]))
         && all(&|t| t.climber_load_cuts)
+        && all(&|t| t.cross_link_cuts)
         && vecs(&|t| &t.losses_by_year)
         && vecs(&|t| &t.losses_by_band)
         && vecs(&|t| &t.cuts_by_band)

@@ -51,7 +51,10 @@ pub fn run(a: Args) -> anyhow::Result<()> {
 /// ribbons; 0 with the source off) and `climber_weight_n` (a loaded climber at the bay's middle
 /// in the local effective gravity; 0 without repair) and `shaded_fraction_of_month` (the part of
 /// every synodic month the bay's middle spends in the Moon's shadow, `arcsin(R/r)/pi`: the same
-/// every month with the Sun in the Moon's orbital plane, so also the mean over the year).
+/// every month with the Sun in the Moon's orbital plane, so also the mean over the year) and
+/// `cross_link_strike_rate_per_year` (cuts per year of the cross-link at the bay's upper
+/// station, the one joining it to the next bay up; 0 for the top bay, whose upper end is the
+/// counterweight attachment, and 0 everywhere with `tether.cross_link_hits` off).
 fn with_physics_fields(model: &Model, p: &ProfileSummary) -> anyhow::Result<serde_json::Value> {
     let mut v = serde_json::to_value(p)?;
     let orbit = &model.orbit;
@@ -86,6 +89,15 @@ fn with_physics_fields(model: &Model, p: &ProfileSummary) -> anyhow::Result<serd
                 t.ejecta_strike_rate_per_year.into(),
             );
             obj.insert("climber_weight_n".into(), t.climber_weight_n.into());
+            obj.insert(
+                "cross_link_strike_rate_per_year".into(),
+                model
+                    .cross_link_rate_per_year
+                    .get(j + 1)
+                    .copied()
+                    .unwrap_or(0.0)
+                    .into(),
+            );
             obj.insert(
                 "shaded_fraction_of_month".into(),
                 shaded_fraction_of_month(

@@ -69,6 +69,8 @@ enum Event {
     /// Meteor stream `k`: every-strike, its next strike; on-demand, its next cut candidate on
     /// a bay untouched so far.
     Stream { k: usize, t: f64 },
+    /// On-demand with cross-link hits: the next cross-link cut candidate.
+    CrossLink(f64),
     /// Nothing before mission end.
     MissionEnd,
 }
@@ -218,6 +220,10 @@ pub(crate) struct HistoryRun<'a, 'm> {
     /// Next event of each meteor stream's process, s (first `stream_count` entries).
     next_stream_s: [f64; MAX_STREAMS],
     stream_count: usize,
+    /// Cross-link hits: their own random stream (see [`Purpose::CrossLinks`]).
+    links_rng: Pcg64Mcg,
+    /// Next cross-link cut candidate, s (infinite without cross-link hits).
+    next_link_s: f64,
 }
 
 /// Most meteor streams a history handles (the scenario's limit).
@@ -276,7 +282,16 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
             streams_rng: stream(seed, Purpose::Streams, index),
             next_stream_s: [f64::INFINITY; MAX_STREAMS],
             stream_count,
+            links_rng: stream(seed, Purpose::CrossLinks, index),
+            next_link_s: f64::INFINITY,
         };
+        if let Some(xl) = e.cross_links.as_ref() {
+            let stations = e.model.profile.bays.len() + 1;
+            if run.scratch.link_cut.len() != stations {
+                run.scratch.link_cut = vec![false; stations];
+            }
+            run.next_link_s = exp_gap(&mut run.links_rng, xl.total_rate_s);
+        }
         for k in 0..run.stream_count {
             run.next_stream_s[k] = run.next_stream_time(k, 0.0);
         }
@@ -331,6 +346,7 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
                 Event::FirstCut(t) => self.on_first_cut(t),
                 Event::Cut(t) => self.on_cut(t),
                 Event::Stream { k, t } => self.on_stream(k, t),
+                Event::CrossLink(t) => self.on_cross_link(t),
                 Event::MissionEnd => break,
             };
             if flow == Flow::End {
@@ -372,20 +388,35 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
                 k_stream = k;
             }
         }
-        if t_repair.min(t_boost).min(t_primary).min(t_stream) > self.e.mission_s {
+        // Without cross-link hits t_link is infinite and every test on it below holds.
+        let t_link = self.next_link_s;
+        if t_repair
+            .min(t_boost)
+            .min(t_primary)
+            .min(t_stream)
+            .min(t_link)
+            > self.e.mission_s
+        {
             return Event::MissionEnd;
         }
-        if t_repair <= t_primary && t_repair <= t_boost && t_repair <= t_stream {
+        if t_repair <= t_primary
+            && t_repair <= t_boost
+            && t_repair <= t_stream
+            && t_repair <= t_link
+        {
             return Event::Repair(t_repair);
         }
-        if t_boost < t_primary && t_boost <= t_stream {
+        if t_boost < t_primary && t_boost <= t_stream && t_boost <= t_link {
             return boost;
         }
-        if t_stream < t_primary {
+        if t_stream < t_primary && t_stream <= t_link {
             return Event::Stream {
                 k: k_stream,
                 t: t_stream,
             };
+        }
+        if t_link < t_primary {
+            return Event::CrossLink(t_link);
         }
         match self.e.sampler_kind {
             Sampler::EveryStrike => Event::Strike {
@@ -1036,6 +1067,20 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
                 removed_m: removed,
             });
         }
+        let (a, b) = self.scratch.span_of(bay);
+        if a != b {
+            // A merged span: the other bays' worst holes up to date, then the span's cascade.
+            for other in (a..=b).filter(|&o| o != bay) {
+                match self.scratch.slot_of(other) {
+                    Some(s) => self.bring_up_to_date(s, t),
+                    None => {
+                        self.out.anomaly = Some("a bay of a merged span holds no state");
+                        return Flow::End;
+                    }
+                }
+            }
+            return self.settle_span(t, a, b, Some(bay));
+        }
         // Cascade with the up-to-date worst holes.
         let mut capacity = [0.0f64; MAX_RIBBONS];
         for (cap, hole) in capacity
@@ -1071,6 +1116,158 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
             }
         }
         self.after_cuts(t, bay, newly, loss)
+    }
+
+    /// Cross-link hits: the cross-link at a station is cut at `t` (a candidate on a station
+    /// already cut changes nothing). The state-change recipe over the new merged span: both
+    /// neighbouring bays take state (untouched ones with their intact loads since mission
+    /// start), every bay of the span is brought up to date, the link is cut, the span's
+    /// cascade runs under the merged-bay rule, and every bay of the span gets its new rates.
+    fn on_cross_link(&mut self, t: f64) -> Flow {
+        let e = self.e;
+        let Some(xl) = e.cross_links.as_ref() else {
+            return Flow::End;
+        };
+        let k = xl.pick(unit(&mut self.links_rng));
+        self.next_link_s = t + exp_gap(&mut self.links_rng, xl.total_rate_s);
+        let bays = e.model.profile.bays.len();
+        if k == 0 || k >= bays || self.scratch.link_cut[k] {
+            return Flow::Go; // thinned away (an end or a cut station)
+        }
+        if self.advance_clock(t, "time went backwards at a cross-link cut") == Flow::End {
+            return Flow::End;
+        }
+        let n = e.ribbons;
+        for bay in [k as u32 - 1, k as u32] {
+            if self.scratch.slot_of(bay).is_none() {
+                let slot = self.scratch.slot(bay, n);
+                self.loads_changed(slot, 0.0); // intact loads since mission start
+            }
+        }
+        let (a, _) = self.scratch.span_of(k as u32 - 1);
+        let (_, b) = self.scratch.span_of(k as u32);
+        for bay in a..=b {
+            if let Some(slot) = self.scratch.slot_of(bay) {
+                self.bring_up_to_date(slot, t);
+            }
+        }
+        self.scratch.link_cut[k] = true;
+        self.scratch.links_cut.push(k as u32);
+        self.out.cross_link_cuts += 1;
+        self.settle_span(t, a, b, None)
+    }
+
+    /// The cascade of the merged span `a..=b` at `t` (every bay in it holds state and is up to
+    /// date), after a cut in bay `direct` (its segment already marked cut) or, with `None`,
+    /// after a cross-link cut. The merged-bay rule: a ribbon carries load along the span only
+    /// where it is intact in every bay of it, and the span's intact ribbons share the load
+    /// under the scenario's rule with each bay's own tension. Sharing rules are linear in the
+    /// tension, so ribbon i fails in the span when some bay b has load_b,i > capacity_b,i, that
+    /// is when the share at tension 1 exceeds min_b capacity_b,i / T_b: one cascade on those
+    /// ratios is the span's cascade. A ribbon failing in it is cut in the bay where that ratio
+    /// is smallest (its weakest section). Then the span's bays get their new rates and a span
+    /// without an intact ribbon is a loss.
+    fn settle_span(&mut self, t: f64, a: u32, b: u32, direct: Option<u32>) -> Flow {
+        let e = self.e;
+        let n = e.ribbons;
+        let mut ratio = [f64::INFINITY; MAX_RIBBONS];
+        let mut weakest = [a; MAX_RIBBONS];
+        for bay in a..=b {
+            let Some(slot) = self.scratch.slot_of(bay) else {
+                self.out.anomaly = Some("a bay of a merged span holds no state");
+                return Flow::End;
+            };
+            let base = slot * n;
+            let tension = e.bay_tension_n(bay as usize, self.scratch);
+            for i in 0..n {
+                let cap = e
+                    .model
+                    .profile
+                    .ribbon_capacity_n(bay as usize, self.scratch.worst_hole_m[base + i]);
+                let r = if tension > 0.0 {
+                    cap / tension
+                } else {
+                    f64::INFINITY
+                };
+                if r < ratio[i] {
+                    ratio[i] = r;
+                    weakest[i] = bay;
+                }
+            }
+        }
+        let mut span = self.scratch.span_intact(a, b, n);
+        let before = span;
+        let Ok(cascade) = settle_bay(e.sharing.as_ref(), &mut span[..n], &ratio[..n], 1.0) else {
+            self.out.anomaly = Some("too many ribbons for the cascade");
+            return Flow::End;
+        };
+        // Newly failed ribbons, each cut in its weakest bay of the span.
+        let mut loss: Option<super::tally::Loss> = None;
+        let mut load_cuts = 0u32;
+        for bay in a..=b {
+            let Some(slot) = self.scratch.slot_of(bay) else {
+                continue;
+            };
+            let base = slot * n;
+            let mut by_load = 0u32;
+            for i in 0..n {
+                if before[i] && !span[i] && weakest[i] == bay {
+                    self.scratch.intact[base + i] = false;
+                    by_load += 1;
+                }
+            }
+            load_cuts += by_load;
+            let by_hole = u32::from(direct == Some(bay));
+            if by_load + by_hole > 0 {
+                let l = e.record_cuts(
+                    t,
+                    bay,
+                    slot,
+                    by_load + by_hole,
+                    by_load,
+                    cascade.survivors,
+                    self.scratch,
+                    self.tally,
+                    &mut self.out,
+                    self.log.as_deref_mut(),
+                );
+                if l.is_some() && (loss.is_none() || direct == Some(bay)) {
+                    loss = l;
+                }
+            }
+        }
+        if let Some(l) = loss.as_mut() {
+            // The cause over the whole span: any cut by load redistribution makes it a cascade.
+            l.cause = if load_cuts > 0 || direct.is_none() {
+                LossCause::Cascade
+            } else {
+                LossCause::DirectCut
+            };
+        }
+        if cascade.survivors == 0 && loss.is_none() {
+            // The cross-link's cut alone left no ribbon intact along the span.
+            loss = Some(super::tally::Loss {
+                time_s: t,
+                bay: a,
+                cause: LossCause::Cascade,
+            });
+        }
+        for bay in a..=b {
+            if let Some(slot) = self.scratch.slot_of(bay) {
+                self.loads_changed(slot, t);
+            }
+        }
+        if e.strict {
+            for bay in a..=b {
+                if let Some(x) = e.check_invariants(self.scratch, Some(bay)) {
+                    self.out.anomaly = Some(x);
+                    return Flow::End;
+                }
+            }
+        }
+        // Repair is refused with cross-link hits (scenario validation): no cut to schedule
+        // for detection, only the loss to hand on.
+        self.after_cuts(t, direct.unwrap_or(a), 0, loss)
     }
 
     /// Step 1 of a state change (on-demand): draw the worst sub-critical hole of each intact
@@ -1272,14 +1469,17 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
         let hr = od.holes.bay(j);
         let mut loads = [0.0f64; MAX_RIBBONS];
         let tension = e.bay_tension_n(j, s);
-        e.sharing
-            .distribute(&s.intact[base..base + n], tension, &mut loads[..n]);
+        // The merged-bay rule: loads are shared over the ribbons intact along the whole span
+        // (the bay's own intact ribbons without cross-link hits or beside intact cross-links).
+        let (a, b) = s.span_of(j as u32);
+        let span = s.span_intact(a, b, n);
+        e.sharing.distribute(&span[..n], tension, &mut loads[..n]);
         let mut total = 0.0;
         // Segments with the same load (all of a bay under equal sharing) have the same critical
         // width and rate: computed once per distinct load (same bits in, same bits out).
         let mut last: Option<(f64, f64, f64)> = None;
         for i in 0..n {
-            if s.intact[base + i] {
+            if span[i] {
                 let (c, r) = match last {
                     Some((l, c, r)) if l.to_bits() == loads[i].to_bits() => (c, r),
                     _ => {
@@ -1297,6 +1497,11 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
                 s.critical_m[base + i] = c;
                 s.cut_rate_s[base + i] = r;
                 total += r;
+            } else if s.intact[base + i] {
+                // Intact here but cut elsewhere in the merged span: it carries no load, so no
+                // hole in this bay can change anything (critical width: the whole ribbon).
+                s.critical_m[base + i] = e.model.profile.bays[j].width_m;
+                s.cut_rate_s[base + i] = 0.0;
             } else {
                 s.critical_m[base + i] = 0.0;
                 s.cut_rate_s[base + i] = 0.0;
@@ -1467,6 +1672,7 @@ impl Engine<'_> {
                 Event::FirstCut(t) => run.on_first_cut(t),
                 Event::Cut(t) => run.on_cut(t),
                 Event::Stream { k, t } => run.on_stream(k, t),
+                Event::CrossLink(t) => run.on_cross_link(t),
                 Event::MissionEnd => break,
             };
             if flow == Flow::End {
@@ -1569,6 +1775,69 @@ mod tests {
     }
 
     const CAPACITY_TOL: f64 = crate::structure::load_sharing::CAPACITY_TOLERANCE;
+
+    /// The merged-bay rule on constructed bays 10 and 11 of the demo (no repair, cross-link
+    /// hits on, equal sharing, net section): the cross-link between them is cut. Worked by
+    /// hand: the span's intact ribbons are those intact in both bays, each carrying T_b / k in
+    /// bay b; a ribbon of width w fails when T_b / k > w t sigma.
+    #[test]
+    fn a_cut_cross_link_merges_two_bays_under_the_union_of_their_cuts() {
+        let model = demo_model(|v| {
+            v["repair"] = serde_json::Value::Null;
+            v["tether"]["cross_link_hits"] =
+                serde_json::json!({"exposed_area_m2": 1.0, "critical_diameter_mm": 0.5});
+        });
+        let e = Engine::new(&model, 1.0).unwrap();
+        let p = &model.profile;
+        let t_m = p.design.thickness_m;
+        let sigma = p.design.allowable_stress_pa;
+        let n = e.ribbons;
+        let setup = |run: &mut HistoryRun<'_, '_>, cut10: &[usize], cut11: &[usize]| {
+            for (bay, cuts) in [(10u32, cut10), (11, cut11)] {
+                let slot = run.scratch.slot(bay, n);
+                for &i in cuts {
+                    run.scratch.intact[slot * n + i] = false;
+                }
+                run.scratch.add_cuts(slot, n, cuts.len() as u32, 0.0, 1e-12);
+                run.loads_changed(slot, 0.0);
+            }
+            run.scratch.link_cut[11] = true;
+            run.scratch.links_cut.push(11);
+        };
+        // Ribbons 0-2 cut below, 3-4 above: one ribbon left along the span; it carries the
+        // whole tension, beyond w t sigma (6 / 2.2 times it at the design margin): loss.
+        for b in [10, 11] {
+            assert!(p.bays[b].max_tension_n > p.bays[b].width_m * t_m * sigma);
+        }
+        let mut scratch = e.new_scratch();
+        let mut tally = e.empty_tally();
+        let mut run = HistoryRun::new(&e, 0, 1, &mut scratch, &mut tally, None, None);
+        setup(&mut run, &[0, 1, 2], &[3, 4]);
+        assert_eq!(run.scratch.span_of(10), (10, 11));
+        assert_eq!(run.settle_span(3600.0, 10, 11, None), Flow::End);
+        assert_eq!(run.out.loss.unwrap().cause, LossCause::Cascade);
+        // Ribbon 0 cut below, ribbon 1 above: four left, each T_b / 4 (below w t sigma); the
+        // critical width of ribbon 2 in bay b is w_b - T_b / (4 t sigma), and ribbon 1 in bay
+        // 10 (intact there, cut above) carries nothing and cannot be cut again.
+        let mut scratch = e.new_scratch();
+        let mut tally = e.empty_tally();
+        let mut run = HistoryRun::new(&e, 0, 1, &mut scratch, &mut tally, None, None);
+        setup(&mut run, &[0], &[1]);
+        assert_eq!(run.settle_span(3600.0, 10, 11, None), Flow::Go);
+        assert!(run.out.loss.is_none());
+        for b in [10u32, 11] {
+            let slot = run.scratch.slot_of(b).unwrap();
+            let bay = &p.bays[b as usize];
+            // (The engine's 1e-9 capacity tolerance: a load within it counts as failing.)
+            let want = bay.width_m - bay.max_tension_n / 4.0 / (1.0 - CAPACITY_TOL) / (t_m * sigma);
+            let got = run.scratch.critical_m[slot * n + 2];
+            assert!((got / want - 1.0).abs() < 1e-9, "bay {b}: {got} vs {want}");
+        }
+        let s10 = run.scratch.slot_of(10).unwrap();
+        assert!(run.scratch.intact[s10 * n + 1]);
+        assert_eq!(run.scratch.cut_rate_s[s10 * n + 1], 0.0);
+        assert_eq!(run.scratch.cuts_in(10) + run.scratch.cuts_in(11), 2);
+    }
 
     #[test]
     fn zero_threshold_replaces_every_intact_segment_of_a_visited_bay() {

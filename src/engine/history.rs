@@ -48,6 +48,11 @@ pub struct Scratch {
     pub(crate) climbers_on_bay: Vec<u16>,
     /// Bays with a climber count changed in this history (for the reset).
     pub(crate) climber_bays: Vec<u32>,
+    /// Cross-link hits: whether the cross-link at station k (joining bay k - 1 and bay k) is
+    /// cut (`bays + 1` entries when cross-link hits are on, else empty).
+    pub(crate) link_cut: Vec<bool>,
+    /// Stations cut in this history (for the reset).
+    pub(crate) links_cut: Vec<u32>,
 }
 
 impl Scratch {
@@ -72,6 +77,10 @@ impl Scratch {
             self.climbers_on_bay[b as usize] = 0;
         }
         self.climber_bays.clear();
+        for &k in &self.links_cut {
+            self.link_cut[k as usize] = false;
+        }
+        self.links_cut.clear();
         for &b in &self.touched {
             self.slot_of_bay[b as usize] = UNTOUCHED;
         }
@@ -116,6 +125,38 @@ impl Scratch {
             UNTOUCHED => None,
             s => Some(s as usize),
         }
+    }
+
+    /// The merged span of `bay`: the bays `a..=b` joined to it through cut cross-links (just
+    /// `(bay, bay)` when no cross-link beside it is cut, always without cross-link hits).
+    pub(crate) fn span_of(&self, bay: u32) -> (u32, u32) {
+        let (mut a, mut b) = (bay, bay);
+        while a > 0 && self.link_cut.get(a as usize) == Some(&true) {
+            a -= 1;
+        }
+        while self.link_cut.get(b as usize + 1) == Some(&true) {
+            b += 1;
+        }
+        (a, b)
+    }
+
+    /// The merged-bay rule: a ribbon is intact in the span `a..=b` only when it is intact in
+    /// every bay of the span (bays without state are intact).
+    pub(crate) fn span_intact(&self, a: u32, b: u32, ribbons: usize) -> [bool; MAX_RIBBONS] {
+        let mut mask = [false; MAX_RIBBONS];
+        mask[..ribbons].fill(true);
+        for bay in a..=b {
+            if let Some(slot) = self.slot_of(bay) {
+                let base = slot * ribbons;
+                for (m, &ok) in mask[..ribbons]
+                    .iter_mut()
+                    .zip(&self.intact[base..base + ribbons])
+                {
+                    *m &= ok;
+                }
+            }
+        }
+        mask
     }
 
     pub(crate) fn note_max_cuts(&mut self, cuts: u32) {
@@ -168,6 +209,8 @@ pub struct HistoryOutcome {
     pub loss: Option<Loss>,
     /// Cut segments.
     pub cuts: u32,
+    /// Cross-links cut.
+    pub cross_link_cuts: u32,
     /// Strikes sampled.
     pub strikes: u64,
     /// Likelihood ratio of the history (1 without the rare-event estimator).
@@ -231,6 +274,7 @@ impl Default for HistoryOutcome {
         HistoryOutcome {
             loss: None,
             cuts: 0,
+            cross_link_cuts: 0,
             strikes: 0,
             weight: 1.0,
             stopped: false,
@@ -262,6 +306,7 @@ impl Engine<'_> {
         tally.histories += 1;
         tally.strikes += out.strikes;
         tally.cuts += u64::from(out.cuts);
+        tally.cross_link_cuts += u64::from(out.cross_link_cuts);
         tally.cuts_sq += u128::from(out.cuts) * u128::from(out.cuts);
         let m = (scratch.max_cuts as usize).min(tally.max_cuts_in_bay.len().saturating_sub(1));
         if let Some(c) = tally.max_cuts_in_bay.get_mut(m) {
@@ -337,7 +382,14 @@ impl Engine<'_> {
             if !tension.is_finite() {
                 return Some("non-finite tension");
             }
-            self.sharing.distribute(intact, tension, &mut loads[..n]);
+            // Loads over the merged span (the bay's own ribbons without cross-link hits).
+            let (a, b) = scratch.span_of(bay);
+            let span = scratch.span_intact(a, b, n);
+            if !span[..n].iter().any(|&ok| ok) {
+                continue; // a lost span ends the history
+            }
+            self.sharing
+                .distribute(&span[..n], tension, &mut loads[..n]);
             for i in 0..n {
                 let cap = self
                     .model
@@ -346,7 +398,7 @@ impl Engine<'_> {
                 if !loads[i].is_finite() {
                     return Some("non-finite ribbon load");
                 }
-                if intact[i] && loads[i] > cap * (1.0 - CAPACITY_TOLERANCE) {
+                if span[i] && loads[i] > cap * (1.0 - CAPACITY_TOLERANCE) {
                     return Some("an intact ribbon is overloaded after settling");
                 }
             }

@@ -288,6 +288,51 @@ pub struct Engine<'m> {
     stream_samplers: Vec<sampler::StreamSampler>,
     /// Day of the year of mission start (streams' peaks, month tallies), d.
     start_day: f64,
+    /// Cross-link hits (on-demand only; absent when off).
+    cross_links: Option<CrossLinkTable>,
+}
+
+/// The cut process of the interior cross-links: one Poisson process of total rate
+/// `total_rate_s` whose events fall on station k with probability rate_k / total (a candidate
+/// on a station already cut is discarded: thinning, exact).
+#[derive(Debug)]
+pub(crate) struct CrossLinkTable {
+    /// Running sum of the stations' cut rates, 1/s (entry k: stations 0..=k).
+    cumulative_s: Vec<f64>,
+    /// Sum over the stations, 1/s.
+    total_rate_s: f64,
+}
+
+impl CrossLinkTable {
+    fn of(model: &Model) -> Option<Self> {
+        model.scenario.tether.cross_link_hits?;
+        let mut acc = 0.0;
+        let cumulative_s: Vec<f64> = model
+            .cross_link_rate_per_year
+            .iter()
+            .map(|r| {
+                acc += r / SECONDS_PER_YEAR;
+                acc
+            })
+            .collect();
+        Some(CrossLinkTable {
+            cumulative_s,
+            total_rate_s: acc,
+        })
+    }
+
+    /// The station of a candidate, from a uniform `u` in [0, 1).
+    pub(crate) fn pick(&self, u: f64) -> usize {
+        let x = u * self.total_rate_s;
+        let k = self.cumulative_s.partition_point(|&c| c <= x);
+        // Rounding at the top end: the last station with a positive rate.
+        let last = self
+            .cumulative_s
+            .iter()
+            .rposition(|&c| c < self.total_rate_s)
+            .map_or(0, |p| p + 1);
+        k.min(last)
+    }
 }
 
 impl<'m> Engine<'m> {
@@ -357,6 +402,12 @@ impl<'m> Engine<'m> {
             } else {
                 Vec::new()
             };
+        let cross_links = CrossLinkTable::of(model);
+        if cross_links.is_some() && sampler_kind == Sampler::EveryStrike {
+            return Err(EngineError::Options(
+                "tether.cross_link_hits is sampled by the on-demand sampler only: run with `--sampler on-demand` (the default), or remove tether.cross_link_hits to use the every-strike reference".into(),
+            ));
+        }
         let policy: Box<dyn DispatchPolicy> = match repair.as_ref().map(|r| r.dispatch) {
             Some(DispatchSpec::FirstCome) => Box::new(FirstCome),
             _ => Box::new(MostEndangered),
@@ -383,6 +434,7 @@ impl<'m> Engine<'m> {
             climber_load,
             stream_samplers,
             start_day: model.scenario.environment.mission_start_day_of_year,
+            cross_links,
         })
     }
 
@@ -402,6 +454,11 @@ impl<'m> Engine<'m> {
     /// ratio. `factor` = 1 is plain Monte Carlo.
     pub fn with_rare_event(mut self, factor: f64) -> Result<Self, EngineError> {
         RunField::RareEvent.check(factor)?;
+        if factor > 1.0 && self.cross_links.is_some() {
+            return Err(EngineError::Options(
+                "tether.cross_link_hits cannot be combined with the rare-event estimator yet: run with `--rare-event 1` or remove tether.cross_link_hits".into(),
+            ));
+        }
         self.bias_factor = factor;
         Ok(self)
     }
@@ -413,6 +470,11 @@ impl<'m> Engine<'m> {
     /// ratio. `p` = 0 is plain Monte Carlo, bit for bit.
     pub fn with_latent_bias(mut self, p: f64) -> Result<Self, EngineError> {
         RunField::LatentBias.check(p)?;
+        if p > 0.0 && self.cross_links.is_some() {
+            return Err(EngineError::Options(
+                "tether.cross_link_hits cannot be combined with the latent-damage bias yet: run with `--latent-bias 0` or remove tether.cross_link_hits".into(),
+            ));
+        }
         if p > 0.0 && (self.on_demand.is_none() || self.sampler_kind != Sampler::OnDemand) {
             return Err(EngineError::Options(
                 "the latent-damage bias works on the on-demand sampler's worst-hole draws: it needs `--sampler on-demand` and a scenario outside validation mode".into(),

@@ -31,6 +31,9 @@ pub enum Purpose {
     /// untouched bays (kept apart so the background draws stay identical with and without
     /// streams).
     Streams = 0x5354_524d,
+    /// Cross-link hits (on-demand): the cut process of the interior cross-links, kept apart so
+    /// every other draw stays identical with and without cross-link hits.
+    CrossLinks = 0x584c_4e4b,
 }
 
 /// SplitMix64 finaliser: a bijective 64-bit mixer with full avalanche.

@@ -248,6 +248,9 @@ pub struct RunSummary {
     pub survival_by_year: Vec<SurvivalPoint>,
     /// Mean number of cut segments per history over the mission.
     pub mean_cuts: f64,
+    /// Mean number of cross-links cut per history (only with `tether.cross_link_hits`).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub cross_link_cuts_per_history: Option<f64>,
     /// Cut segments per year, whole tether.
     pub cuts_per_year: Interval,
     /// Cuts and losses by altitude band.
@@ -472,6 +475,10 @@ impl RunSummary {
             loss_probability,
             survival_by_year,
             mean_cuts: mean,
+            cross_link_cuts_per_history: sc
+                .tether
+                .cross_link_hits
+                .map(|_| tally.cross_link_cuts as f64 / tally.histories.max(1) as f64),
             cuts_per_year,
             cuts_by_altitude_band,
             expected_cuts_by_year,

@@ -88,6 +88,9 @@ pub struct Tally {
     /// Cuts caused by a climber's weight arriving on a bay (a subset of `cascade_cuts`).
     #[serde(default)]
     pub climber_load_cuts: u64,
+    /// Cross-links cut (`tether.cross_link_hits`; absent from files when zero).
+    #[serde(default, skip_serializing_if = "is_zero")]
+    pub cross_link_cuts: u64,
     /// Strikes sampled (above the floor).
     pub strikes: u64,
     /// Strikes that made a hole but cut nothing (sub-critical damage).
@@ -120,6 +123,10 @@ pub struct Tally {
     /// kept per batch and folded in batch order when the summary is formed, so the result does
     /// not depend on threads or shards.
     pub weighted: Vec<WeightedBatch>,
+}
+
+fn is_zero(x: &u64) -> bool {
+    *x == 0
 }
 
 /// How many anomalous histories a tally lists by index.
@@ -183,6 +190,7 @@ impl Tally {
         add(&mut self.losses_by_month, &o.losses_by_month);
         self.cascade_cuts += o.cascade_cuts;
         self.climber_load_cuts += o.climber_load_cuts;
+        self.cross_link_cuts += o.cross_link_cuts;
         self.strikes += o.strikes;
         self.subcritical_holes += o.subcritical_holes;
         self.cutting_holes += o.cutting_holes;

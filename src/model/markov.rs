@@ -487,6 +487,12 @@ impl MarkovModel {
                     .to_string(),
             );
         }
+        if sc.tether.cross_link_hits.is_some() {
+            assumptions.push(
+                "cross-link hits are left out: every bay stays a separate bay (the merged-bay rule after a cross-link cut is in the Monte Carlo only, so this estimate is optimistic)"
+                    .to_string(),
+            );
+        }
         Ok(MarkovModel {
             mode: MarkovMode::Physical,
             bays,

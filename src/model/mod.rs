@@ -15,7 +15,7 @@ mod rates;
 pub mod streams;
 pub mod warnings;
 
-pub use rates::ribbon_strike_rate_per_m_per_year;
+pub use rates::{cross_link_strike_rate_per_year, ribbon_strike_rate_per_m_per_year};
 
 use crate::damage::{
     FractionOfWidth, HoleFactorLaw, HoleSize, PerforationLaw, RibbonTarget, ThinFilmHoleLaw,
@@ -69,6 +69,11 @@ pub struct Model {
     pub bays: Vec<BayTables>,
     /// The lunar-ejecta strike source, when enabled.
     pub ejecta: Option<ejecta::EjectaSource>,
+    /// Cut rate of the cross-link at each station, per year (station k joins bay k - 1 and
+    /// bay k; `bays + 1` entries). Only interior stations (1..bays) can be cut; the ends, the
+    /// anchor and the counterweight attachments, and every station when cross-link hits are
+    /// off, have rate 0.
+    pub cross_link_rate_per_year: Vec<f64>,
 }
 
 /// Build the flux model a scenario names.
@@ -295,6 +300,42 @@ impl Model {
                 climber_weight_n: 0.0,
             });
         }
+        let mut cross_link_rate_per_year = vec![0.0; profile.bays.len() + 1];
+        if let Some(h) = scenario.tether.cross_link_hits {
+            for (k, rate) in cross_link_rate_per_year
+                .iter_mut()
+                .enumerate()
+                .take(profile.bays.len())
+                .skip(1)
+            {
+                // The station sits at the bottom of bay k; the shielding geometry is that
+                // bay's (engineering assumption: the cross-link sees the sky as the ribbons
+                // beside it do).
+                let bay = &profile.bays[k];
+                let factors = local_factors_for(
+                    &orbit,
+                    scenario.tether.side,
+                    bay.bottom_altitude_m,
+                    &velocity,
+                    env.moon_focusing,
+                    env.earth_focusing,
+                    env.moon_shielding,
+                    match env.moon_shielding_geometry {
+                        _ if bay.surface_run => ShieldingGeometry::SurfaceLyingFace,
+                        ShieldingGeometrySpec::RibbonFace => ShieldingGeometry::HangingRibbonFace,
+                        ShieldingGeometrySpec::RandomPlate => ShieldingGeometry::RandomPlate,
+                    },
+                )
+                .map_err(env_err)?;
+                *rate = rates::cross_link_strike_rate_per_year(
+                    flux.as_ref(),
+                    env.particle_density_kg_per_m3,
+                    h.exposed_area_m2,
+                    h.critical_diameter_m,
+                    factors.total() * env.flux_scale_factor,
+                );
+            }
+        }
         let mut model = Model {
             scenario,
             orbit,
@@ -304,6 +345,7 @@ impl Model {
             profile,
             bays,
             ejecta,
+            cross_link_rate_per_year,
         };
         for j in 0..model.bays.len() {
             model.bays[j].climber_weight_n = climber::loaded_climber_weight_at_bay_n(&model, j);

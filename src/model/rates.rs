@@ -42,3 +42,23 @@ pub fn ribbon_strike_rate_per_m_per_year(
     let tail = s * h / 3.0;
     2.0 * ((width_m + dc) * f_of_d(dc) + tail)
 }
+
+/// Rate of strikes per year that cut one cross-link: particles of diameter at least
+/// `critical_diameter_m` onto its exposed area, F(>= m_c) x A x (local focusing and shielding)
+/// x the flux scale factor, with m_c the mass of a sphere of that diameter at the particle
+/// density. The flux model's F is the one-face flux of a randomly tumbling plate, so A counts
+/// every face a particle can reach (a thin plate: both faces), as the ribbon rate counts both
+/// faces of a ribbon. One such strike cuts the cross-link (engineering assumption: a single
+/// critical size, no cumulative damage).
+pub fn cross_link_strike_rate_per_year(
+    flux: &dyn FluxModel,
+    particle_density_kg_per_m3: f64,
+    exposed_area_m2: f64,
+    critical_diameter_m: f64,
+    local_factor: f64,
+) -> f64 {
+    let f = mass_from_diameter_kg(critical_diameter_m, particle_density_kg_per_m3)
+        .map(|m| flux.cumulative_flux_per_m2_per_year(m))
+        .unwrap_or(0.0);
+    f * exposed_area_m2 * local_factor
+}

@@ -823,12 +823,19 @@ fn key_section(folder: &RunFolder) -> Section {
             label: "Time from cut to splice".into(),
             value: format!("{} h median", sig(t.p50, 3)),
             note: format!(
-                "P90 {} h, P99 {} h, mean {} h; per segment sent: travel {} h, waiting for light {} h, splicing {} h",
+                "P90 {} h, P99 {} h, mean {} h; per segment sent: travel {} h{}, splicing {} h",
                 sig(t.p90, 3),
                 sig(t.p99, 3),
                 sig(t.mean, 3),
                 sig(r.mean_trip_travel_hours, 3),
-                sig(r.mean_wait_for_light_hours, 3),
+                if r.mean_wait_for_light_hours > 0.0 {
+                    format!(
+                        ", waiting for light {} h",
+                        sig(r.mean_wait_for_light_hours, 3)
+                    )
+                } else {
+                    String::new()
+                },
                 sig(r.mean_trip_splice_hours, 3)
             ),
         });

@@ -116,6 +116,12 @@ pub fn run_text(s: &RunSummary) -> String {
         sig(s.cuts_per_year.ci_high, 4),
         sig(s.mean_cuts, 4)
     ));
+    if let Some(x) = s.cross_link_cuts_per_history {
+        o.push_str(&format!(
+            "Cross-links cut per history: {} (cross-link hits on; no cross-link repair)\n",
+            sig(x, 4)
+        ));
+    }
     o.push_str(&format!(
         "Losses by cause: {} direct cut, {} cascade, {} while waiting for spare stock, {} climber load; {} of cuts came from load redistribution\n",
         s.losses_by_cause.direct_cut,

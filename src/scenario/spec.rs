@@ -335,11 +335,28 @@ pub struct TetherSpec {
     pub cross_link_spacing_km: f64,
     /// Mass of one cross-link, kg.
     pub cross_link_mass_kg: f64,
+    /// Strikes that cut cross-links (absent: cross-links are never hit, today's results).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub cross_link_hits: Option<CrossLinkHitsSpec>,
     /// Tension held by the anchor, N.
     pub anchor_preload_n: f64,
     /// Design envelope of climber traffic, added to the tension in every bay, N.
     #[serde(default)]
     pub traffic_load_n: f64,
+}
+
+/// Cross-link hits: each interior cross-link can be cut by one particle at least the critical
+/// diameter striking its exposed area; a cut cross-link stops load transfer at its station,
+/// so the bays on either side act as one longer bay (see README, "Cross-link hits").
+#[derive(Clone, Copy, Debug, Serialize, Deserialize, PartialEq)]
+#[serde(deny_unknown_fields)]
+pub struct CrossLinkHitsSpec {
+    /// Surface area of one cross-link that particles can strike, m^2 (a thin plate: both
+    /// faces; a compact body: its whole outer surface). Counted like ribbon area: the flux
+    /// model's one-face flux of a tumbling plate times this area.
+    pub exposed_area_m2: f64,
+    /// Smallest particle diameter that cuts a cross-link, mm.
+    pub critical_diameter_mm: f64,
 }
 
 /// How a strike turns into a hole.

@@ -78,6 +78,8 @@ pub struct TetherSettings {
     pub cross_link_spacing_m: f64,
     /// Cross-link mass, kg.
     pub cross_link_mass_kg: f64,
+    /// Cross-link hits (None: off, the default).
+    pub cross_link_hits: Option<CrossLinkHits>,
     /// Anchor preload, N.
     pub anchor_preload_n: f64,
     /// Traffic load envelope, N.
@@ -91,6 +93,15 @@ pub struct TetherSettings {
     /// Great-circle length of the surface run from the base to the tether's foot, m (0 when
     /// the base is at the foot).
     pub surface_run_m: f64,
+}
+
+/// Cross-link hits in SI units.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct CrossLinkHits {
+    /// Exposed area of one cross-link, m^2.
+    pub exposed_area_m2: f64,
+    /// Smallest particle diameter that cuts a cross-link, m.
+    pub critical_diameter_m: f64,
 }
 
 /// A station in SI units.
@@ -385,6 +396,21 @@ impl Scenario {
             Some(v) => Some(validate_validation_mode(v, tether.ribbon_count)?),
             None => None,
         };
+        if tether.cross_link_hits.is_some() {
+            let other = if repair.is_some() {
+                Some("repair (a cut cross-link as a repair job is not built yet; remove the repair section to study cross-link hits without repair)")
+            } else if validation_mode.is_some() {
+                Some("validation_mode (its synthetic histories have no cross-links)")
+            } else {
+                None
+            };
+            if let Some(other) = other {
+                return Err(ScenarioError::Model {
+                    path: "tether.cross_link_hits".into(),
+                    message: format!("cannot be combined with {other}"),
+                });
+            }
+        }
         Ok(Scenario {
             spec,
             hash,
@@ -768,6 +794,25 @@ fn validate_tether(t: &TetherSpec) -> Result<TetherSettings, ScenarioError> {
         "kg",
         "",
     )?;
+    let cross_link_hits = match &t.cross_link_hits {
+        Some(h) => Some(CrossLinkHits {
+            exposed_area_m2: check(
+                "tether.cross_link_hits.exposed_area_m2",
+                h.exposed_area_m2,
+                Range::open_closed(0.0, 1e4),
+                "m^2",
+                "the surface of one cross-link that particles can strike",
+            )?,
+            critical_diameter_m: check(
+                "tether.cross_link_hits.critical_diameter_mm",
+                h.critical_diameter_mm,
+                Range::open_closed(0.0, 1e3),
+                "mm",
+                "the smallest particle diameter that cuts a cross-link",
+            )? * 1e-3,
+        }),
+        None => None,
+    };
     let preload = check(
         "tether.anchor_preload_n",
         t.anchor_preload_n,
@@ -799,6 +844,7 @@ fn validate_tether(t: &TetherSpec) -> Result<TetherSettings, ScenarioError> {
         load_sharing: t.load_sharing,
         cross_link_spacing_m: spacing_km * 1e3,
         cross_link_mass_kg: cl_mass,
+        cross_link_hits,
         anchor_preload_n: preload,
         traffic_load_n: traffic,
         notch,
