@@ -461,7 +461,7 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
             return Flow::End;
         }
         let t = ev.time_s;
-        let policy = self.e.policy.as_ref();
+        let policy = self.e.policy;
         let damaged_before = self.scratch.damaged.len();
         match ev.kind {
             EventKind::Detect { bay } => {
@@ -572,7 +572,7 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
     /// A delivery of spare stock reaches a station: idle climbers may now be dispatched.
     fn on_resupply(&mut self, fleet: &mut Fleet, plan: &RepairPlan, station: u32, t: f64) {
         fleet.on_resupply(plan, station, t);
-        fleet.dispatch(plan, self.e.policy.as_ref(), t, &mut self.tally.repair);
+        fleet.dispatch(plan, self.e.policy, t, &mut self.tally.repair);
     }
 
     /// A splice is done: a bay state change (segments replaced, loads fall). With a
@@ -775,7 +775,7 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
         let tension = e.bay_tension_n(j, self.scratch);
         let damaged_before = self.scratch.damaged.len();
         let intact = &mut self.scratch.intact[base..base + n];
-        let Ok(cascade) = settle_bay(e.sharing.as_ref(), intact, &capacity[..n], tension) else {
+        let Ok(cascade) = settle_bay(e.sharing, intact, &capacity[..n], tension) else {
             self.out.anomaly = Some("too many ribbons for the cascade");
             return Flow::End;
         };
@@ -1091,7 +1091,7 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
         }
         let tension = e.bay_tension_n(j, self.scratch);
         let intact = &mut self.scratch.intact[base..base + n];
-        let Ok(cascade) = settle_bay(e.sharing.as_ref(), intact, &capacity[..n], tension) else {
+        let Ok(cascade) = settle_bay(e.sharing, intact, &capacity[..n], tension) else {
             self.out.anomaly = Some("too many ribbons for the cascade");
             return Flow::End;
         };
@@ -1197,7 +1197,7 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
         }
         let mut span = self.scratch.span_intact(a, b, n);
         let before = span;
-        let Ok(cascade) = settle_bay(e.sharing.as_ref(), &mut span[..n], &ratio[..n], 1.0) else {
+        let Ok(cascade) = settle_bay(e.sharing, &mut span[..n], &ratio[..n], 1.0) else {
             self.out.anomaly = Some("too many ribbons for the cascade");
             return Flow::End;
         };

@@ -8,7 +8,6 @@
 
 use crate::damage::{removed_width_m, Impact, RibbonTarget};
 use crate::repair::{EventKind, Fleet, RepairPlan, RepairTally};
-use crate::scenario::LoadSharingSpec;
 use crate::structure::load_sharing::{settle_bay, CAPACITY_TOLERANCE, MAX_RIBBONS};
 
 use super::sampler::Strike;
@@ -533,11 +532,9 @@ impl Engine<'_> {
         // Fast path: under equal (or no) sharing the struck ribbon's load is known, and the other
         // ribbons are unchanged and were stable, so the bay settles unless this ribbon fails —
         // the same test settle_bay would make first. Most holes are sub-critical.
-        let survivors = match self.sharing_kind {
-            LoadSharingSpec::Equal => Some((n as u32 - scratch.cuts_in_bay[slot]) as f64),
-            LoadSharingSpec::None => Some(n as f64),
-            LoadSharingSpec::Local => None,
-        };
+        let survivors = self
+            .sharing
+            .uniform_share_divisor(n, scratch.cuts_in_bay[slot] as usize);
         if let Some(k) = survivors {
             let load = self.bay_tension_n(j, scratch) / k;
             if load <= self.model.profile.ribbon_capacity_n(j, removed) * (1.0 - CAPACITY_TOLERANCE)
@@ -556,7 +553,7 @@ impl Engine<'_> {
         // Slices have N <= MAX_RIBBONS entries by construction, so settle_bay cannot fail here.
         let tension = self.bay_tension_n(j, scratch);
         let intact = &mut scratch.intact[base..base + n];
-        let Ok(outcome) = settle_bay(self.sharing.as_ref(), intact, &capacity[..n], tension) else {
+        let Ok(outcome) = settle_bay(self.sharing, intact, &capacity[..n], tension) else {
             return (0, None);
         };
         if outcome.newly_cut == 0 {

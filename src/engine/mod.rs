@@ -48,10 +48,9 @@ use serde::{Deserialize, Serialize};
 use thiserror::Error;
 
 use crate::model::Model;
-use crate::repair::{DispatchPolicy, FirstCome, MostEndangered, RepairPlan};
-use crate::scenario::DispatchSpec;
-use crate::scenario::{LoadSharingSpec, SECONDS_PER_YEAR};
-use crate::structure::load_sharing::{EqualSharing, LoadSharing, LocalSharing, NoRedistribution};
+use crate::repair::{DispatchPolicy, RepairPlan};
+use crate::scenario::SECONDS_PER_YEAR;
+use crate::structure::load_sharing::LoadSharing;
 
 /// Histories per batch. Fixed: it is part of the reproducibility contract.
 pub const BATCH_SIZE: u64 = 1000;
@@ -266,10 +265,9 @@ pub struct Engine<'m> {
     sampler: StrikeSampler,
     sampler_kind: Sampler,
     on_demand: Option<OnDemandTables>,
-    sharing: Box<dyn LoadSharing>,
-    sharing_kind: LoadSharingSpec,
+    sharing: &'m dyn LoadSharing,
     repair: Option<RepairPlan>,
-    policy: Box<dyn DispatchPolicy>,
+    policy: &'m dyn DispatchPolicy,
     mission_s: f64,
     years: usize,
     bay_band: Vec<u16>,
@@ -357,13 +355,6 @@ impl<'m> Engine<'m> {
                 None
             };
         let t = &model.scenario.tether;
-        let sharing: Box<dyn LoadSharing> = match t.load_sharing {
-            LoadSharingSpec::Equal => Box::new(EqualSharing),
-            LoadSharingSpec::Local => Box::new(LocalSharing {
-                arrangement: t.arrangement,
-            }),
-            LoadSharingSpec::None => Box::new(NoRedistribution),
-        };
         let top = model.profile.length_m();
         let edges = altitude_band_edges_m(top);
         let bay_band = model
@@ -408,19 +399,14 @@ impl<'m> Engine<'m> {
                 "tether.cross_link_hits is sampled by the on-demand sampler only: run with `--sampler on-demand` (the default), or remove tether.cross_link_hits to use the every-strike reference".into(),
             ));
         }
-        let policy: Box<dyn DispatchPolicy> = match repair.as_ref().map(|r| r.dispatch) {
-            Some(DispatchSpec::FirstCome) => Box::new(FirstCome),
-            _ => Box::new(MostEndangered),
-        };
         Ok(Engine {
             model,
             sampler,
             sampler_kind,
             on_demand,
-            sharing,
-            sharing_kind: t.load_sharing,
+            sharing: model.load_sharing.as_ref(),
             repair,
-            policy,
+            policy: model.dispatch.as_ref(),
             mission_s: model.scenario.run.mission_s,
             years: model.scenario.run.mission_years.ceil() as usize,
             bay_band,

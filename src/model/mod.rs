@@ -9,6 +9,7 @@
 pub mod climber;
 pub mod damage_memory;
 pub mod ejecta;
+pub mod env_table;
 pub mod hole_rate;
 pub mod markov;
 mod rates;
@@ -21,15 +22,17 @@ use crate::damage::{
     FractionOfWidth, HoleFactorLaw, HoleSize, PerforationLaw, RibbonTarget, ThinFilmHoleLaw,
 };
 use crate::environment::{
-    local_factors_for, FluxModel, Grun1985, LocalFactors, ShieldingGeometry, TabulatedFlux,
-    VelocityDistribution,
+    local_factors_for, FluxModel, Grun1985, LocalFactors, TabulatedFlux, VelocityDistribution,
 };
 use crate::orbit::EarthMoon;
+use crate::repair::{DispatchPolicy, FirstCome, MostEndangered};
 use crate::scenario::{
-    DamageSpec, FluxModelSpec, HoleSizeSpec, Scenario, ScenarioError, ShieldingGeometrySpec,
-    TaperSpec,
+    DamageSpec, DispatchSpec, FluxModelSpec, HoleSizeSpec, LoadSharingSpec, Scenario,
+    ScenarioError, TaperSpec,
 };
-use crate::structure::load_sharing::MAX_RIBBONS;
+use crate::structure::load_sharing::{
+    EqualSharing, LoadSharing, LocalSharing, NoRedistribution, MAX_RIBBONS,
+};
 use crate::structure::{Taper, TetherDesign, TetherProfile};
 
 /// Per-bay tables.
@@ -74,6 +77,10 @@ pub struct Model {
     /// anchor and the counterweight attachments, and every station when cross-link hits are
     /// off, have rate 0.
     pub cross_link_rate_per_year: Vec<f64>,
+    /// The load-sharing rule the scenario names (`tether.load_sharing`), as the engine uses it.
+    pub load_sharing: Box<dyn LoadSharing>,
+    /// The repair fleet's dispatch rule (`repair.dispatch`; most-endangered without repair).
+    pub dispatch: Box<dyn DispatchPolicy>,
 }
 
 /// Build the flux model a scenario names.
@@ -261,11 +268,7 @@ impl Model {
                 env.moon_focusing,
                 env.earth_focusing,
                 env.moon_shielding,
-                match env.moon_shielding_geometry {
-                    _ if bay.surface_run => ShieldingGeometry::SurfaceLyingFace,
-                    ShieldingGeometrySpec::RibbonFace => ShieldingGeometry::HangingRibbonFace,
-                    ShieldingGeometrySpec::RandomPlate => ShieldingGeometry::RandomPlate,
-                },
+                env.moon_shielding_geometry.for_bay(bay.surface_run),
             )
             .map_err(env_err)?;
             let critical: Vec<f64> = (0..n.min(MAX_RIBBONS))
@@ -320,11 +323,7 @@ impl Model {
                     env.moon_focusing,
                     env.earth_focusing,
                     env.moon_shielding,
-                    match env.moon_shielding_geometry {
-                        _ if bay.surface_run => ShieldingGeometry::SurfaceLyingFace,
-                        ShieldingGeometrySpec::RibbonFace => ShieldingGeometry::HangingRibbonFace,
-                        ShieldingGeometrySpec::RandomPlate => ShieldingGeometry::RandomPlate,
-                    },
+                    env.moon_shielding_geometry.for_bay(bay.surface_run),
                 )
                 .map_err(env_err)?;
                 *rate = rates::cross_link_strike_rate_per_year(
@@ -336,6 +335,18 @@ impl Model {
                 );
             }
         }
+        let t = &scenario.tether;
+        let load_sharing: Box<dyn LoadSharing> = match t.load_sharing {
+            LoadSharingSpec::Equal => Box::new(EqualSharing),
+            LoadSharingSpec::Local => Box::new(LocalSharing {
+                arrangement: t.arrangement,
+            }),
+            LoadSharingSpec::None => Box::new(NoRedistribution),
+        };
+        let dispatch: Box<dyn DispatchPolicy> = match scenario.repair.as_ref().map(|r| r.dispatch) {
+            Some(DispatchSpec::FirstCome) => Box::new(FirstCome),
+            _ => Box::new(MostEndangered),
+        };
         let mut model = Model {
             scenario,
             orbit,
@@ -346,6 +357,8 @@ impl Model {
             bays,
             ejecta,
             cross_link_rate_per_year,
+            load_sharing,
+            dispatch,
         };
         for j in 0..model.bays.len() {
             model.bays[j].climber_weight_n = climber::loaded_climber_weight_at_bay_n(&model, j);

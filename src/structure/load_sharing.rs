@@ -49,6 +49,14 @@ pub trait LoadSharing: Send + Sync + std::fmt::Debug {
     /// the bay's tension. Writes into `out[..intact.len()]`; if `out` is shorter, only its
     /// length is written. No allocation.
     fn distribute(&self, intact: &[bool], total_tension_n: f64, out: &mut [f64]);
+
+    /// When every intact ribbon of a bay of `ribbons` with `cut` of them cut carries the same
+    /// load `T / k` whichever ribbons are cut, the divisor `k`; `None` when the load depends on
+    /// which ribbons are cut. Lets the engine test a new hole against one ribbon's load without
+    /// settling the whole bay.
+    fn uniform_share_divisor(&self, _ribbons: usize, _cut: usize) -> Option<f64> {
+        None
+    }
 }
 
 /// Daniels' equal (global) load sharing: every intact ribbon carries `T / survivors`.
@@ -70,6 +78,10 @@ impl LoadSharing for EqualSharing {
             *o = if ok { share } else { 0.0 };
         }
     }
+
+    fn uniform_share_divisor(&self, ribbons: usize, cut: usize) -> Option<f64> {
+        Some(ribbons.saturating_sub(cut) as f64)
+    }
 }
 
 /// No redistribution: every intact ribbon keeps its nominal share `T / N`, whatever is cut.
@@ -90,6 +102,10 @@ impl LoadSharing for NoRedistribution {
         for (o, &ok) in out.iter_mut().zip(intact) {
             *o = if ok { share } else { 0.0 };
         }
+    }
+
+    fn uniform_share_divisor(&self, ribbons: usize, _cut: usize) -> Option<f64> {
+        Some(ribbons as f64)
     }
 }
 
@@ -398,5 +414,36 @@ mod tests {
                 survivors: 4
             }
         );
+    }
+
+    /// The engine's shortcut agrees with the rule it stands for: where a rule says every
+    /// intact ribbon carries T / k, `distribute` gives exactly that to every intact ribbon of
+    /// every cut pattern of six ribbons (Daniels' equal sharing: k = survivors; no
+    /// redistribution: k = N); local sharing offers no shortcut.
+    #[test]
+    fn uniform_share_divisor_matches_distribute() {
+        let n = 6;
+        let rules: [&dyn LoadSharing; 2] = [&EqualSharing, &NoRedistribution];
+        for rule in rules {
+            for pattern in 0u32..(1 << n) {
+                let intact: Vec<bool> = (0..n).map(|i| pattern & (1 << i) == 0).collect();
+                let cut = intact.iter().filter(|&&b| !b).count();
+                if cut == n {
+                    continue;
+                }
+                let mut out = vec![f64::NAN; n];
+                rule.distribute(&intact, 60.0, &mut out);
+                let k = rule.uniform_share_divisor(n, cut).unwrap();
+                for (o, &ok) in out.iter().zip(&intact) {
+                    if ok {
+                        assert_eq!(*o, 60.0 / k, "{rule:?} pattern {pattern:b}");
+                    }
+                }
+            }
+        }
+        let local = LocalSharing {
+            arrangement: Arrangement::Row,
+        };
+        assert_eq!(local.uniform_share_divisor(n, 1), None);
     }
 }
