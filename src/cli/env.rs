@@ -1,11 +1,8 @@
 //! `tether-risk env`: cumulative flux at chosen thresholds and altitudes, with the local
 //! shielding and focusing factors.
 
-use tether_risk::environment::FluxModel;
-use tether_risk::environment::{
-    diameter_from_mass_m, local_factors, local_factors_for, mass_from_diameter_kg, Grun1985,
-    ShieldingGeometry, VelocityDistribution,
-};
+use tether_risk::environment::{mass_from_diameter_kg, ShieldingGeometry};
+use tether_risk::model::env_table::{environment_table, spread_bays};
 
 fn on(b: bool) -> &'static str {
     if b {
@@ -14,8 +11,8 @@ fn on(b: bool) -> &'static str {
         "off"
     }
 }
-use tether_risk::orbit::{EarthMoon, Side};
-use tether_risk::report::env::{env_table, EnvRow};
+use tether_risk::orbit::Side;
+use tether_risk::report::env::env_table;
 
 use super::output::{print, InputError};
 use super::Format;
@@ -96,31 +93,7 @@ pub fn run(a: Args) -> anyhow::Result<()> {
     if altitude_km.is_empty() {
         match &model {
             Some(m) => {
-                let bays = &m.profile.bays;
-                let n = bays.len();
-                let mut picked: Vec<usize> = (0..12usize.min(n))
-                    .map(|i| {
-                        // Spread on a log scale of altitude, so the low bays (where shielding
-                        // and ejecta change fast) are not skipped.
-                        let top = bays[n - 1].mid_altitude_m().max(1.0);
-                        let lo = bays[0].mid_altitude_m().max(1.0);
-                        let f = if n > 1 {
-                            i as f64 / (12usize.min(n) - 1).max(1) as f64
-                        } else {
-                            0.0
-                        };
-                        let target = lo * (top / lo).powf(f);
-                        bays.iter()
-                            .enumerate()
-                            .min_by(|x, y| {
-                                (x.1.mid_altitude_m() - target)
-                                    .abs()
-                                    .total_cmp(&(y.1.mid_altitude_m() - target).abs())
-                            })
-                            .map_or(0, |b| b.0)
-                    })
-                    .collect();
-                picked.dedup();
+                let picked = spread_bays(m, 12);
                 bay_note = format!(
                     "Bays {} of {} (mid altitudes).\n",
                     picked
@@ -128,11 +101,11 @@ pub fn run(a: Args) -> anyhow::Result<()> {
                         .map(|b| b.to_string())
                         .collect::<Vec<_>>()
                         .join(", "),
-                    n
+                    m.profile.bays.len()
                 );
                 altitude_km = picked
                     .iter()
-                    .map(|&b| bays[b].mid_altitude_m() / 1e3)
+                    .map(|&b| m.profile.bays[b].mid_altitude_m() / 1e3)
                     .collect();
             }
             None => altitude_km = vec![0.0, 100.0, 1000.0, 10000.0, 56000.0],
@@ -145,75 +118,30 @@ pub fn run(a: Args) -> anyhow::Result<()> {
             )));
         }
     }
-    let side = match (&model, a.side) {
-        (Some(m), _) => m.scenario.tether.side,
-        (None, SideArg::Near) => Side::Near,
-        (None, SideArg::Far) => Side::Far,
+    let side = match a.side {
+        SideArg::Near => Side::Near,
+        SideArg::Far => Side::Far,
     };
-    let orbit = EarthMoon::standard();
-    let builtin: Box<dyn FluxModel> = Box::new(Grun1985::standard()?);
-    let default_velocity = VelocityDistribution::ecss_table_c1()?;
-    let (flux, velocity): (&dyn FluxModel, &VelocityDistribution) = match &model {
-        Some(m) => (m.flux.as_ref(), &m.velocity),
-        None => (builtin.as_ref(), &default_velocity),
-    };
-    let (switches, geometry, scale) = match &model {
-        Some(m) => {
-            let e = &m.scenario.environment;
-            (
-                (e.moon_focusing, e.earth_focusing, e.moon_shielding),
-                match e.moon_shielding_geometry {
-                    tether_risk::scenario::ShieldingGeometrySpec::RibbonFace => {
-                        ShieldingGeometry::HangingRibbonFace
-                    }
-                    tether_risk::scenario::ShieldingGeometrySpec::RandomPlate => {
-                        ShieldingGeometry::RandomPlate
-                    }
-                },
-                e.flux_scale_factor,
-            )
+    let table = environment_table(model.as_ref(), &altitude_km, &masses_kg, side, rho)?;
+    let rows = &table.rows;
+    let (switches, scale, side) = (table.switches, table.flux_scale_factor, table.side);
+    let face = match table.geometry {
+        ShieldingGeometry::RandomPlate => "one face of a randomly tumbling plate",
+        ShieldingGeometry::HangingRibbonFace => {
+            "one face of a randomly tumbling plate; Moon shielding for a hanging ribbon's face (normal horizontal)"
         }
-        None => ((true, true, true), ShieldingGeometry::RandomPlate, 1.0),
-    };
-    let mut rows = Vec::new();
-    for &h in &altitude_km {
-        let f = match &model {
-            Some(_) => local_factors_for(
-                &orbit,
-                side,
-                h * 1e3,
-                velocity,
-                switches.0,
-                switches.1,
-                switches.2,
-                geometry,
-            )?,
-            None => local_factors(&orbit, side, h * 1e3, velocity, true, true, true)?,
-        };
-        let mean_speed = f.local_velocity(velocity)?.mean_speed_m_per_s() / 1e3;
-        for &(g, m) in &masses_kg {
-            let model = scale * flux.cumulative_flux_per_m2_per_year(m);
-            rows.push(EnvRow {
-                altitude_km: h,
-                mass_g: g,
-                diameter_m: diameter_from_mass_m(m, rho)?,
-                model_flux_per_m2_per_year: model,
-                shielding_factor: f.moon_shielding,
-                earth_shielding_factor: f.earth_shielding,
-                focusing_factor: f.focusing,
-                mean_speed_km_per_s: mean_speed,
-                local_flux_per_m2_per_year: model * f.total(),
-            });
+        ShieldingGeometry::SurfaceLyingFace => {
+            "one face of a randomly tumbling plate; Moon shielding for a face lying on the ground"
         }
-    }
+    };
     match a.format {
-        Format::Json => print(&(serde_json::to_string_pretty(&rows)? + "\n")),
-        Format::Csv => print(&env_table(&rows).to_csv()),
+        Format::Json => print(&(serde_json::to_string_pretty(rows)? + "\n")),
+        Format::Csv => print(&env_table(rows).to_csv()),
         Format::Text => print(&format!(
             "Meteoroid environment, {}{}, {} side, density {} g/cm^3\n{}\
-             Flux: particles of at least the given mass per m^2 per year onto one face of a randomly tumbling plate{}.\n{bay_note}\n{}",
+             Flux: particles of at least the given mass per m^2 per year onto {face}{}.\n{bay_note}\n{}",
             match &model {
-                Some(m) => format!("scenario \"{}\": {}", m.scenario.spec.name, flux.name()),
+                Some(m) => format!("scenario \"{}\": {}", m.scenario.spec.name, table.flux_name),
                 None => "Grün et al. (1985) in the ECSS-E-ST-10-04C form".into(),
             },
             if scale != 1.0 { format!(", flux scale factor {scale}") } else { String::new() },
@@ -232,7 +160,7 @@ pub fn run(a: Args) -> anyhow::Result<()> {
             if scale != 1.0 { ", times the scale factor" } else { "" },
             {
                 // Words with units on a terminal; CSV and JSON keep the field names.
-                let mut t = env_table(&rows);
+                let mut t = env_table(rows);
                 t.headers = [
                     "altitude (km)",
                     "mass (g)",

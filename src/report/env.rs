@@ -1,32 +1,8 @@
 //! The environment table (`env`): cumulative flux at chosen thresholds and altitudes with the
 //! local shielding and focusing factors.
 
-use serde::Serialize;
-
 use super::table::{sig, Table};
-
-/// One (altitude, threshold) row.
-#[derive(Clone, Debug, Serialize)]
-pub struct EnvRow {
-    /// Altitude above the lunar surface, km.
-    pub altitude_km: f64,
-    /// Mass threshold, g.
-    pub mass_g: f64,
-    /// Diameter of that mass at the chosen density, m.
-    pub diameter_m: f64,
-    /// Free-space model flux of particles >= mass, one face of a tumbling plate, per m^2 per year.
-    pub model_flux_per_m2_per_year: f64,
-    /// Moon shielding factor.
-    pub shielding_factor: f64,
-    /// Earth shielding factor.
-    pub earth_shielding_factor: f64,
-    /// Combined Moon and Earth focusing factor (velocity-distribution average).
-    pub focusing_factor: f64,
-    /// Mean impact speed after focusing, km/s.
-    pub mean_speed_km_per_s: f64,
-    /// Local flux = model x shielding x focusing x scale, per m^2 per year.
-    pub local_flux_per_m2_per_year: f64,
-}
+pub use crate::model::env_table::EnvRow;
 
 /// Rows as a text or CSV table.
 pub fn env_table(rows: &[EnvRow]) -> Table {

@@ -170,6 +170,19 @@ pub enum ShieldingGeometrySpec {
     RandomPlate,
 }
 
+impl ShieldingGeometrySpec {
+    /// The shielding geometry of a bay's ribbon faces: a surface-run bay lies on the ground
+    /// whatever the choice; a hanging bay's faces follow the choice.
+    pub fn for_bay(self, surface_run: bool) -> crate::environment::ShieldingGeometry {
+        use crate::environment::ShieldingGeometry as G;
+        match self {
+            _ if surface_run => G::SurfaceLyingFace,
+            ShieldingGeometrySpec::RibbonFace => G::HangingRibbonFace,
+            ShieldingGeometrySpec::RandomPlate => G::RandomPlate,
+        }
+    }
+}
+
 fn default_shielding_geometry() -> ShieldingGeometrySpec {
     ShieldingGeometrySpec::RibbonFace
 }
