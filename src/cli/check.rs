@@ -328,8 +328,61 @@ fn cross_link_check(model: &Model) -> (String, serde_json::Value) {
         .get(k_max)
         .map_or(0.0, |b| b.bottom_altitude_m / 1e3);
     let years = model.scenario.run.mission_years;
-    // Each cross-link is cut at most once (no repair): sum of 1 - exp(-rate x mission).
-    let expected: f64 = rates.iter().map(|r| -(-r * years).exp_m1()).sum();
+    let plan = model.scenario.repair.as_ref().map(|r| {
+        tether_risk::repair::RepairPlan::new(r, &model.profile, model.scenario.run.mission_s)
+    });
+    let down_s: Option<Vec<f64>> = plan.as_ref().and_then(|p| {
+        (0..rates.len())
+            .map(|k| p.cross_link_down_s(k))
+            .collect::<Option<Vec<f64>>>()
+    });
+    let year_s = tether_risk::units::SECONDS_PER_YEAR;
+    let (expected, repair_text, repair_json) = match &down_s {
+        // With repair, each station alternates joined (exponential, its rate) and cut (R_k,
+        // no queueing): long-run share cut lambda R / (1 + lambda R), cuts lambda T / (1 +
+        // lambda R) (alternating renewal).
+        Some(d) => {
+            let (mut cuts, mut share_sum, mut worst) = (0.0, 0.0, (0usize, 0.0f64));
+            for (k, (&r, &down)) in rates.iter().zip(d).enumerate().skip(1) {
+                let lr = r / year_s * down;
+                cuts += r * years / (1.0 + lr);
+                let share = lr / (1.0 + lr);
+                share_sum += share;
+                if share > worst.1 {
+                    worst = (k, share);
+                }
+            }
+            let mean_share = share_sum / interior.max(1) as f64;
+            let mean_down_h = d.iter().skip(1).sum::<f64>() / interior.max(1) as f64 / 3600.0;
+            (
+                cuts,
+                format!(
+                    "  cross-link repair: a cut stays cut about {} h on average (detection, turnaround, travel from the nearest station, {} h on site; no queueing): {} of the station-time cut on average, highest {} at station {}\n",
+                    sig(mean_down_h, 3),
+                    sig(plan.as_ref().and_then(|p| p.cross_link.as_ref()).map_or(0.0, |x| x.repair_s / 3600.0), 3),
+                    sig(mean_share, 3),
+                    sig(worst.1, 3),
+                    worst.0,
+                ),
+                Some(serde_json::json!({
+                    "mean_time_cut_hours": mean_down_h,
+                    "mean_share_of_time_cut": mean_share,
+                    "highest_share_of_time_cut": worst.1,
+                    "highest_share_station": worst.0,
+                })),
+            )
+        }
+        // Each cross-link is cut at most once (no repair): sum of 1 - exp(-rate x mission).
+        None => (
+            rates.iter().map(|r| -(-r * years).exp_m1()).sum(),
+            if plan.is_some() {
+                String::new()
+            } else {
+                "  no repair: a cut cross-link stays cut\n".into()
+            },
+            None,
+        ),
+    };
     let text = format!(
         "\nCross-link hits: on (exposed area {} m^2, critical particle diameter {} mm per cross-link)\n  \
          {interior} interior cross-links: {} cuts per year in all (highest {} per year, station {k_max} at {} km); \
@@ -341,7 +394,7 @@ fn cross_link_check(model: &Model) -> (String, serde_json::Value) {
         sig(alt_km, 5),
         sig(expected, 4),
         sig(years, 4),
-    );
+    ) + &repair_text;
     let json = serde_json::json!({
         "enabled": true,
         "exposed_area_m2": h.exposed_area_m2,
@@ -351,6 +404,7 @@ fn cross_link_check(model: &Model) -> (String, serde_json::Value) {
         "highest_station_rate_per_year": r_max,
         "highest_rate_station": k_max,
         "expected_cross_link_cuts_over_mission": expected,
+        "repair": repair_json,
     });
     (text, json)
 }

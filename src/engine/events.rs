@@ -289,6 +289,7 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
             let stations = e.model.profile.bays.len() + 1;
             if run.scratch.link_cut.len() != stations {
                 run.scratch.link_cut = vec![false; stations];
+                run.scratch.link_cut_at_s = vec![0.0; stations];
             }
             run.next_link_s = exp_gap(&mut run.links_rng, xl.total_rate_s);
         }
@@ -519,6 +520,21 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
                 }
                 return flow;
             }
+            EventKind::LinkDetect { link } => {
+                fleet.on_link_detect(link, t, &mut self.tally.repair);
+                fleet.dispatch(plan, policy, t, &mut self.tally.repair);
+            }
+            EventKind::LinkArrive { station, link } => fleet.on_link_arrive(plan, station, link, t),
+            EventKind::LinkDone { station, link } => {
+                self.fleet = Some(fleet);
+                let flow = self.rejoin_link(t, link);
+                let Some(mut fleet) = self.fleet.take() else {
+                    return Flow::End;
+                };
+                fleet.on_link_done(plan, station, link, t, &mut self.tally.repair);
+                self.fleet = Some(fleet);
+                return flow;
+            }
             EventKind::InspectionDue => fleet.on_inspection_due(plan, t, &mut self.tally.repair),
             EventKind::InspectStep {
                 station,
@@ -604,11 +620,29 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
             replaced = r;
         }
         let slot = self.scratch.slot(bay, n);
-        self.bring_up_to_date(slot, t);
+        let (a, b) = self.scratch.span_of(bay);
+        if a == b {
+            self.bring_up_to_date(slot, t);
+            self.e
+                .splice(t, bay, segments, self.scratch, &mut self.tally.repair);
+            // More survivors carry less each: nothing can fail, so no cascade to follow.
+            self.loads_changed(slot, t);
+            return replaced;
+        }
+        // A merged span (cut cross-link): a spliced ribbon intact along the span carries load
+        // again, so every bay of the span changes state.
+        for other in a..=b {
+            if let Some(s) = self.scratch.slot_of(other) {
+                self.bring_up_to_date(s, t);
+            }
+        }
         self.e
             .splice(t, bay, segments, self.scratch, &mut self.tally.repair);
-        // More survivors carry less each: nothing can fail, so no cascade to follow.
-        self.loads_changed(slot, t);
+        for other in a..=b {
+            if let Some(s) = self.scratch.slot_of(other) {
+                self.loads_changed(s, t);
+            }
+        }
         replaced
     }
 
@@ -1152,9 +1186,40 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
             }
         }
         self.scratch.link_cut[k] = true;
-        self.scratch.links_cut.push(k as u32);
+        if !self.scratch.links_cut.contains(&(k as u32)) {
+            self.scratch.links_cut.push(k as u32);
+        }
+        self.scratch.link_cut_at_s[k] = t;
         self.out.cross_link_cuts += 1;
+        if let (Some(f), Some(plan)) = (self.fleet.as_mut(), e.repair.as_ref()) {
+            f.on_link_cut(plan, &mut self.repair, k as u32, t);
+        }
         self.settle_span(t, a, b, None)
+    }
+
+    /// Cross-link repair: the cross-link at station `k` is re-joined at `t`. The state-change
+    /// recipe over the merged span it splits: every bay of the span is brought up to date, the
+    /// link carries load again, and each of the two spans left settles under its own loads
+    /// (more ribbons intact along a shorter span carry no more each, so nothing is expected to
+    /// fail; the cascade is followed all the same) and gets its new rates.
+    fn rejoin_link(&mut self, t: f64, k: u32) -> Flow {
+        let ku = k as usize;
+        if self.scratch.link_cut.get(ku) != Some(&true) || k == 0 {
+            self.out.anomaly = Some("a cross-link re-joined that was not cut");
+            return Flow::End;
+        }
+        let (a, b) = self.scratch.span_of(k);
+        for bay in a..=b {
+            if let Some(slot) = self.scratch.slot_of(bay) {
+                self.bring_up_to_date(slot, t);
+            }
+        }
+        self.scratch.link_cut[ku] = false;
+        self.scratch.link_down_s += (t - self.scratch.link_cut_at_s[ku]).max(0.0);
+        if self.settle_span(t, a, k - 1, None) == Flow::End {
+            return Flow::End;
+        }
+        self.settle_span(t, k, b, None)
     }
 
     /// The cascade of the merged span `a..=b` at `t` (every bay in it holds state and is up to
@@ -1234,6 +1299,7 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
                 if l.is_some() && (loss.is_none() || direct == Some(bay)) {
                     loss = l;
                 }
+                self.schedule_detection(t, bay, by_load + by_hole);
             }
         }
         if let Some(l) = loss.as_mut() {
@@ -1265,8 +1331,7 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
                 }
             }
         }
-        // Repair is refused with cross-link hits (scenario validation): no cut to schedule
-        // for detection, only the loss to hand on.
+        // The cuts' detections are scheduled above, bay by bay: only the loss to hand on.
         self.after_cuts(t, direct.unwrap_or(a), 0, loss)
     }
 
@@ -1528,14 +1593,8 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
             .sum()
     }
 
-    /// After cuts in `bay`: schedule their detection; a loss ends the history.
-    fn after_cuts(
-        &mut self,
-        t: f64,
-        bay: u32,
-        newly: u32,
-        loss: Option<super::tally::Loss>,
-    ) -> Flow {
+    /// Schedule the detection of `newly` new cuts in `bay` at `t` (nothing without repair).
+    fn schedule_detection(&mut self, t: f64, bay: u32, newly: u32) {
         if newly > 0 {
             if let (Some(f), Some(plan)) = (self.fleet.as_mut(), self.e.repair.as_ref()) {
                 let cuts = self.scratch.cuts_in(bay);
@@ -1544,6 +1603,17 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
                 }
             }
         }
+    }
+
+    /// After cuts in `bay`: schedule their detection; a loss ends the history.
+    fn after_cuts(
+        &mut self,
+        t: f64,
+        bay: u32,
+        newly: u32,
+        loss: Option<super::tally::Loss>,
+    ) -> Flow {
+        self.schedule_detection(t, bay, newly);
         match loss {
             Some(mut loss) => {
                 if loss.cause != LossCause::ClimberLoad
@@ -1577,6 +1647,9 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
         let end = self.out.loss.map_or(e.mission_s, |l| l.time_s);
         if let (Some(f), Some(plan)) = (self.fleet.as_mut(), e.repair.as_ref()) {
             f.finish(plan, end, &mut self.tally.repair);
+        }
+        if e.cross_links.is_some() {
+            self.out.cross_link_down_s = self.scratch.link_down_until(end);
         }
         self.scratch.fleet = self.fleet.take();
         self.out.weight = self.rare.weight_at(end);

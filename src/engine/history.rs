@@ -52,6 +52,10 @@ pub struct Scratch {
     pub(crate) link_cut: Vec<bool>,
     /// Stations cut in this history (for the reset).
     pub(crate) links_cut: Vec<u32>,
+    /// Time the cross-link at station k was last cut, s (meaningful while `link_cut[k]`).
+    pub(crate) link_cut_at_s: Vec<f64>,
+    /// Time cross-links spent cut and since re-joined in this history, summed over stations, s.
+    pub(crate) link_down_s: f64,
 }
 
 impl Scratch {
@@ -80,6 +84,7 @@ impl Scratch {
             self.link_cut[k as usize] = false;
         }
         self.links_cut.clear();
+        self.link_down_s = 0.0;
         for &b in &self.touched {
             self.slot_of_bay[b as usize] = UNTOUCHED;
         }
@@ -141,6 +146,18 @@ impl Scratch {
 
     /// The merged-bay rule: a ribbon is intact in the span `a..=b` only when it is intact in
     /// every bay of the span (bays without state are intact).
+    /// Cross-link time cut up to `end`, summed over stations: the re-joined ones and those
+    /// still cut, s.
+    pub(crate) fn link_down_until(&self, end: f64) -> f64 {
+        self.link_down_s
+            + self
+                .links_cut
+                .iter()
+                .filter(|&&k| self.link_cut[k as usize])
+                .map(|&k| (end - self.link_cut_at_s[k as usize]).max(0.0))
+                .sum::<f64>()
+    }
+
     pub(crate) fn span_intact(&self, a: u32, b: u32, ribbons: usize) -> [bool; MAX_RIBBONS] {
         let mut mask = [false; MAX_RIBBONS];
         mask[..ribbons].fill(true);
@@ -210,6 +227,8 @@ pub struct HistoryOutcome {
     pub cuts: u32,
     /// Cross-links cut.
     pub cross_link_cuts: u32,
+    /// Time cross-links spent cut (re-joined or not), summed over stations, s.
+    pub cross_link_down_s: f64,
     /// Strikes sampled.
     pub strikes: u64,
     /// Likelihood ratio of the history (1 without the rare-event estimator).
@@ -274,6 +293,7 @@ impl Default for HistoryOutcome {
             loss: None,
             cuts: 0,
             cross_link_cuts: 0,
+            cross_link_down_s: 0.0,
             strikes: 0,
             weight: 1.0,
             stopped: false,
@@ -306,6 +326,7 @@ impl Engine<'_> {
         tally.strikes += out.strikes;
         tally.cuts += u64::from(out.cuts);
         tally.cross_link_cuts += u64::from(out.cross_link_cuts);
+        tally.cross_link_down_s += out.cross_link_down_s.round() as u64;
         tally.cuts_sq += u128::from(out.cuts) * u128::from(out.cuts);
         let m = (scratch.max_cuts as usize).min(tally.max_cuts_in_bay.len().saturating_sub(1));
         if let Some(c) = tally.max_cuts_in_bay.get_mut(m) {

@@ -251,6 +251,10 @@ pub struct RunSummary {
     /// Mean number of cross-links cut per history (only with `tether.cross_link_hits`).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub cross_link_cuts_per_history: Option<f64>,
+    /// Share of the time an interior cross-link station spends cut, mean over stations and
+    /// histories (only with `tether.cross_link_hits`).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub cross_link_cut_fraction_of_time: Option<f64>,
     /// Cut segments per year, whole tether.
     pub cuts_per_year: Interval,
     /// Cuts and losses by altitude band.
@@ -479,6 +483,14 @@ impl RunSummary {
                 .tether
                 .cross_link_hits
                 .map(|_| tally.cross_link_cuts as f64 / tally.histories.max(1) as f64),
+            cross_link_cut_fraction_of_time: sc.tether.cross_link_hits.map(|_| {
+                let interior = engine.model().profile.bays.len().saturating_sub(1) as f64;
+                if interior > 0.0 && tally.time_observed_s > 0 {
+                    tally.cross_link_down_s as f64 / (interior * tally.time_observed_s as f64)
+                } else {
+                    0.0
+                }
+            }),
             cuts_per_year,
             cuts_by_altitude_band,
             expected_cuts_by_year,
@@ -663,6 +675,28 @@ pub struct RepairSummary {
     /// What the looped-ribbon concept did (absent under the climber concept).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub looped: Option<LoopedSummary>,
+    /// What the repair of cut cross-links did (absent without `repair.cross_link_repair`).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub cross_links: Option<CrossLinkRepairSummary>,
+}
+
+/// What the repair of cut cross-links did.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct CrossLinkRepairSummary {
+    /// Cross-links re-joined, all histories.
+    pub repairs: u64,
+    /// Cross-links re-joined per history.
+    pub repairs_per_history: f64,
+    /// Spare cross-links sent out, all histories.
+    pub spares_used: u64,
+    /// Detected cross-link cuts that waited for a spare (a climber free, no spare at its
+    /// station), each counted once.
+    pub stockout_events: u64,
+    /// Cross-link cuts detected, all histories.
+    pub detected: u64,
+    /// Mean wait from detection to a climber's dispatch, hours per detected cross-link cut
+    /// (waits still open at a history's end counted to that end).
+    pub mean_wait_hours: f64,
 }
 
 fn climbers_concept() -> String {
@@ -897,6 +931,18 @@ impl RunSummary {
                 }
                 .into(),
                 looped,
+                cross_links: plan.cross_link.as_ref().map(|_| CrossLinkRepairSummary {
+                    repairs: rt.cross_link_repairs,
+                    repairs_per_history: rt.cross_link_repairs as f64 / h,
+                    spares_used: rt.cross_link_spares_used,
+                    stockout_events: rt.cross_link_stockout_events,
+                    detected: rt.cross_link_detections,
+                    mean_wait_hours: if rt.cross_link_detections > 0 {
+                        rt.cross_link_wait_sum_s as f64 / rt.cross_link_detections as f64 / 3600.0
+                    } else {
+                        0.0
+                    },
+                }),
                 time_to_splice_hours,
                 splices_per_year: if years > 0.0 {
                     rt.splices as f64 / h / years

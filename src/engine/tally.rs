@@ -91,6 +91,10 @@ pub struct Tally {
     /// Cross-links cut (`tether.cross_link_hits`; absent from files when zero).
     #[serde(default, skip_serializing_if = "is_zero")]
     pub cross_link_cuts: u64,
+    /// Time cross-links spent cut, summed over stations and histories, s (absent from files
+    /// when zero).
+    #[serde(default, skip_serializing_if = "is_zero")]
+    pub cross_link_down_s: u64,
     /// Strikes sampled (above the floor).
     pub strikes: u64,
     /// Strikes that made a hole but cut nothing (sub-critical damage).
@@ -191,6 +195,7 @@ impl Tally {
         self.cascade_cuts += o.cascade_cuts;
         self.climber_load_cuts += o.climber_load_cuts;
         self.cross_link_cuts += o.cross_link_cuts;
+        self.cross_link_down_s += o.cross_link_down_s;
         self.strikes += o.strikes;
         self.subcritical_holes += o.subcritical_holes;
         self.cutting_holes += o.cutting_holes;

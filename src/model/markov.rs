@@ -489,7 +489,7 @@ impl MarkovModel {
         }
         if sc.tether.cross_link_hits.is_some() {
             assumptions.push(
-                "cross-link hits are left out: every bay stays a separate bay (the merged-bay rule after a cross-link cut is in the Monte Carlo only, so this estimate is optimistic)"
+                "cross-link hits and their repair are left out: every bay stays a separate bay (the merged-bay rule after a cross-link cut is in the Monte Carlo only, so this estimate is optimistic)"
                     .to_string(),
             );
         }
@@ -818,6 +818,7 @@ mod tests {
             splice_p90_target_hours: None,
             solar: None,
             looped: None,
+            cross_link_repair: None,
         }
     }
 

@@ -77,6 +77,25 @@ pub enum EventKind {
         /// Bay.
         bay: u32,
     },
+    /// A cut of the cross-link at station `link` is detected.
+    LinkDetect {
+        /// Cross-link station (joining bay `link - 1` and bay `link`).
+        link: u32,
+    },
+    /// A climber from `station` reaches cross-link station `link` with a spare cross-link.
+    LinkArrive {
+        /// Home station.
+        station: u32,
+        /// Cross-link station.
+        link: u32,
+    },
+    /// The cross-link at `link` is re-joined (load transfer there again).
+    LinkDone {
+        /// Home station.
+        station: u32,
+        /// Cross-link station.
+        link: u32,
+    },
     /// A periodic inspection of the lowest bays is due.
     InspectionDue,
     /// An inspection climber from `station` is at the middle of `bay`, sweeping up or down,
@@ -239,6 +258,23 @@ pub struct RepairTally {
     /// bins; empty under the climber concept).
     #[serde(default, skip_serializing_if = "Vec::is_empty")]
     pub haul_time_hist: Vec<u64>,
+    /// Cross-links re-joined (`repair.cross_link_repair`).
+    #[serde(default, skip_serializing_if = "is_zero")]
+    pub cross_link_repairs: u64,
+    /// Spare cross-links sent out on repair trips.
+    #[serde(default, skip_serializing_if = "is_zero")]
+    pub cross_link_spares_used: u64,
+    /// Cross-link cuts detected (each becomes a repair job).
+    #[serde(default, skip_serializing_if = "is_zero")]
+    pub cross_link_detections: u64,
+    /// Detected cross-link cuts that waited at some point with a climber free but no spare
+    /// cross-link at its station (each counted once, however long it waits).
+    #[serde(default, skip_serializing_if = "is_zero")]
+    pub cross_link_stockout_events: u64,
+    /// Sum over detected cross-link cuts of the wait from detection to dispatch (open waits
+    /// counted to the history's end), s.
+    #[serde(default, skip_serializing_if = "is_zero")]
+    pub cross_link_wait_sum_s: u64,
 }
 
 fn is_zero(x: &u64) -> bool {
@@ -287,6 +323,11 @@ impl RepairTally {
         self.looped_repairs += o.looped_repairs;
         self.haul_time_sum_s += o.haul_time_sum_s;
         add(&mut self.haul_time_hist, &o.haul_time_hist);
+        self.cross_link_repairs += o.cross_link_repairs;
+        self.cross_link_detections += o.cross_link_detections;
+        self.cross_link_spares_used += o.cross_link_spares_used;
+        self.cross_link_stockout_events += o.cross_link_stockout_events;
+        self.cross_link_wait_sum_s += o.cross_link_wait_sum_s;
         add(&mut self.stockout_histories, &o.stockout_histories);
         add(&mut self.stockout_events, &o.stockout_events);
         for (a, b) in [
@@ -328,6 +369,22 @@ fn add(a: &mut Vec<u64>, b: &[u64]) {
     }
 }
 
+/// The delay from a cut at `t` to its detection under the plan's detection model (one draw
+/// from `rng` for exponential delays, none otherwise).
+fn detection_delay_s<R: Rng + ?Sized>(plan: &RepairPlan, rng: &mut R, t: f64) -> f64 {
+    match plan.detection {
+        Detection::Fixed(d) => d,
+        Detection::Exponential(mean) => {
+            let u = 1.0 - (rng.next_u64() >> 11) as f64 * (1.0 / (1u64 << 53) as f64);
+            -mean * u.ln()
+        }
+        Detection::Periodic(every) => {
+            let next = ((t / every).floor() + 1.0) * every;
+            next - t
+        }
+    }
+}
+
 /// Per-history fleet state.
 #[derive(Debug)]
 pub struct Fleet {
@@ -351,6 +408,21 @@ pub struct Fleet {
     trip_splice: f64,
     /// Looped ribbon: hauled-in lengths waiting at each station for a splice position or stock.
     loop_jobs: Vec<Vec<Job>>,
+    /// Spare cross-links at each station.
+    link_stock: Vec<u32>,
+    /// Detected cross-link cuts waiting for a climber and a spare, first come first served.
+    link_jobs: Vec<LinkJob>,
+    /// Sum of cross-link waits (detection to dispatch) so far, s: minus the detection time of
+    /// each waiting job, plus its dispatch time.
+    link_wait_sum: f64,
+}
+
+/// A detected cross-link cut waiting for repair.
+#[derive(Clone, Copy, Debug, PartialEq)]
+struct LinkJob {
+    link: u32,
+    detected_s: f64,
+    stockout: bool,
 }
 
 impl Fleet {
@@ -377,6 +449,9 @@ impl Fleet {
             trip_light_wait: 0.0,
             trip_splice: 0.0,
             loop_jobs: (0..n).map(|_| Vec::with_capacity(8)).collect(),
+            link_stock: vec![0; n],
+            link_jobs: Vec::with_capacity(8),
+            link_wait_sum: 0.0,
         }
     }
 
@@ -391,6 +466,10 @@ impl Fleet {
         }
         self.jobs.clear();
         self.loop_jobs.iter_mut().for_each(Vec::clear);
+        let link_stock = plan.cross_link.as_ref().map_or(0, |x| x.initial_stock);
+        self.link_stock.iter_mut().for_each(|s| *s = link_stock);
+        self.link_jobs.clear();
+        self.link_wait_sum = 0.0;
         self.demand.iter_mut().for_each(|d| *d = 0);
         self.waiting = 0;
         self.area = 0.0;
@@ -546,17 +625,7 @@ impl Fleet {
         cuts_in_bay: u32,
         t: f64,
     ) {
-        let delay = match plan.detection {
-            Detection::Fixed(d) => d,
-            Detection::Exponential(mean) => {
-                let u = 1.0 - (rng.next_u64() >> 11) as f64 * (1.0 / (1u64 << 53) as f64);
-                -mean * u.ln()
-            }
-            Detection::Periodic(every) => {
-                let next = ((t / every).floor() + 1.0) * every;
-                next - t
-            }
-        };
+        let delay = detection_delay_s(plan, rng, t);
         self.queue.push(t + delay, EventKind::Detect { bay });
         for j in self.jobs.iter_mut().filter(|j| j.bay == bay) {
             j.cuts_in_bay = cuts_in_bay;
@@ -720,6 +789,19 @@ impl Fleet {
             }
             return;
         }
+        self.serve_ribbon_jobs(plan, policy, t, tally);
+        self.serve_link_jobs(plan, t, tally);
+    }
+
+    /// Climbers: serve waiting ribbon jobs (in the policy's order) while a climber and stock
+    /// allow.
+    fn serve_ribbon_jobs(
+        &mut self,
+        plan: &RepairPlan,
+        policy: &dyn DispatchPolicy,
+        t: f64,
+        tally: &mut RepairTally,
+    ) {
         while !self.jobs.is_empty() && self.idle.iter().any(|&c| c > 0) {
             let k = policy.choose(&self.jobs, plan);
             let bay = self.jobs[k].bay as usize;
@@ -795,6 +877,123 @@ impl Fleet {
             );
             self.reorder_if_low(plan, s, t);
         }
+    }
+
+    /// Serve waiting cross-link jobs, first detected first, after the ribbon jobs: each goes to
+    /// the nearest station (by travel time) with a free climber and a spare cross-link. When
+    /// free climbers have no spare at their stations, every job waiting then is a cross-link
+    /// stock-out (each counted once); they wait for a return or a delivery.
+    fn serve_link_jobs(&mut self, plan: &RepairPlan, t: f64, tally: &mut RepairTally) {
+        let Some(x) = plan.cross_link.as_ref() else {
+            return;
+        };
+        while !self.link_jobs.is_empty() && self.idle.iter().any(|&c| c > 0) {
+            let mut k = 0;
+            for (i, j) in self.link_jobs.iter().enumerate().skip(1) {
+                if j.detected_s < self.link_jobs[k].detected_s {
+                    k = i;
+                }
+            }
+            let link = self.link_jobs[k].link;
+            let to_m = x.link_m[link as usize];
+            let mut best: Option<(usize, f64)> = None;
+            for s in 0..plan.stations.len() {
+                if self.idle[s] == 0 || self.link_stock[s] == 0 {
+                    continue;
+                }
+                let tt = plan.leg_s(plan.stations[s].altitude_m, to_m, t + plan.turnaround_s);
+                if best.is_none_or(|(_, b)| tt < b) {
+                    best = Some((s, tt));
+                }
+            }
+            let Some((s, travel)) = best else {
+                // No free climber has a spare: every waiting cross-link cut waits for stock.
+                for j in self.link_jobs.iter_mut().filter(|j| !j.stockout) {
+                    j.stockout = true;
+                    tally.cross_link_stockout_events += 1;
+                }
+                return;
+            };
+            self.link_jobs.swap_remove(k);
+            self.link_stock[s] -= 1;
+            self.idle[s] -= 1;
+            self.busy -= t;
+            self.link_wait_sum += t;
+            tally.cross_link_spares_used += 1;
+            self.push_leg(
+                plan,
+                t + plan.turnaround_s,
+                plan.stations[s].altitude_m,
+                to_m,
+                true,
+                false,
+            );
+            self.queue.push(
+                t + plan.turnaround_s + travel,
+                EventKind::LinkArrive {
+                    station: s as u32,
+                    link,
+                },
+            );
+        }
+    }
+
+    /// A cut of the cross-link at station `link` at `t`: schedule its detection (repair stream
+    /// for random delays). Nothing without cross-link repair.
+    pub fn on_link_cut<R: Rng + ?Sized>(
+        &mut self,
+        plan: &RepairPlan,
+        rng: &mut R,
+        link: u32,
+        t: f64,
+    ) {
+        if plan.cross_link.is_none() {
+            return;
+        }
+        let delay = detection_delay_s(plan, rng, t);
+        self.queue.push(t + delay, EventKind::LinkDetect { link });
+    }
+
+    /// A cross-link cut is detected at `t`: it waits for a climber and a spare.
+    pub fn on_link_detect(&mut self, link: u32, t: f64, tally: &mut RepairTally) {
+        tally.cross_link_detections += 1;
+        self.link_wait_sum -= t;
+        self.link_jobs.push(LinkJob {
+            link,
+            detected_s: t,
+            stockout: false,
+        });
+    }
+
+    /// The climber reached cross-link station `link`: schedule the end of the re-join.
+    pub fn on_link_arrive(&mut self, plan: &RepairPlan, station: u32, link: u32, t: f64) {
+        let Some(x) = plan.cross_link.as_ref() else {
+            return;
+        };
+        self.queue
+            .push(t + x.repair_s, EventKind::LinkDone { station, link });
+    }
+
+    /// The cross-link at `link` is re-joined at `t`: count it and send the climber home.
+    pub fn on_link_done(
+        &mut self,
+        plan: &RepairPlan,
+        station: u32,
+        link: u32,
+        t: f64,
+        tally: &mut RepairTally,
+    ) {
+        let Some(x) = plan.cross_link.as_ref() else {
+            return;
+        };
+        tally.cross_link_repairs += 1;
+        let from_m = x.link_m[link as usize];
+        let home_m = plan.stations[station as usize].altitude_m;
+        self.push_leg(plan, t, from_m, home_m, false, true);
+        self.queue.push(
+            t + plan.leg_s(from_m, home_m, t),
+            EventKind::Return { station },
+        );
     }
 
     /// The climber reached the bay: schedule the end of splicing.
@@ -927,14 +1126,23 @@ impl Fleet {
         match plan.resupply {
             Resupply::Periodic { interval_s, batch } => {
                 self.stock[s] = self.stock[s].saturating_add(batch);
+                self.add_link_stock(plan, s);
                 self.queue
                     .push(t + interval_s, EventKind::Resupply { station });
             }
             Resupply::ReorderPoint { batch, .. } => {
                 self.stock[s] = self.stock[s].saturating_add(batch);
+                self.add_link_stock(plan, s);
                 self.order_outstanding[s] = false;
             }
             Resupply::None => {}
+        }
+    }
+
+    /// A delivery to station `s` brings its spare cross-links too.
+    fn add_link_stock(&mut self, plan: &RepairPlan, s: usize) {
+        if let Some(x) = plan.cross_link.as_ref() {
+            self.link_stock[s] = self.link_stock[s].saturating_add(x.resupply_batch);
         }
     }
 
@@ -959,6 +1167,8 @@ impl Fleet {
         tally.trip_travel_sum_s += self.trip_travel.round() as u64;
         tally.trip_wait_for_light_sum_s += self.trip_light_wait.round() as u64;
         tally.trip_splice_sum_s += self.trip_splice.round() as u64;
+        let link_waits = self.link_wait_sum + self.link_jobs.len() as f64 * end_s;
+        tally.cross_link_wait_sum_s += link_waits.max(0.0).round() as u64;
         for s in 0..plan.stations.len() {
             if self.stockout_seen[s] {
                 tally.stockout_histories[s] += 1;

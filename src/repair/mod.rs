@@ -123,6 +123,23 @@ pub struct RepairPlan {
     pub shade: Option<ShadeMotion>,
     /// The looped-ribbon concept (None: climbers).
     pub looped: Option<LoopPlan>,
+    /// Repair of cut cross-links (None: cut cross-links stay cut).
+    pub cross_link: Option<CrossLinkPlan>,
+}
+
+/// Repair of cut cross-links as the fleet needs it: the on-site time, the spare parts, and
+/// where each cross-link station lies along the line.
+#[derive(Clone, Debug, PartialEq)]
+pub struct CrossLinkPlan {
+    /// Time on site to re-join one cross-link, s.
+    pub repair_s: f64,
+    /// Spare cross-links at each station at mission start.
+    pub initial_stock: u32,
+    /// Spare cross-links per resupply delivery.
+    pub resupply_batch: u32,
+    /// Position along the line of cross-link station k (joining bay k - 1 and bay k; entry
+    /// 0 is the base end and entry `bays` the top), m.
+    pub link_m: Vec<f64>,
 }
 
 /// The looped-ribbon concept as the fleet needs it. Each ribbon runs as a loop over a pulley
@@ -313,6 +330,17 @@ impl RepairPlan {
             }),
             shade: None,
             looped,
+            cross_link: r.cross_link_repair.map(|x| CrossLinkPlan {
+                repair_s: x.repair_s,
+                initial_stock: x.spares_per_station,
+                resupply_batch: x.resupply_batch,
+                link_m: profile
+                    .bays
+                    .iter()
+                    .map(|b| b.line_bottom_m)
+                    .chain(profile.bays.last().map(|b| b.line_top_m))
+                    .collect(),
+            }),
         }
     }
 
@@ -328,6 +356,26 @@ impl RepairPlan {
             power_w: s.power_w,
         });
         self
+    }
+
+    /// The time a cut cross-link at station `link` stays cut when nothing queues: the mean
+    /// detection delay (half the interval for periodic inspection), the turnaround, the travel
+    /// from the nearest station (leaving at mission start, so with solar climbers the shadow
+    /// of that moment) and the time on site, s. None without cross-link repair.
+    pub fn cross_link_down_s(&self, link: usize) -> Option<f64> {
+        let x = self.cross_link.as_ref()?;
+        let to_m = *x.link_m.get(link)?;
+        let detection = match self.detection {
+            Detection::Fixed(d) => d,
+            Detection::Exponential(mean) => mean,
+            Detection::Periodic(every) => 0.5 * every,
+        };
+        let travel = self
+            .stations
+            .iter()
+            .map(|s| self.leg_s(s.altitude_m, to_m, self.turnaround_s))
+            .fold(f64::INFINITY, f64::min);
+        Some(detection + self.turnaround_s + travel + x.repair_s)
     }
 
     /// Time of a leg from altitude `from_m` to `to_m` started at `t0_s`, s: the distance at the

@@ -117,10 +117,25 @@ pub fn run_text(s: &RunSummary) -> String {
         sig(s.mean_cuts, 4)
     ));
     if let Some(x) = s.cross_link_cuts_per_history {
-        o.push_str(&format!(
-            "Cross-links cut per history: {} (cross-link hits on; no cross-link repair)\n",
-            sig(x, 4)
-        ));
+        let share = s
+            .cross_link_cut_fraction_of_time
+            .map_or(String::new(), |f| {
+                format!("; share of station-time cut {}", sig(f, 3))
+            });
+        match s.repair.as_ref().and_then(|r| r.cross_links.as_ref()) {
+            Some(c) => o.push_str(&format!(
+                "Cross-links cut per history: {}{share}; re-joined per history {}; mean wait from detection to dispatch {} h per detected cut; {} of {} detected cuts waited for a spare cross-link (a climber free, no spare at its station)\n",
+                sig(x, 4),
+                sig(c.repairs_per_history, 4),
+                sig(c.mean_wait_hours, 3),
+                c.stockout_events,
+                c.detected
+            )),
+            None => o.push_str(&format!(
+                "Cross-links cut per history: {}{share} (cross-link hits on; no cross-link repair)\n",
+                sig(x, 4)
+            )),
+        }
     }
     o.push_str(&format!(
         "Losses by cause: {} direct cut, {} cascade, {} while waiting for spare stock, {} climber load; {} of cuts came from load redistribution\n",

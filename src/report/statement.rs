@@ -53,7 +53,10 @@ pub fn monte_carlo_assumptions(s: &RunSummary, scenario: Option<&Value>) -> Vec<
             text(tether, "load_sharing").unwrap_or("the scenario's")
         ),
         "the tether is lost when every ribbon of one bay is cut; one loss ends the history".into(),
-        cross_link_assumption(tether.and_then(|t| t.get("cross_link_hits"))),
+        cross_link_assumption(
+            tether.and_then(|t| t.get("cross_link_hits")),
+            repair.and_then(|r| r.get("cross_link_repair")),
+        ),
     ];
     let looped = repair.filter(|r| text(Some(r), "concept") == Some("looped_ribbon"));
     match repair {
@@ -91,7 +94,7 @@ pub fn monte_carlo_assumptions(s: &RunSummary, scenario: Option<&Value>) -> Vec<
 }
 
 /// Cross-link hits in words (the scenario's `tether.cross_link_hits`; absent: off).
-fn cross_link_assumption(hits: Option<&Value>) -> String {
+fn cross_link_assumption(hits: Option<&Value>, repair: Option<&Value>) -> String {
     let Some(h) = hits.filter(|h| !h.is_null()) else {
         return "cross-links are never hit (cross-link hits off): every cross-link transfers load for the whole mission".into();
     };
@@ -101,9 +104,25 @@ fn cross_link_assumption(hits: Option<&Value>) -> String {
             .map_or("?".into(), |x| sig(x, 4))
     };
     format!(
-        "each interior cross-link is cut by one particle of diameter at least {} mm striking its exposed area of {} m^2 (a Poisson process at the flux model's rate above that particle's mass at the cross-link's altitude, with the adjacent bay's shielding and focusing; engineering assumption: one critical size, no cumulative damage, no lunar ejecta or meteor streams on cross-links); a cut cross-link stops load transfer at its station, so the bays on either side act as one longer bay: a ribbon cut anywhere in the merged span counts as cut along all of it, the span's intact ribbons share the load, and the tether is lost when no ribbon is intact along a span; cut cross-links stay cut (no repair)",
+        "each interior cross-link is cut by one particle of diameter at least {} mm striking its exposed area of {} m^2 (a Poisson process at the flux model's rate above that particle's mass at the cross-link's altitude, with the adjacent bay's shielding and focusing; engineering assumption: one critical size, no cumulative damage, no lunar ejecta or meteor streams on cross-links); a cut cross-link stops load transfer at its station, so the bays on either side act as one longer bay: a ribbon cut anywhere in the merged span counts as cut along all of it, the span's intact ribbons share the load, and the tether is lost when no ribbon is intact along a span; {}",
         num("critical_diameter_mm"),
-        num("exposed_area_m2")
+        num("exposed_area_m2"),
+        match repair.filter(|r| !r.is_null()) {
+            Some(r) => {
+                let rn = |k: &str| {
+                    r.get(k)
+                        .and_then(Value::as_f64)
+                        .map_or("?".into(), |x| sig(x, 4))
+                };
+                format!(
+                    "a cut cross-link is detected like a ribbon cut and re-joined by a climber from the nearest station holding a spare cross-link ({} at each station at mission start, {} more with each delivery; ribbon jobs are served first), {} h on site; the span splits again when it is re-joined",
+                    rn("spares_per_station"),
+                    rn("resupply_batch"),
+                    rn("repair_hours")
+                )
+            }
+            None => "cut cross-links stay cut (no repair)".into(),
+        }
     )
 }
 

@@ -654,6 +654,29 @@ pub struct RepairSpec {
     /// listed with their defaults, so a trade study can switch the concept alone).
     #[serde(default)]
     pub looped_ribbon: LoopedRibbonSpec,
+    /// Repair of cut cross-links (needed, and only allowed, with `tether.cross_link_hits`): a
+    /// climber carries a spare cross-link to the station and re-joins it there.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub cross_link_repair: Option<CrossLinkRepairSpec>,
+}
+
+/// Repair of a cut cross-link: the cut is detected like a ribbon cut (the repair section's
+/// detection model); a free climber from the nearest station holding a spare cross-link (ribbon
+/// jobs are served first) carries it to the cross-link's station and re-joins it there, which
+/// takes `repair_hours` on site; then it returns home. The two bays act as one merged span
+/// from the cut until the re-join is done.
+#[derive(Clone, Copy, Debug, Serialize, Deserialize, PartialEq)]
+#[serde(deny_unknown_fields)]
+pub struct CrossLinkRepairSpec {
+    /// Time on site to re-join one cross-link, hours.
+    pub repair_hours: f64,
+    /// Spare cross-links held at each station at mission start (0: cut cross-links are never
+    /// repaired unless a delivery brings spares).
+    pub spares_per_station: u32,
+    /// Spare cross-links each resupply delivery brings to its station (with the ribbon
+    /// segments of `repair.resupply`; 0 by default).
+    #[serde(default)]
+    pub resupply_batch: u32,
 }
 
 /// The repair concept.

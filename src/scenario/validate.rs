@@ -150,6 +150,19 @@ pub struct RepairSettings {
     pub solar: Option<SolarSettings>,
     /// The looped-ribbon concept (None: climbers, the default).
     pub looped: Option<LoopedSettings>,
+    /// Repair of cut cross-links (None: not given).
+    pub cross_link_repair: Option<CrossLinkRepairSettings>,
+}
+
+/// Repair of cut cross-links in SI units (see [`crate::scenario::CrossLinkRepairSpec`]).
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct CrossLinkRepairSettings {
+    /// Time on site to re-join one cross-link, s.
+    pub repair_s: f64,
+    /// Spare cross-links at each station at mission start.
+    pub spares_per_station: u32,
+    /// Spare cross-links per resupply delivery.
+    pub resupply_batch: u32,
 }
 
 /// The looped-ribbon repair concept in SI units.
@@ -396,21 +409,7 @@ impl Scenario {
             Some(v) => Some(validate_validation_mode(v, tether.ribbon_count)?),
             None => None,
         };
-        if tether.cross_link_hits.is_some() {
-            let other = if repair.is_some() {
-                Some("repair (a cut cross-link as a repair job is not built yet; remove the repair section to study cross-link hits without repair)")
-            } else if validation_mode.is_some() {
-                Some("validation_mode (its synthetic histories have no cross-links)")
-            } else {
-                None
-            };
-            if let Some(other) = other {
-                return Err(ScenarioError::Model {
-                    path: "tether.cross_link_hits".into(),
-                    message: format!("cannot be combined with {other}"),
-                });
-            }
-        }
+        check_cross_link_combinations(&tether, repair.as_ref(), validation_mode.is_some())?;
         Ok(Scenario {
             spec,
             hash,
@@ -967,6 +966,63 @@ fn validate_damage(d: &DamageSpec) -> Result<DamageSpec, ScenarioError> {
 /// Longest station or scenario name accepted, characters.
 pub const MAX_NAME_CHARS: usize = 200;
 
+/// What cross-link hits can be combined with: repair only by climbers with a cross-link repair
+/// job (`repair.cross_link_repair`, which needs the hits), without preventive replacement or
+/// climber loads (their state changes are not written for merged spans), and not the
+/// synthetic constant-rate mode (no cross-links).
+fn check_cross_link_combinations(
+    tether: &TetherSettings,
+    repair: Option<&RepairSettings>,
+    synthetic: bool,
+) -> Result<(), ScenarioError> {
+    let refuse = |path: &str, message: String| {
+        Err(ScenarioError::Model {
+            path: path.into(),
+            message,
+        })
+    };
+    if tether.cross_link_hits.is_none() {
+        if repair.is_some_and(|r| r.cross_link_repair.is_some()) {
+            return refuse(
+                "repair.cross_link_repair",
+                "has nothing to repair: cross-links are never cut without tether.cross_link_hits (add it, or remove repair.cross_link_repair)".into(),
+            );
+        }
+        return Ok(());
+    }
+    if synthetic {
+        return refuse(
+            "tether.cross_link_hits",
+            "cannot be combined with validation_mode (its synthetic histories have no cross-links)"
+                .into(),
+        );
+    }
+    let Some(r) = repair else {
+        return Ok(());
+    };
+    let other = if r.looped.is_some() {
+        Some(("repair.concept", "the looped-ribbon concept (no climber travels to re-join a cross-link; use \"climbers\")"))
+    } else if r.preventive.is_some() {
+        Some(("repair.preventive_replacement", "preventive replacement (not built for merged spans yet; remove it to study cross-link hits with repair)"))
+    } else if r.climber_load_on_bays {
+        Some((
+            "repair.climber.load_on_bays",
+            "climber loads on the bays (not built for merged spans yet; set it to false)",
+        ))
+    } else if r.cross_link_repair.is_none() {
+        Some(("repair.cross_link_repair", "a repair section without repair.cross_link_repair: say how a cut cross-link is re-joined (repair_hours, spares_per_station; spares_per_station 0 for cross-links that are never repaired)"))
+    } else {
+        None
+    };
+    match other {
+        Some((path, what)) => refuse(
+            "tether.cross_link_hits",
+            format!("cannot be combined with {what} [{path}]"),
+        ),
+        None => Ok(()),
+    }
+}
+
 fn validate_repair(r: &RepairSpec, top_altitude_m: f64) -> Result<RepairSettings, ScenarioError> {
     if r.stations.is_empty() {
         return Err(ScenarioError::Model {
@@ -1191,6 +1247,7 @@ fn validate_repair(r: &RepairSpec, top_altitude_m: f64) -> Result<RepairSettings
         )?;
     }
     let solar = validate_power(&c.power, up.min(down))?;
+    let cross_link_repair = validate_cross_link_repair(r)?;
     Ok(RepairSettings {
         stations,
         speed_up_m_per_s: up,
@@ -1207,7 +1264,44 @@ fn validate_repair(r: &RepairSpec, top_altitude_m: f64) -> Result<RepairSettings
         splice_p90_target_hours: r.splice_p90_target_hours,
         solar,
         looped,
+        cross_link_repair,
     })
+}
+
+/// `repair.cross_link_repair`, when given.
+fn validate_cross_link_repair(
+    r: &RepairSpec,
+) -> Result<Option<CrossLinkRepairSettings>, ScenarioError> {
+    let Some(x) = r.cross_link_repair.as_ref() else {
+        return Ok(None);
+    };
+    let q = "repair.cross_link_repair";
+    let hours = check(
+        &format!("{q}.repair_hours"),
+        x.repair_hours,
+        Range::open_closed(0.0, 1e5),
+        "h",
+        "time on site to re-join one cross-link",
+    )?;
+    check_count(
+        &format!("{q}.spares_per_station"),
+        u64::from(x.spares_per_station),
+        0,
+        1_000_000,
+        "spare cross-links at each station at mission start",
+    )?;
+    check_count(
+        &format!("{q}.resupply_batch"),
+        u64::from(x.resupply_batch),
+        0,
+        1_000_000,
+        "spare cross-links per resupply delivery",
+    )?;
+    Ok(Some(CrossLinkRepairSettings {
+        repair_s: hours * crate::units::SECONDS_PER_HOUR,
+        spares_per_station: x.spares_per_station,
+        resupply_batch: x.resupply_batch,
+    }))
 }
 
 /// The looped-ribbon settings (checked whatever the concept, so a sweep can switch it), and

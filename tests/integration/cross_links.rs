@@ -200,7 +200,7 @@ fn bad_cross_link_inputs_are_refused_with_field_range_and_unit() {
         e.contains("tether.cross_link_hits.critical_diameter_mm") && e.contains("mm"),
         "{e}"
     );
-    // With repair (not built yet): refused, naming the field.
+    // With a repair section but no repair.cross_link_repair: refused, naming the field.
     let p = scenario_with("xl-repair", |v| {
         v["tether"]["cross_link_hits"] =
             json!({"exposed_area_m2": 1.0, "critical_diameter_mm": 0.5});
@@ -320,4 +320,213 @@ fn cross_link_strike_rate_is_the_flux_above_the_critical_mass_times_the_exposed_
             );
         }
     }
+}
+
+/// The demo with cross-link hits and their repair, a fleet large enough that no job ever
+/// queues (100 climbers and ample spares at each station), and ribbons strong enough that no
+/// history is lost (so no downtime is cut short).
+fn with_link_repair(repair_hours: f64) -> Value {
+    let mut v: Value = serde_json::from_str(DEMO).unwrap();
+    v["tether"]["ribbon_count"] = json!(8);
+    v["tether"]["cross_link_hits"] = json!({"exposed_area_m2": 0.04, "critical_diameter_mm": 0.5});
+    for s in v["repair"]["stations"].as_array_mut().unwrap() {
+        s["climbers"] = json!(100);
+        s["initial_stock_segments"] = json!(10_000);
+    }
+    v["repair"]["cross_link_repair"] =
+        json!({"repair_hours": repair_hours, "spares_per_station": 10_000});
+    v
+}
+
+/// Independent answer (alternating renewal process, worked here): a cross-link station is cut
+/// at rate lambda while joined (a hit on a cut station changes nothing, and the rate does not
+/// depend on the past: the up times are exponential), and a cut stays for the fixed time
+/// R = detection + turnaround + travel from the nearest station + time on site (no queue).
+/// The n-th cut comes at S_n = G_n + (n - 1) R with G_n ~ Gamma(n, lambda), so the expected time
+/// cut by T is E[D(T)] = sum_n int_0^min(R, A_n) P(G_n <= A_n - s) ds, A_n = T - (n - 1) R
+/// (Ross, Introduction to Probability Models, alternating renewal processes; the Gamma law of
+/// a sum of exponential gaps). Its long-run share lambda R / (1 + lambda R) is the check on
+/// this sum in the limit.
+fn expected_time_cut_s(lambda_s: f64, r_s: f64, t_s: f64) -> f64 {
+    // P(G_n <= x) = 1 - sum_{k<n} e^(-lambda x) (lambda x)^k / k!, terms in logs (no underflow).
+    let gamma_cdf = |n: u32, x: f64| -> f64 {
+        if x <= 0.0 {
+            return 0.0;
+        }
+        let lx = lambda_s * x;
+        let (mut ln_fact, mut sum) = (0.0f64, 0.0f64);
+        for k in 0..n {
+            if k > 0 {
+                ln_fact += f64::from(k).ln();
+            }
+            sum += (-lx + f64::from(k) * lx.ln() - ln_fact).exp();
+        }
+        (1.0 - sum).max(0.0)
+    };
+    let mut total = 0.0;
+    for n in 1..100_000u32 {
+        let a = t_s - f64::from(n - 1) * r_s;
+        if a <= 0.0 {
+            break;
+        }
+        if gamma_cdf(n, a) < 1e-16 {
+            break; // the n-th cut (and every later one) almost surely comes after T
+        }
+        let upper = r_s.min(a);
+        // Simpson's rule over [0, upper] (the integrand is smooth).
+        let m = 200;
+        let h = upper / f64::from(m);
+        let mut acc = gamma_cdf(n, a) + gamma_cdf(n, a - upper);
+        for i in 1..m {
+            let w = if i % 2 == 1 { 4.0 } else { 2.0 };
+            acc += w * gamma_cdf(n, a - f64::from(i) * h);
+        }
+        total += acc * h / 3.0;
+    }
+    total
+}
+
+#[test]
+fn the_renewal_sum_matches_its_closed_forms() {
+    // Over 200 cycles the share of time cut tends to lambda R / (1 + lambda R) (Ross,
+    // alternating renewal processes); the start in the joined state lowers it by a bounded
+    // amount, below 1e-3 of the total here.
+    let (lambda, r) = (1.0 / 1000.0, 250.0);
+    let t = 2.5e5;
+    let share = expected_time_cut_s(lambda, r, t) / t;
+    let long_run = lambda * r / (1.0 + lambda * r);
+    assert!(
+        (share / long_run - 1.0).abs() < 1e-3,
+        "{share} vs {long_run}"
+    );
+    // Within one repair time at most one cut can happen: E[D(T)] = E[(T - G_1)^+] =
+    // T - (1 - e^(-lambda T)) / lambda for T <= R (worked by hand).
+    let t = 200.0;
+    let exact = t - (1.0 - (-lambda * t).exp()) / lambda;
+    let sum = expected_time_cut_s(lambda, r, t);
+    assert!((sum / exact - 1.0).abs() < 1e-9, "{sum} vs {exact}");
+}
+
+#[test]
+fn time_cross_links_spend_cut_follows_the_alternating_renewal_law() {
+    let repair_hours = 48.0;
+    let model = model_of(&with_link_repair(repair_hours));
+    let engine = Engine::new(&model, 1.0).unwrap().with_invariant_checks();
+    let t_s = engine.mission_s();
+    // R per station from the scenario's own numbers: detection 2 h, turnaround 12 h, climbing
+    // at 60 m/s, descending at 80 m/s from the nearer of the two stations (0 and 56,000 km).
+    let v = with_link_repair(repair_hours);
+    let up = v["repair"]["climber"]["speed_up_m_per_s"].as_f64().unwrap();
+    let down = v["repair"]["climber"]["speed_down_m_per_s"]
+        .as_f64()
+        .unwrap();
+    let stations_m: Vec<f64> = v["repair"]["stations"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|s| s["altitude_km"].as_f64().unwrap() * 1e3)
+        .collect();
+    let fixed_s = (2.0 + 12.0 + repair_hours) * 3600.0;
+    let years = model.scenario.run.mission_years;
+    let mut expected = 0.0;
+    let bays = model.profile.bays.len();
+    for k in 1..bays {
+        let x = model.profile.bays[k].line_bottom_m;
+        let travel = stations_m
+            .iter()
+            .map(|&s| if x >= s { (x - s) / up } else { (s - x) / down })
+            .fold(f64::INFINITY, f64::min);
+        let lambda_s = model.cross_link_rate_per_year[k] * years / t_s; // per s
+        expected += expected_time_cut_s(lambda_s, fixed_s + travel, t_s);
+    }
+    let n = 4_000u64;
+    let mut scratch = engine.new_scratch();
+    let mut tally = engine.empty_tally();
+    let (mut sum, mut sum2, mut cuts) = (0.0f64, 0.0f64, 0u64);
+    for i in 0..n {
+        let out = engine.run_history(i, 31, &mut scratch, &mut tally, None);
+        assert!(out.anomaly.is_none(), "{:?}", out.anomaly);
+        assert!(
+            out.loss.is_none(),
+            "history {i} was lost: the case must have no losses"
+        );
+        sum += out.cross_link_down_s;
+        sum2 += out.cross_link_down_s * out.cross_link_down_s;
+        cuts += u64::from(out.cross_link_cuts);
+    }
+    let mean = sum / n as f64;
+    let se = ((sum2 / n as f64 - mean * mean) / (n as f64 - 1.0)).sqrt();
+    eprintln!(
+        "time cut per history {mean:.0} s, renewal law {expected:.0} s, se {se:.0} s, {cuts} cuts"
+    );
+    assert!(
+        cuts > 2_000,
+        "too few cross-link cuts ({cuts}) for the check"
+    );
+    // Five standard errors (false alarm about 6e-7 for a normal mean).
+    assert!(
+        (mean - expected).abs() < 5.0 * se,
+        "time cut per history {mean:.0} s vs renewal law {expected:.0} s (se {se:.0} s)"
+    );
+    // Every cut is re-joined or still open at the end; each re-join used one spare.
+    let rt = &tally.repair;
+    assert!(rt.cross_link_repairs <= cuts && rt.cross_link_repairs + n * (bays as u64) >= cuts);
+    assert_eq!(rt.cross_link_stockout_events, 0);
+    assert!(rt.cross_link_spares_used >= rt.cross_link_repairs);
+}
+
+#[test]
+fn without_spares_cut_cross_links_stay_cut_and_stock_outs_are_counted() {
+    let mut v = with_link_repair(48.0);
+    v["repair"]["cross_link_repair"]["spares_per_station"] = json!(0);
+    let model = model_of(&v);
+    let engine = Engine::new(&model, 1.0).unwrap().with_invariant_checks();
+    let t_s = engine.mission_s();
+    let mut scratch = engine.new_scratch();
+    let mut tally = engine.empty_tally();
+    for i in 0..300u64 {
+        let out = engine.run_history(i, 5, &mut scratch, &mut tally, None);
+        assert!(out.anomaly.is_none(), "{:?}", out.anomaly);
+        if out.loss.is_none() {
+            // Never re-joined: the time cut is the time from each cut to the end. At least
+            // one cut means some time cut, none means none.
+            assert_eq!(out.cross_link_down_s > 0.0, out.cross_link_cuts > 0);
+            assert!(out.cross_link_down_s <= f64::from(out.cross_link_cuts) * t_s);
+        }
+    }
+    assert_eq!(tally.repair.cross_link_repairs, 0);
+    assert!(tally.repair.cross_link_stockout_events > 0);
+}
+
+#[test]
+fn cross_link_repair_combinations_are_refused_by_name() {
+    // Repair of cross-links without cross-link hits: nothing to repair.
+    let p = scenario_with("xl-repair-no-hits", |v| {
+        v["repair"]["cross_link_repair"] = json!({"repair_hours": 4.0, "spares_per_station": 2});
+    });
+    let e = stderr(&run(&["check", p.to_str().unwrap()]));
+    assert!(
+        e.contains("repair.cross_link_repair") && e.contains("tether.cross_link_hits"),
+        "{e}"
+    );
+    // A bad on-site time names the field, value, range and unit.
+    let p = scenario_with("xl-repair-bad-h", |v| {
+        v["tether"]["cross_link_hits"] =
+            json!({"exposed_area_m2": 1.0, "critical_diameter_mm": 0.5});
+        v["repair"]["cross_link_repair"] = json!({"repair_hours": 0.0, "spares_per_station": 2});
+    });
+    let e = stderr(&run(&["check", p.to_str().unwrap()]));
+    assert!(
+        e.contains("repair.cross_link_repair.repair_hours") && e.contains(" h"),
+        "{e}"
+    );
+    // Preventive replacement is not built for merged spans: refused, naming it.
+    let p = scenario_with("xl-repair-prev", |v| {
+        v["tether"]["cross_link_hits"] =
+            json!({"exposed_area_m2": 1.0, "critical_diameter_mm": 0.5});
+        v["repair"]["cross_link_repair"] = json!({"repair_hours": 4.0, "spares_per_station": 2});
+        v["repair"]["climber"]["load_on_bays"] = json!(true);
+    });
+    let e = stderr(&run(&["check", p.to_str().unwrap()]));
+    assert!(e.contains("repair.climber.load_on_bays"), "{e}");
 }
