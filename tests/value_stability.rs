@@ -97,7 +97,7 @@ fn purpose_streams_are_stable() {
         ("repair", Purpose::Repair),
         ("analysis", Purpose::Analysis),
         ("damage", Purpose::Damage),
-        ("bias", Purpose::Bias),
+        ("bias", Purpose::RareEvent),
         ("cross_links", Purpose::CrossLinks),
     ];
     let recorded: &[(&str, u64, u64, [u64; 3])] = &[
@@ -330,7 +330,7 @@ fn histories_are_stable_for_each_sampler_and_estimator() {
     assert_eq!(got.as_slice(), recorded);
 }
 
-/// The uniform helpers every sampler uses: `unit` in [0, 1) and `open01` in (0, 1].
+/// The uniform helpers every sampler uses: `unit` in [0, 1) and `unit_nonzero` in (0, 1].
 #[test]
 fn uniform_helpers_are_stable() {
     let mut r = stream(11, Purpose::Analysis, 5);
@@ -338,7 +338,7 @@ fn uniform_helpers_are_stable() {
         .flat_map(|_| {
             [
                 tether_risk::engine::unit(&mut r).to_bits(),
-                tether_risk::engine::open01(&mut r).to_bits(),
+                tether_risk::engine::unit_nonzero(&mut r).to_bits(),
             ]
         })
         .collect();

@@ -47,7 +47,7 @@ use crate::structure::load_sharing::{settle_bay, MAX_RIBBONS};
 use super::history::{HistoryOutcome, LogEvent, Scratch};
 use super::ondemand::critical_width_m;
 use super::rng::{stream, Purpose};
-use super::sampler::{open01, unit};
+use super::sampler::{unit_nonzero, unit};
 use super::tally::{LossCause, Tally};
 use super::{Engine, Sampler};
 use crate::model::hole_rate::{combined_rate_at_least_per_s, width_with_combined_rate_m};
@@ -84,16 +84,17 @@ enum Flow {
 
 /// The rare-event change of measure inside one history (failure biasing by rate inflation;
 /// Heidelberger 1995, ACM TOMACS 5, 43). Damage events on bays that already have a cut are made
-/// `theta` times as frequent: every-strike by an extra Poisson process of strikes of rate
-/// (theta - 1) x (strike rate of the damaged bays); on-demand by multiplying the cut rates of
+/// `factor` times as frequent (the rare-event factor, `--rare-event`; the literature's theta):
+/// every-strike by an extra Poisson process of strikes of rate
+/// (factor - 1) x (strike rate of the damaged bays); on-demand by multiplying the cut rates of
 /// those bays. The history carries the likelihood ratio
-/// theta^-(boosted events) x exp((theta - 1) x integral of the natural rate of those events).
+/// factor^-(boosted events) x exp((factor - 1) x integral of the natural rate of those events).
 pub(crate) struct RareEvent {
-    theta: f64,
+    factor: f64,
     /// Latent-damage bias: probability of the biased component of the defensive mixture used
     /// for worst-hole draws (0: off).
     latent_p: f64,
-    ln_theta: f64,
+    ln_factor: f64,
     log_w: f64,
     /// Natural rate of the boosted events now, 1/s.
     rate_s: f64,
@@ -104,11 +105,11 @@ pub(crate) struct RareEvent {
 }
 
 impl RareEvent {
-    pub(crate) fn new(theta: f64, latent_p: f64, rng: Pcg64Mcg) -> Self {
+    pub(crate) fn new(factor: f64, latent_p: f64, rng: Pcg64Mcg) -> Self {
         RareEvent {
-            theta,
+            factor,
             latent_p,
-            ln_theta: theta.ln(),
+            ln_factor: factor.ln(),
             log_w: 0.0,
             rate_s: 0.0,
             t_last: 0.0,
@@ -119,7 +120,7 @@ impl RareEvent {
 
     /// Plain Monte Carlo when false (factor 1): nothing is drawn, the weight stays 1.
     pub(crate) fn active(&self) -> bool {
-        self.theta > 1.0 || self.latent_p > 0.0
+        self.factor > 1.0 || self.latent_p > 0.0
     }
 
     /// The latent-damage bias probability (0: off).
@@ -133,8 +134,8 @@ impl RareEvent {
     }
 
     /// The multiplier on the rates of damaged bays.
-    pub(crate) fn boost(&self) -> f64 {
-        self.theta
+    pub(crate) fn factor(&self) -> f64 {
+        self.factor
     }
 
     /// The natural rate of boostable events changes at `t`: close the compensator integral at
@@ -143,7 +144,7 @@ impl RareEvent {
         if !self.active() {
             return;
         }
-        self.log_w += (self.theta - 1.0) * self.rate_s * (t - self.t_last);
+        self.log_w += (self.factor - 1.0) * self.rate_s * (t - self.t_last);
         self.t_last = t;
         self.rate_s = rate_s;
     }
@@ -155,9 +156,9 @@ impl RareEvent {
             return;
         }
         self.set_rate(t, damaged_rate_s);
-        let extra = (self.theta - 1.0) * damaged_rate_s;
+        let extra = (self.factor - 1.0) * damaged_rate_s;
         self.next_extra_s = if extra > 0.0 {
-            t - open01(&mut self.rng).ln() / extra
+            t - unit_nonzero(&mut self.rng).ln() / extra
         } else {
             f64::INFINITY
         };
@@ -166,7 +167,7 @@ impl RareEvent {
     /// One boosted event happened (a strike or cut on a damaged bay).
     pub(crate) fn on_boosted_event(&mut self) {
         if self.active() {
-            self.log_w -= self.ln_theta;
+            self.log_w -= self.ln_factor;
         }
     }
 
@@ -188,7 +189,7 @@ impl RareEvent {
         if !self.active() {
             return 1.0;
         }
-        (self.log_w + (self.theta - 1.0) * self.rate_s * (end - self.t_last)).exp()
+        (self.log_w + (self.factor - 1.0) * self.rate_s * (end - self.t_last)).exp()
     }
 }
 
@@ -268,9 +269,9 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
             damage: stream(seed, Purpose::Damage, index),
             repair: stream(seed, Purpose::Repair, index),
             rare: RareEvent::new(
-                e.bias_factor,
+                e.rare_event_factor,
                 e.latent_bias,
-                stream(seed, Purpose::Bias, index),
+                stream(seed, Purpose::RareEvent, index),
             ),
             out: HistoryOutcome::default(),
             last_t: 0.0,
@@ -320,7 +321,7 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
         if r.is_nan() || r <= 0.0 {
             return f64::INFINITY;
         }
-        let exposure = -open01(&mut self.streams_rng).ln() / r;
+        let exposure = -unit_nonzero(&mut self.streams_rng).ln() / r;
         self.e.model.scenario.environment.meteor_streams[k].time_after_exposure_s(
             self.e.start_day,
             t0,
@@ -989,7 +990,7 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
             return Flow::End;
         }
         let n = self.e.ribbons;
-        let boost = self.rare.boost();
+        let boost = self.rare.factor();
         let total = self.touched_cut_rate();
         let mut x = unit(&mut self.damage) * total;
         let s = &*self.scratch;
@@ -1460,7 +1461,7 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
         // threshold, the ones after it from the natural law (an exact conditional draw).
         let mut first_big = usize::MAX;
         let mixture = biased && big_q > 0.0;
-        if mixture && open01(&mut self.damage) < p {
+        if mixture && unit_nonzero(&mut self.damage) < p {
             let mut x = unit(&mut self.damage) * big_q;
             let mut before = 1.0;
             for i in (0..n).filter(|&i| s.intact[base + i]) {
@@ -1480,7 +1481,7 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
             if !s.intact[base + i] {
                 continue;
             }
-            let u = open01(&mut self.damage);
+            let u = unit_nonzero(&mut self.damage);
             let h_c = rate_c[i];
             // F = P(M < m) at the drawn m: the plain draw uses F = u.
             let big_f = if first_big == usize::MAX || i > first_big {
@@ -1587,7 +1588,7 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
     /// Total (boosted) cut rate of the bays holding state, 1/s.
     fn touched_cut_rate(&self) -> f64 {
         let s = &*self.scratch;
-        let boost = self.rare.boost();
+        let boost = self.rare.factor();
         (0..s.touched.len())
             .map(|k| s.bay_cut_rate_s[k] * if s.cuts_in_bay[k] > 0 { boost } else { 1.0 })
             .sum()
@@ -1687,7 +1688,7 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
 #[inline]
 fn exp_gap(rng: &mut Pcg64Mcg, rate_s: f64) -> f64 {
     if rate_s > 0.0 {
-        -open01(rng).ln() / rate_s
+        -unit_nonzero(rng).ln() / rate_s
     } else {
         f64::INFINITY
     }

@@ -27,7 +27,7 @@ pub use history::{HistoryOutcome, LogEvent, Scratch};
 pub use ondemand::{critical_width_m, OnDemandTables};
 pub use paired::{PairedCounts, PairedOutcome, PolicyEffect, PAIRED_INTERVAL_METHOD};
 pub use rng::{splitmix64, stream, Purpose};
-pub use sampler::{open01, unit, Strike, StrikeSampler};
+pub use sampler::{unit_nonzero, unit, Strike, StrikeSampler};
 pub use settings::{
     check_threads, parse_shard, RunChoices, RunField, RunSettings, RunSettingsError,
     DEFAULT_STOCKOUT_TARGET, MAX_HISTORIES, MAX_SHARDS, MAX_THREADS,
@@ -275,7 +275,7 @@ pub struct Engine<'m> {
     particle_density: f64,
     thickness_m: f64,
     ribbon_density: f64,
-    bias_factor: f64,
+    rare_event_factor: f64,
     /// Defensive-mixture probability of the latent-damage bias (0: off).
     latent_bias: f64,
     strict: bool,
@@ -414,7 +414,7 @@ impl<'m> Engine<'m> {
             particle_density: model.scenario.environment.particle_density_kg_per_m3,
             thickness_m: t.thickness_m,
             ribbon_density: t.material_density_kg_per_m3,
-            bias_factor: 1.0,
+            rare_event_factor: 1.0,
             latent_bias: 0.0,
             strict: false,
             climber_load,
@@ -445,7 +445,7 @@ impl<'m> Engine<'m> {
                 "tether.cross_link_hits cannot be combined with the rare-event estimator yet: run with `--rare-event 1` or remove tether.cross_link_hits".into(),
             ));
         }
-        self.bias_factor = factor;
+        self.rare_event_factor = factor;
         Ok(self)
     }
 
@@ -477,7 +477,7 @@ impl<'m> Engine<'m> {
 
     /// True when histories carry likelihood-ratio weights (any rare-event estimator on).
     pub fn is_weighted(&self) -> bool {
-        self.bias_factor > 1.0 || self.latent_bias > 0.0
+        self.rare_event_factor > 1.0 || self.latent_bias > 0.0
     }
 
     /// Check every invariant after every event (slow; for tests). A violation marks the history
@@ -489,7 +489,7 @@ impl<'m> Engine<'m> {
 
     /// The rare-event boost factor (1: plain Monte Carlo).
     pub fn rare_event_factor(&self) -> f64 {
-        self.bias_factor
+        self.rare_event_factor
     }
 
     /// Which sampler runs the histories.

@@ -26,7 +26,7 @@ pub enum Purpose {
     Damage = 0x444d_4745,
     /// Extra strikes of the rare-event estimator (importance sampling), kept apart so the
     /// natural strikes stay identical with and without it.
-    Bias = 0x4249_4153,
+    RareEvent = 0x4249_4153,
     /// Meteor streams: every-strike, the stream strikes; on-demand, the stream cut process of
     /// untouched bays (kept apart so the background draws stay identical with and without
     /// streams).

@@ -423,7 +423,7 @@ impl StrikeSampler {
         if self.total_rate_per_s <= 0.0 {
             return f64::INFINITY;
         }
-        -open01(rng).ln() / self.total_rate_per_s
+        -unit_nonzero(rng).ln() / self.total_rate_per_s
     }
 
     /// Draw one strike (bay, ribbon, size, position, speed, angle).
@@ -470,7 +470,7 @@ impl StrikeSampler {
         // Components w n(d) (mass w F_f) and d n(d) (mass d_f F_f (-q)/(-q-1)).
         let p_width = w / (w + d_f * (-q) / (-q - 1.0));
         let u_comp = unit(rng);
-        let u = open01(rng);
+        let u = unit_nonzero(rng);
         let d = if u_comp < p_width {
             d_f * u.powf(1.0 / q)
         } else {
@@ -510,7 +510,7 @@ impl StrikeSampler {
     fn sample_primary<R: Rng + ?Sized>(&self, rng: &mut R, j: usize) -> Strike {
         let b = &self.bays[j];
         let u_comp = unit(rng);
-        let u = open01(rng);
+        let u = unit_nonzero(rng);
         let d = if u_comp < b.p_width {
             self.inv_f.diameter(b.ln_f_floor + u.ln())
         } else {
@@ -548,7 +548,7 @@ pub fn unit<R: Rng + ?Sized>(rng: &mut R) -> f64 {
 
 /// Uniform in (0, 1].
 #[inline]
-pub fn open01<R: Rng + ?Sized>(rng: &mut R) -> f64 {
+pub fn unit_nonzero<R: Rng + ?Sized>(rng: &mut R) -> f64 {
     1.0 - unit(rng)
 }
 
@@ -639,7 +639,7 @@ impl StreamSampler {
         let j = self.bay_alias.sample(rng);
         let (p_width, d_f, w, speed) = self.bays[j];
         let u_comp = unit(rng);
-        let u = open01(rng);
+        let u = unit_nonzero(rng);
         let d = if u_comp < p_width {
             d_f * u.powf(1.0 / self.q)
         } else {
@@ -681,7 +681,7 @@ mod tests {
         let mut sum = 0.0;
         for _ in 0..n {
             let u = unit(&mut r);
-            let o = open01(&mut r);
+            let o = unit_nonzero(&mut r);
             assert!((0.0..1.0).contains(&u), "{u}");
             assert!(o > 0.0 && o <= 1.0, "{o}");
             sum += u;

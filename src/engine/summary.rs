@@ -994,8 +994,10 @@ impl RunSummary {
 pub struct RareEventSummary {
     /// Method and reference.
     pub method: String,
-    /// Boost factor of strike (cut) rates on bays that already have a cut.
-    pub boost_factor: f64,
+    /// The rare-event factor (`--rare-event`): strike (cut) rates on bays that already have a
+    /// cut are multiplied by it (read as `boost_factor` in files of older versions).
+    #[serde(alias = "boost_factor")]
+    pub rare_event_factor: f64,
     /// Latent-damage bias: probability of the biased component of the defensive mixture for
     /// the worst sub-critical holes (0: off; absent in older files).
     #[serde(default)]
@@ -1060,7 +1062,7 @@ impl RareEventSummary {
         }
         Some(RareEventSummary {
             method: format!("{}; likelihood-ratio weights", parts.join(" and ")),
-            boost_factor: engine.rare_event_factor(),
+            rare_event_factor: engine.rare_event_factor(),
             latent_bias: engine.latent_bias(),
             std_error: total.standard_error,
             relative_error: (total.estimate > 0.0).then(|| total.standard_error / total.estimate),

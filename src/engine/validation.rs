@@ -8,15 +8,15 @@
 //! cut or a repair in proportion to their rates. All draws use the strike stream.
 //!
 //! With the rare-event estimator on, the cut rate of intact segments in bays that already have a
-//! cut is multiplied by the boost factor theta, and the history carries the likelihood ratio
-//! theta^-(such cuts) x exp((theta - 1) x lambda x integral of their number over time) — the
+//! cut is multiplied by the boost factor factor, and the history carries the likelihood ratio
+//! factor^-(such cuts) x exp((factor - 1) x lambda x integral of their number over time) — the
 //! same failure biasing by rate inflation as for strikes (Heidelberger 1995, ACM TOMACS 5, 43).
 
 use crate::scenario::ValidationSettings;
 
 use super::history::{HistoryOutcome, LogEvent, Scratch};
 use super::rng::{stream, Purpose};
-use super::sampler::{open01, unit};
+use super::sampler::{unit_nonzero, unit};
 use super::tally::{Loss, LossCause, Tally};
 use super::Engine;
 
@@ -36,8 +36,8 @@ impl Engine<'_> {
         let bays = self.model.profile.bays.len() as u64;
         let required = u64::from(v.required_ribbons);
         let crews = u64::from(v.crews_per_bay);
-        let theta = self.bias_factor;
-        let ln_theta = theta.ln();
+        let factor = self.rare_event_factor;
+        let ln_factor = factor.ln();
         let lambda = v.cut_rate_per_s;
         let mut log_w = 0.0;
         let mut out = HistoryOutcome::default();
@@ -49,16 +49,16 @@ impl Engine<'_> {
             let intact_damaged: u64 = damaged.iter().map(|&(_, k)| n - k).sum();
             let undamaged_bays = bays - damaged.len() as u64;
             let cut_u = lambda * (undamaged_bays * n) as f64;
-            let cut_d = theta * lambda * intact_damaged as f64;
+            let cut_d = factor * lambda * intact_damaged as f64;
             let busy: u64 = damaged.iter().map(|&(_, k)| k.min(crews)).sum();
             let repair = v.repair_rate_per_s * busy as f64;
             let total = cut_u + cut_d + repair;
             if total <= 0.0 {
                 break;
             }
-            let dt = -open01(&mut rng).ln() / total;
+            let dt = -unit_nonzero(&mut rng).ln() / total;
             let dt_in_mission = dt.min(self.mission_s - t);
-            log_w += (theta - 1.0) * lambda * intact_damaged as f64 * dt_in_mission;
+            log_w += (factor - 1.0) * lambda * intact_damaged as f64 * dt_in_mission;
             t += dt;
             if t > self.mission_s {
                 break;
@@ -74,7 +74,7 @@ impl Engine<'_> {
                         }
                     }
                 } else {
-                    log_w -= ln_theta;
+                    log_w -= ln_factor;
                     let mut y = unit(&mut rng) * intact_damaged as f64;
                     let mut pick = damaged[damaged.len() - 1].0;
                     for &(b, k) in &damaged {
@@ -133,7 +133,7 @@ impl Engine<'_> {
             }
         }
         scratch.validation_bays = damaged;
-        out.weight = if theta > 1.0 { log_w.exp() } else { 1.0 };
+        out.weight = if factor > 1.0 { log_w.exp() } else { 1.0 };
         let end = out.loss.map_or(self.mission_s, |l| l.time_s);
         self.close_history(index, end, scratch, tally, &out, log);
         out

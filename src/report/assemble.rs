@@ -1628,7 +1628,7 @@ fn provenance_section(folder: &RunFolder) -> Section {
             format!(
                 "{}; boost factor {}; effective sample size {}",
                 r.method,
-                sig(r.boost_factor, 3),
+                sig(r.rare_event_factor, 3),
                 sig(r.effective_sample_size, 3)
             ),
         ]);

@@ -234,7 +234,7 @@ fn biased_note(s: &RunSummary) -> String {
     match &s.rare_event {
         Some(r) => format!(
             " This is a rare-event run: the counts here are from the biased measure (cut rates on damaged bays multiplied by {}), so they show where and how losses happen, not how often; no probability or interval is formed from them. The weighted (unbiased) total is {}.",
-            sig(r.boost_factor, 3),
+            sig(r.rare_event_factor, 3),
             loss_cell(&r.loss_probability)
         ),
         None => String::new(),

@@ -95,7 +95,7 @@ pub fn run_text(s: &RunSummary) -> String {
         Some(r) => o.push_str(&format!(
             "  {} seen under the biased measure (boost factor {}) in {} histories.\n",
             count_noun(r.losses_observed, "loss", "losses"),
-            sig(r.boost_factor, 3),
+            sig(r.rare_event_factor, 3),
             s.histories
         )),
         None => o.push_str(&format!(
@@ -294,7 +294,7 @@ pub fn terminal_survival_table(s: &RunSummary) -> Table {
 pub fn terminal_band_table(s: &RunSummary) -> Table {
     let pct = format!("{:.0} %", 100.0 * s.loss_probability.confidence);
     with_headers(
-        band_table(s),
+        altitude_bands_table(s),
         vec![
             "altitude band (km)".into(),
             "cuts per year".into(),
@@ -458,8 +458,10 @@ pub fn stock_table(r: &crate::engine::RepairSummary, sp: &crate::engine::SpareSu
     t
 }
 
-/// Cuts and losses by altitude band as a table.
-pub fn band_table(s: &RunSummary) -> Table {
+/// Cuts and losses by altitude band with machine-readable column keys: the run folder's
+/// `altitude_bands.csv`/`.md` and, with headers for readers, the terminal table. (The report's
+/// table of the same rows is [`super::failure::band_table`], which adds the interval basis.)
+pub fn altitude_bands_table(s: &RunSummary) -> Table {
     let mut t = Table::new([
         "band_km",
         "cuts_per_year",
@@ -503,11 +505,11 @@ pub fn write_run(dir: &Path, summary: &RunSummary) -> std::io::Result<Vec<String
     )?;
     put(
         "altitude_bands.csv",
-        band_table(summary).to_csv().as_bytes(),
+        altitude_bands_table(summary).to_csv().as_bytes(),
     )?;
     put(
         "altitude_bands.md",
-        band_table(summary).to_markdown().as_bytes(),
+        altitude_bands_table(summary).to_markdown().as_bytes(),
     )?;
     if !summary.by_month.is_empty() {
         let t = super::statement::by_month_table(summary);

@@ -36,7 +36,7 @@ pub fn monte_carlo_assumptions(s: &RunSummary, scenario: Option<&Value>) -> Vec<
             match &s.rare_event {
                 Some(r) => format!(
                     " and weighted by their likelihood ratio (rare-event estimator, strike rates on damaged bays multiplied by {})",
-                    sig(r.boost_factor, 3)
+                    sig(r.rare_event_factor, 3)
                 ),
                 None => " and count equally".to_string(),
             }
