@@ -9,7 +9,7 @@
 # width), physical environment. The per-bay rates NumPy uses are exported by
 # `tether-risk profile --format json` from the same scenario file.
 # Case b: one bay of 5 ribbons, 1-of-5, constant cut rate 0.01/day per segment, exponential
-# repair 0.05/day with one crew, 10 years (validation mode).
+# repair 0.05/day with one crew, 10 years (synthetic-rates mode).
 #
 # Times: wall (elapsed) and CPU (user + system) from /usr/bin/time; on a shared machine the
 # CPU time is the fairer figure. Per-event cost = CPU time / events (cuts for case a, the
@@ -48,7 +48,7 @@ t.update({"top_altitude_km": 60000.0, "cross_link_spacing_km": 60000.0, "ribbon_
                        "density_g_per_cm3": 1.79}})
 b["repair"] = None
 b["run"]["mission_years"] = 10.0
-b["validation_mode"] = {"cut_rate_per_segment_per_day": 0.01,
+b["synthetic_rates"] = {"cut_rate_per_segment_per_day": 0.01,
                         "repair_rate_per_crew_per_day": 0.05,
                         "crews_per_bay": 1, "required_ribbons": 1}
 json.dump(b, open(f"{work}/b.json", "w"), indent=1)

@@ -420,7 +420,7 @@ pub fn run(a: Args) -> anyhow::Result<()> {
     let (xl_text, xl_json) = cross_link_check(&model);
     let streams = stream_checks(&model)?;
     let s = DesignSummary::from_model(&model);
-    let work = if model.scenario.validation_mode.is_none() {
+    let work = if model.scenario.synthetic_rates.is_none() {
         work_report(&model)
     } else {
         None

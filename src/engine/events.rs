@@ -47,7 +47,7 @@ use crate::structure::load_sharing::{settle_bay, MAX_RIBBONS};
 use super::history::{HistoryOutcome, LogEvent, Scratch};
 use super::ondemand::critical_width_m;
 use super::rng::{stream, Purpose};
-use super::sampler::{unit_nonzero, unit};
+use super::sampler::{unit, unit_nonzero};
 use super::tally::{LossCause, Tally};
 use super::{Engine, Sampler};
 use crate::model::hole_rate::{combined_rate_at_least_per_s, width_with_combined_rate_m};
@@ -1705,7 +1705,7 @@ impl Engine<'_> {
         tally: &mut Tally,
         log: Option<&mut Vec<LogEvent>>,
     ) -> HistoryOutcome {
-        if let Some(v) = self.model.scenario.validation_mode {
+        if let Some(v) = self.model.scenario.synthetic_rates {
             return self.run_validation_history(index, seed, &v, scratch, tally, log);
         }
         self.run_history_until(index, seed, scratch, tally, log, None)
@@ -1722,7 +1722,7 @@ impl Engine<'_> {
         log: Option<&mut Vec<LogEvent>>,
         stop: Option<&AtomicBool>,
     ) -> HistoryOutcome {
-        if let Some(v) = self.model.scenario.validation_mode {
+        if let Some(v) = self.model.scenario.synthetic_rates {
             return self.run_validation_history(index, seed, &v, scratch, tally, log);
         }
         HistoryRun::new(self, index, seed, scratch, tally, log, stop).run(index)

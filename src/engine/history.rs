@@ -31,7 +31,7 @@ pub struct Scratch {
     pub(crate) cut_time_acc_s: f64,
     pub(crate) max_cuts: u32,
     pub(crate) fleet: Option<Fleet>,
-    /// Validation mode: damaged bays and their cut counts.
+    /// Synthetic-rates mode: damaged bays and their cut counts.
     pub(crate) validation_bays: Vec<(u32, u64)>,
     /// Bays with at least one cut and their strike rates, 1/s.
     pub(crate) damaged: Vec<(u32, f64)>,

@@ -27,7 +27,7 @@ pub use history::{HistoryOutcome, LogEvent, Scratch};
 pub use ondemand::{critical_width_m, OnDemandTables};
 pub use paired::{PairedCounts, PairedOutcome, PolicyEffect, PAIRED_INTERVAL_METHOD};
 pub use rng::{splitmix64, stream, Purpose};
-pub use sampler::{unit_nonzero, unit, Strike, StrikeSampler};
+pub use sampler::{unit, unit_nonzero, Strike, StrikeSampler};
 pub use settings::{
     check_threads, parse_shard, RunChoices, RunField, RunSettings, RunSettingsError,
     DEFAULT_STOCKOUT_TARGET, MAX_HISTORIES, MAX_SHARDS, MAX_THREADS,
@@ -349,7 +349,7 @@ impl<'m> Engine<'m> {
         RunField::FloorFraction.check(floor_fraction)?;
         let sampler = StrikeSampler::new(model, floor_fraction)?;
         let on_demand =
-            if sampler_kind == Sampler::OnDemand && model.scenario.validation_mode.is_none() {
+            if sampler_kind == Sampler::OnDemand && model.scenario.synthetic_rates.is_none() {
                 Some(OnDemandTables::new(model, floor_fraction)?)
             } else {
                 None
@@ -366,12 +366,12 @@ impl<'m> Engine<'m> {
                 (edges.partition_point(|&e| e <= h).saturating_sub(1)).min(edges.len() - 2) as u16
             })
             .collect();
-        let climber_load = if model.scenario.validation_mode.is_some() {
+        let climber_load = if model.scenario.synthetic_rates.is_some() {
             None
         } else {
             crate::model::climber::ClimberLoadTable::of(model)
         };
-        let repair = if model.scenario.validation_mode.is_some() {
+        let repair = if model.scenario.synthetic_rates.is_some() {
             None
         } else {
             model.scenario.repair.as_ref().map(|r| {
@@ -386,7 +386,7 @@ impl<'m> Engine<'m> {
             })
         };
         let stream_samplers =
-            if sampler_kind == Sampler::EveryStrike && model.scenario.validation_mode.is_none() {
+            if sampler_kind == Sampler::EveryStrike && model.scenario.synthetic_rates.is_none() {
                 (0..model.scenario.environment.meteor_streams.len())
                     .map(|k| sampler::StreamSampler::new(model, k, &sampler))
                     .collect::<Result<Vec<_>, _>>()?
@@ -435,7 +435,7 @@ impl<'m> Engine<'m> {
             .with_latent_bias(s.latent_bias)
     }
 
-    /// Switch on the rare-event estimator: strikes (validation mode: cuts) on bays that already
+    /// Switch on the rare-event estimator: strikes (synthetic-rates mode: cuts) on bays that already
     /// have a cut become `factor` times as frequent, and every history carries its likelihood
     /// ratio. `factor` = 1 is plain Monte Carlo.
     pub fn with_rare_event(mut self, factor: f64) -> Result<Self, EngineError> {
@@ -463,7 +463,7 @@ impl<'m> Engine<'m> {
         }
         if p > 0.0 && (self.on_demand.is_none() || self.sampler_kind != Sampler::OnDemand) {
             return Err(EngineError::Options(
-                "the latent-damage bias works on the on-demand sampler's worst-hole draws: it needs `--sampler on-demand` and a scenario outside validation mode".into(),
+                "the latent-damage bias works on the on-demand sampler's worst-hole draws: it needs `--sampler on-demand` and a scenario outside synthetic-rates mode".into(),
             ));
         }
         self.latent_bias = p;
@@ -516,7 +516,7 @@ impl<'m> Engine<'m> {
         }
     }
 
-    /// The on-demand tables (absent under every-strike and in validation mode).
+    /// The on-demand tables (absent under every-strike and in synthetic-rates mode).
     pub fn on_demand(&self) -> Option<&OnDemandTables> {
         self.on_demand.as_ref()
     }

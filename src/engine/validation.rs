@@ -1,4 +1,4 @@
-//! Validation-mode histories: a constant cut rate per intact segment and exponential repair by a
+//! Synthetic-rates histories: a constant cut rate per intact segment and exponential repair by a
 //! fixed number of crews per bay, no travel, no load redistribution. Each bay of N ribbons is
 //! then a repairable k-out-of-N system whose loss probability has a closed form (birth–death
 //! chain; Barlow & Proschan), so the engine's bookkeeping can be checked exactly.
@@ -12,11 +12,11 @@
 //! factor^-(such cuts) x exp((factor - 1) x lambda x integral of their number over time) — the
 //! same failure biasing by rate inflation as for strikes (Heidelberger 1995, ACM TOMACS 5, 43).
 
-use crate::scenario::ValidationSettings;
+use crate::scenario::SyntheticRatesSettings;
 
 use super::history::{HistoryOutcome, LogEvent, Scratch};
 use super::rng::{stream, Purpose};
-use super::sampler::{unit_nonzero, unit};
+use super::sampler::{unit, unit_nonzero};
 use super::tally::{Loss, LossCause, Tally};
 use super::Engine;
 
@@ -25,7 +25,7 @@ impl Engine<'_> {
         &self,
         index: u64,
         seed: u64,
-        v: &ValidationSettings,
+        v: &SyntheticRatesSettings,
         scratch: &mut Scratch,
         tally: &mut Tally,
         log: Option<&mut Vec<LogEvent>>,

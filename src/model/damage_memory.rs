@@ -47,18 +47,18 @@ pub fn critical_widths_m(model: &Model, j: usize) -> Vec<f64> {
 }
 
 /// The per-segment hole-rate table at the sampling floor of the engine (fraction 1: the
-/// smallest hole that can sever in any stable state). `None` in validation mode (no holes) or
+/// smallest hole that can sever in any stable state). `None` in synthetic-rates mode (no holes) or
 /// when the table cannot be built.
 pub fn rate_table(model: &Model) -> Option<HoleRateTable> {
-    if model.scenario.validation_mode.is_some() {
+    if model.scenario.synthetic_rates.is_some() {
         return None;
     }
     HoleRateTable::build(model, 1.0).ok()
 }
 
-/// Every bay's damage-memory input (empty in validation mode, which has no holes).
+/// Every bay's damage-memory input (empty in synthetic-rates mode, which has no holes).
 pub fn memory_bays(model: &Model, table: &HoleRateTable) -> Vec<MemoryBay<BayHoleRate>> {
-    if model.scenario.validation_mode.is_some() {
+    if model.scenario.synthetic_rates.is_some() {
         return Vec::new();
     }
     let sc = &model.scenario;
@@ -111,7 +111,7 @@ pub struct DamageMemoryResult {
 }
 
 /// Solve every bay at `times_s` (non-decreasing) and combine them as independent bays.
-/// `None` in validation mode or when no bay can be cut.
+/// `None` in synthetic-rates mode or when no bay can be cut.
 pub fn solve(model: &Model, times_s: &[f64]) -> Option<DamageMemoryResult> {
     use rayon::prelude::*;
     let table = rate_table(model)?;

@@ -47,7 +47,7 @@
 //! that has climbers to the bay's middle (climbing at the up speed, descending at the down
 //! speed) + splice. Repair rate = 1/mean. The return trip does not delay the bay.
 //!
-//! # Validation mode
+//! # Synthetic-rates mode
 //! Cut rate `(N − k) λ`, repair rate `min(k, crews) μ`, loss when fewer than `k_req` ribbons
 //! are intact: the repairable k-out-of-n chain (Barlow–Proschan birth–death form), in every
 //! bay.
@@ -58,7 +58,7 @@ use crate::damage::{Impact, RibbonTarget, ThinFilmHoleLaw};
 use crate::environment::{mass_from_diameter_kg, FluxModel};
 use crate::scenario::{
     DamageSpec, DetectionSpec, HoleSizeSpec, LoadSharingSpec, RepairSettings, RunSettings,
-    ValidationSettings, SECONDS_PER_YEAR,
+    SyntheticRatesSettings, SECONDS_PER_YEAR,
 };
 
 use super::Model;
@@ -282,8 +282,8 @@ pub fn mission_times_s(run: &RunSettings) -> Vec<f64> {
 pub enum MarkovMode {
     /// Cut rates from the flux, the profile and the damage law; repair from the logistics.
     Physical,
-    /// The scenario's validation mode: the k-out-of-n chain with its constant rates.
-    Validation,
+    /// The scenario's synthetic-rates mode: the k-out-of-n chain with its constant rates.
+    SyntheticRates,
 }
 
 /// One bay's chain and what it was built from.
@@ -300,7 +300,7 @@ pub struct MarkovBay {
 /// Every bay's chain, with the assumptions behind them.
 #[derive(Debug, Clone)]
 pub struct MarkovModel {
-    /// Physical or validation mode.
+    /// Physical or synthetic-rates mode.
     pub mode: MarkovMode,
     /// Per-bay chains, in bay order.
     pub bays: Vec<MarkovBay>,
@@ -308,7 +308,7 @@ pub struct MarkovModel {
     pub assumptions: Vec<String>,
     /// Upper bound on the fraction of severing strikes that the thin-film law's speed- and
     /// angle-dependent perforation threshold would not perforate (`None` when it does not
-    /// apply: fraction-of-width law or validation mode).
+    /// apply: fraction-of-width law or synthetic-rates mode).
     pub unperforated_fraction_bound: Option<f64>,
 }
 
@@ -322,13 +322,13 @@ impl MarkovModel {
     /// # Errors
     /// [`EstimateError::Chain`] if a bay's rates are not finite (a flux model returning NaN).
     pub fn build(model: &Model) -> Result<Self, EstimateError> {
-        match model.scenario.validation_mode {
+        match model.scenario.synthetic_rates {
             Some(v) => Self::build_validation(model, &v),
             None => Self::build_physical(model),
         }
     }
 
-    fn build_validation(model: &Model, v: &ValidationSettings) -> Result<Self, EstimateError> {
+    fn build_validation(model: &Model, v: &SyntheticRatesSettings) -> Result<Self, EstimateError> {
         let n = model.profile.design.ribbon_count as u32;
         let m = n + 1 - v.required_ribbons.min(n);
         let cut: Vec<f64> = (0..m)
@@ -350,7 +350,7 @@ impl MarkovModel {
         let day = 86_400.0;
         let assumptions = vec![
             format!(
-                "validation mode: every intact segment is cut at {} per day, each of {} crews per bay repairs at {} per day, a bay is lost when fewer than {} of its {} ribbons are intact (repairable k-out-of-n chain, Barlow–Proschan birth–death form)",
+                "synthetic-rates mode: every intact segment is cut at {} per day, each of {} crews per bay repairs at {} per day, a bay is lost when fewer than {} of its {} ribbons are intact (repairable k-out-of-n chain, Barlow–Proschan birth–death form)",
                 v.cut_rate_per_s * day,
                 v.crews_per_bay,
                 v.repair_rate_per_s * day,
@@ -361,7 +361,7 @@ impl MarkovModel {
             "exponential repair times with no waiting for crews or spare stock".into(),
         ];
         Ok(MarkovModel {
-            mode: MarkovMode::Validation,
+            mode: MarkovMode::SyntheticRates,
             bays,
             assumptions,
             unperforated_fraction_bound: None,

@@ -21,6 +21,8 @@ pub const CONSTANT_HOLE_FACTOR: &str = "constant_hole_factor";
 pub const NET_SECTION_NOTCH_INSENSITIVE: &str = "net_section_notch_insensitive";
 /// A notch-sensitive model rates edge-breaking holes as central holes (not conservative).
 pub const EDGE_HOLES_AS_CENTRAL: &str = "edge_holes_rated_as_central";
+/// A deprecated input name was read under its new name.
+pub const DEPRECATED_INPUT_NAME: &str = "deprecated_input_name";
 
 /// One warning.
 #[derive(Clone, Debug, PartialEq, Serialize)]
@@ -115,6 +117,10 @@ pub fn design_warnings(model: &Model) -> Vec<DesignWarning> {
         });
     }
     out.extend(unit_slip_warnings(&model.scenario));
+    out.extend(model.scenario.deprecations.iter().map(|m| DesignWarning {
+        code: DEPRECATED_INPUT_NAME,
+        message: m.clone(),
+    }));
     out
 }
 

@@ -80,7 +80,7 @@ pub struct EstimateSummary {
     /// Largest mean repair time over the bays, hours (`null`: no repair). Per-bay values are
     /// in `bays`; travel makes them differ.
     pub repair_mean_time_hours: Option<f64>,
-    /// The damage-memory estimate beside this memoryless one (`null` in validation mode).
+    /// The damage-memory estimate beside this memoryless one (`null` in synthetic-rates mode).
     pub damage_memory: Option<DamageMemorySummary>,
     /// Engineering caution.
     pub caution: String,
@@ -201,7 +201,7 @@ impl EstimateSummary {
             scenario_hash: sc.hash_hex(),
             mode: match markov.mode {
                 MarkovMode::Physical => "physical".into(),
-                MarkovMode::Validation => "validation".into(),
+                MarkovMode::SyntheticRates => "synthetic_rates".into(),
             },
             mission_years: sc.run.mission_years,
             ribbon_count: model.profile.design.ribbon_count,

@@ -174,7 +174,16 @@ pub fn demo() -> Scenario {
 /// A stable 64-bit hash (FNV-1a) of the scenario's canonical JSON, recorded in every output so
 /// that a result can be matched to its input.
 pub fn scenario_hash(spec: &ScenarioSpec, table_text: Option<&str>) -> u64 {
-    let canonical = serde_json::to_string(spec).unwrap_or_default();
+    // The canonical form is the one of versions before `synthetic_rates` was named: its
+    // settings under the old key `validation_mode` (the last field, `null` when absent), so a
+    // scenario keeps its hash whichever name it uses.
+    let mut c = spec.clone();
+    c.validation_mode = c.synthetic_rates.take().or(c.validation_mode);
+    let mut canonical = serde_json::to_string(&c).unwrap_or_default();
+    if c.validation_mode.is_none() && canonical.ends_with('}') {
+        canonical.pop();
+        canonical.push_str(",\"validation_mode\":null}");
+    }
     let mut h: u64 = 0xcbf2_9ce4_8422_2325;
     for b in canonical.bytes().chain(table_text.unwrap_or("").bytes()) {
         h ^= u64::from(b);

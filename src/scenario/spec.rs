@@ -33,17 +33,22 @@ pub struct ScenarioSpec {
     pub repair: Option<RepairSpec>,
     /// Run settings.
     pub run: RunSpec,
-    /// Validation mode (for checking the engine against closed forms, not for design):
+    /// Synthetic rates (for checking the engine against closed forms, not for design):
     /// replaces strikes by a constant cut rate per segment and repair logistics by exponential
     /// repair with a fixed number of crews per bay and no travel.
-    #[serde(default)]
-    pub validation_mode: Option<ValidationModeSpec>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub synthetic_rates: Option<SyntheticRatesSpec>,
+    /// The old name of `synthetic_rates` (still read, with a deprecation warning; moved into
+    /// `synthetic_rates` when the scenario is validated). Keep it the last field: the scenario
+    /// hash's canonical form relies on it (see [`crate::scenario::scenario_hash`]).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub validation_mode: Option<SyntheticRatesSpec>,
 }
 
-/// Validation mode: each bay of N ribbons becomes a repairable k-out-of-N system.
+/// Synthetic rates: each bay of N ribbons becomes a repairable k-out-of-N system.
 #[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
 #[serde(deny_unknown_fields)]
-pub struct ValidationModeSpec {
+pub struct SyntheticRatesSpec {
     /// Cut rate of each intact segment, per day.
     pub cut_rate_per_segment_per_day: f64,
     /// Repair rate of one crew, per day (0: no repair).

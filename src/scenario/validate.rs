@@ -274,13 +274,15 @@ pub struct Scenario {
     pub repair: Option<RepairSettings>,
     /// Run settings.
     pub run: RunSettings,
-    /// Validation mode in SI units, when set.
-    pub validation_mode: Option<ValidationSettings>,
+    /// The synthetic constant-rate mode in SI units, when set.
+    pub synthetic_rates: Option<SyntheticRatesSettings>,
+    /// Deprecated input names that were read (one sentence each, shown as warnings).
+    pub deprecations: Vec<String>,
 }
 
-/// Validation mode in SI units.
+/// The synthetic constant-rate mode in SI units.
 #[derive(Clone, Copy, Debug, PartialEq)]
-pub struct ValidationSettings {
+pub struct SyntheticRatesSettings {
     /// Cut rate per intact segment, 1/s.
     pub cut_rate_per_s: f64,
     /// Repair rate per crew, 1/s.
@@ -393,9 +395,21 @@ pub const BUILTIN_FLUX_MODELS: &[&str] = &["grun1985", "grun1985_tabulated"];
 impl Scenario {
     /// Validate a spec. `flux_table_json` is the text of the table file when the spec names one.
     pub fn from_spec(
-        spec: ScenarioSpec,
+        mut spec: ScenarioSpec,
         flux_table_json: Option<String>,
     ) -> Result<Self, ScenarioError> {
+        // The old name of the synthetic constant-rate mode: still read, under its new name.
+        let mut deprecations = Vec::new();
+        if let Some(old) = spec.validation_mode.take() {
+            if spec.synthetic_rates.is_some() {
+                return Err(ScenarioError::Model {
+                    path: "validation_mode".into(),
+                    message: "is the old name of synthetic_rates; give only synthetic_rates".into(),
+                });
+            }
+            spec.synthetic_rates = Some(old);
+            deprecations.push("validation_mode is the old name of synthetic_rates (the synthetic constant-rate mode); it is read as synthetic_rates, rename it in the scenario".to_string());
+        }
         let hash = super::scenario_hash(&spec, flux_table_json.as_deref());
         let environment = validate_environment(&spec.environment, flux_table_json)?;
         let tether = validate_tether(&spec.tether)?;
@@ -405,11 +419,11 @@ impl Scenario {
             None => None,
         };
         let run = validate_run(&spec.run)?;
-        let validation_mode = match &spec.validation_mode {
-            Some(v) => Some(validate_validation_mode(v, tether.ribbon_count)?),
+        let synthetic_rates = match &spec.synthetic_rates {
+            Some(v) => Some(validate_synthetic_rates(v, tether.ribbon_count)?),
             None => None,
         };
-        check_cross_link_combinations(&tether, repair.as_ref(), validation_mode.is_some())?;
+        check_cross_link_combinations(&tether, repair.as_ref(), synthetic_rates.is_some())?;
         Ok(Scenario {
             spec,
             hash,
@@ -418,7 +432,8 @@ impl Scenario {
             damage,
             repair,
             run,
-            validation_mode,
+            synthetic_rates,
+            deprecations,
         })
     }
 
@@ -993,7 +1008,7 @@ fn check_cross_link_combinations(
     if synthetic {
         return refuse(
             "tether.cross_link_hits",
-            "cannot be combined with validation_mode (its synthetic histories have no cross-links)"
+            "cannot be combined with synthetic_rates (its synthetic histories have no cross-links)"
                 .into(),
         );
     }
@@ -1524,40 +1539,40 @@ fn validate_preventive(
     })
 }
 
-fn validate_validation_mode(
-    v: &ValidationModeSpec,
+fn validate_synthetic_rates(
+    v: &SyntheticRatesSpec,
     ribbons: usize,
-) -> Result<ValidationSettings, ScenarioError> {
+) -> Result<SyntheticRatesSettings, ScenarioError> {
     let day = 86_400.0;
     let cut = check(
-        "validation_mode.cut_rate_per_segment_per_day",
+        "synthetic_rates.cut_rate_per_segment_per_day",
         v.cut_rate_per_segment_per_day,
         Range::closed(0.0, 1e6),
         "per day",
         "",
     )?;
     let rep = check(
-        "validation_mode.repair_rate_per_crew_per_day",
+        "synthetic_rates.repair_rate_per_crew_per_day",
         v.repair_rate_per_crew_per_day,
         Range::closed(0.0, 1e6),
         "per day",
         "",
     )?;
     check_count(
-        "validation_mode.crews_per_bay",
+        "synthetic_rates.crews_per_bay",
         u64::from(v.crews_per_bay),
         0,
         64,
         "crews",
     )?;
     check_count(
-        "validation_mode.required_ribbons",
+        "synthetic_rates.required_ribbons",
         u64::from(v.required_ribbons),
         1,
         ribbons as u64,
         "ribbons (at most tether.ribbon_count)",
     )?;
-    Ok(ValidationSettings {
+    Ok(SyntheticRatesSettings {
         cut_rate_per_s: cut / day,
         repair_rate_per_s: rep / day,
         crews_per_bay: v.crews_per_bay,

@@ -52,7 +52,7 @@ fn validation_mode_reproduces_k_out_of_n_reference() {
             stderr(&o)
         );
         let v = estimate_json(&p);
-        assert_eq!(v["mode"], "validation");
+        assert_eq!(v["mode"], "synthetic_rates");
         assert_eq!(v["bay_count"], 1);
         let loss = v["loss_probability"].as_f64().unwrap();
         assert!(

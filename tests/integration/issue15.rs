@@ -146,3 +146,39 @@ fn run_options_are_refused_alike_by_every_command() {
 fn d_out(dir: &Path, k: usize, cmd: &str) -> String {
     dir.join(format!("{cmd}-{k}")).to_str().unwrap().to_string()
 }
+
+/// The synthetic constant-rate mode is called `synthetic_rates`; its old key `validation_mode`
+/// is still read, to the same model (same scenario hash, so the same results for the same
+/// seed), with a deprecation warning in `check`; giving both is refused, naming the old key.
+#[test]
+fn the_old_name_of_synthetic_rates_is_read_with_a_warning() {
+    let new = crate::util::one_bay_validation(0.01, 0.05, 1);
+    let mut old = new.clone();
+    let settings = old["synthetic_rates"].take();
+    old.as_object_mut().unwrap().remove("synthetic_rates");
+    old["validation_mode"] = settings.clone();
+    let a = crate::util::model_of(&new);
+    let b = crate::util::model_of(&old);
+    assert_eq!(a.scenario.hash, b.scenario.hash);
+    assert_eq!(a.scenario.synthetic_rates, b.scenario.synthetic_rates);
+    assert!(a.scenario.synthetic_rates.is_some());
+    assert!(a.scenario.deprecations.is_empty());
+    assert_eq!(b.scenario.deprecations.len(), 1);
+    let dir = temp_dir("i15-old-key");
+    let p = dir.join("old.json");
+    std::fs::write(&p, old.to_string()).unwrap();
+    let o = run(&["check", p.to_str().unwrap()]);
+    ok(&o, "check with the old key");
+    let text = String::from_utf8_lossy(&o.stdout).to_string() + &stderr(&o);
+    assert!(
+        text.contains("deprecated_input_name") && text.contains("synthetic_rates"),
+        "{text}"
+    );
+    let mut both = new.clone();
+    both["validation_mode"] = settings;
+    let p = dir.join("both.json");
+    std::fs::write(&p, both.to_string()).unwrap();
+    let o = run(&["check", p.to_str().unwrap()]);
+    assert_eq!(o.status.code(), Some(2));
+    assert!(stderr(&o).contains("validation_mode"), "{}", stderr(&o));
+}

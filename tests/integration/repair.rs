@@ -61,7 +61,7 @@ fn one_out_of_four_four_crews_matches_birth_death_chain() {
 fn two_out_of_four_one_crew_one_year() {
     // 2-out-of-4, one crew: R(1 yr = 365.25 d) = 0.33726 (REFERENCES.md §8).
     let mut v = one_bay_validation(0.01, 0.05, 1);
-    v["validation_mode"]["required_ribbons"] = json!(2);
+    v["synthetic_rates"]["required_ribbons"] = json!(2);
     v["run"]["mission_years"] = json!(1.0);
     let n = 20_000;
     let t = run(&model_of(&v), n, 13);

@@ -95,7 +95,7 @@ pub fn one_bay_validation(lambda_per_day: f64, mu_per_day: f64, crews: u32) -> s
     v["tether"]["traffic_load_n"] = json!(0.0);
     v["repair"] = Value::Null;
     v["run"]["mission_years"] = json!(10.0);
-    v["validation_mode"] = json!({
+    v["synthetic_rates"] = json!({
         "cut_rate_per_segment_per_day": lambda_per_day,
         "repair_rate_per_crew_per_day": mu_per_day,
         "crews_per_bay": crews,
