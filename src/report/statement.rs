@@ -114,10 +114,15 @@ fn cross_link_assumption(hits: Option<&Value>, repair: Option<&Value>) -> String
                         .and_then(Value::as_f64)
                         .map_or("?".into(), |x| sig(x, 4))
                 };
+                let count = |k: &str| {
+                    r.get(k)
+                        .and_then(Value::as_u64)
+                        .map_or("0".into(), |x| x.to_string())
+                };
                 format!(
                     "a cut cross-link is detected like a ribbon cut and re-joined by a climber from the nearest station holding a spare cross-link ({} at each station at mission start, {} more with each delivery; ribbon jobs are served first), {} h on site; the span splits again when it is re-joined",
-                    rn("spares_per_station"),
-                    rn("resupply_batch"),
+                    count("spares_per_station"),
+                    count("resupply_batch"),
                     rn("repair_hours")
                 )
             }

@@ -530,3 +530,26 @@ fn cross_link_repair_combinations_are_refused_by_name() {
     let e = stderr(&run(&["check", p.to_str().unwrap()]));
     assert!(e.contains("repair.climber.load_on_bays"), "{e}");
 }
+
+#[test]
+fn contended_cross_link_repair_keeps_the_invariants() {
+    // The demo's three climbers, few spare cross-links and a dense cross-link cut process:
+    // ribbon and cross-link jobs compete for climbers, spares run out, splices fall inside
+    // merged spans. The strict layer re-checks the bays and the fleet after every event.
+    let mut v: Value = serde_json::from_str(DEMO).unwrap();
+    v["tether"]["cross_link_hits"] = json!({"exposed_area_m2": 1.0, "critical_diameter_mm": 0.5});
+    v["repair"]["cross_link_repair"] =
+        json!({"repair_hours": 24.0, "spares_per_station": 5, "resupply_batch": 2});
+    let model = model_of(&v);
+    let engine = Engine::new(&model, 1.0).unwrap().with_invariant_checks();
+    let mut scratch = engine.new_scratch();
+    let mut tally = engine.empty_tally();
+    for i in 0..300u64 {
+        let out = engine.run_history(i, 9, &mut scratch, &mut tally, None);
+        assert!(out.anomaly.is_none(), "history {i}: {:?}", out.anomaly);
+    }
+    let rt = &tally.repair;
+    assert!(rt.cross_link_repairs > 0 && rt.cross_link_stockout_events > 0);
+    assert!(rt.splices > 0);
+    assert!(rt.cross_link_spares_used <= 300 * (2 * 5 + 2 * 2 * 15));
+}
