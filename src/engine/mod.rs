@@ -487,7 +487,7 @@ impl<'m> Engine<'m> {
         self
     }
 
-    /// The rare-event boost factor (1: plain Monte Carlo).
+    /// The rare-event factor (1: plain Monte Carlo).
     pub fn rare_event_factor(&self) -> f64 {
         self.rare_event_factor
     }

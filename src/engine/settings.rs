@@ -36,7 +36,7 @@ pub enum RunField {
     Shard,
     /// Sampling floor as a fraction of the smallest severing hole.
     FloorFraction,
-    /// Rare-event boost factor.
+    /// Rare-event factor.
     RareEvent,
     /// Latent-damage bias probability.
     LatentBias,
@@ -95,7 +95,7 @@ impl RunField {
             RunField::Threads => "threads; 0: one per core",
             RunField::Shard => "0-based shard of the run's batches",
             RunField::FloorFraction => "fraction of the smallest severing hole",
-            RunField::RareEvent => "boost factor, dimensionless",
+            RunField::RareEvent => "rare-event factor, dimensionless",
             RunField::LatentBias => "probability of the biased component",
             RunField::TargetRelError => "relative standard error",
             RunField::StockoutTarget => "probability",
@@ -233,7 +233,7 @@ pub struct RunSettings {
     pub shard: Option<(u64, u64)>,
     /// Sampling floor fraction.
     pub floor_fraction: f64,
-    /// Rare-event boost factor (1: plain).
+    /// Rare-event factor (1: plain).
     pub rare_event: f64,
     /// Latent-damage bias probability (0: off; absent in folders written before it).
     #[serde(default)]
@@ -309,7 +309,7 @@ pub struct RunChoices {
     pub threads: usize,
     /// Sampling floor as a fraction of the smallest severing hole.
     pub floor_fraction: f64,
-    /// Rare-event boost factor (1: plain).
+    /// Rare-event factor (1: plain).
     pub rare_event: f64,
     /// Latent-damage bias probability (0: off).
     pub latent_bias: f64,

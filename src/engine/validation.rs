@@ -8,7 +8,7 @@
 //! cut or a repair in proportion to their rates. All draws use the strike stream.
 //!
 //! With the rare-event estimator on, the cut rate of intact segments in bays that already have a
-//! cut is multiplied by the boost factor factor, and the history carries the likelihood ratio
+//! cut is multiplied by the rare-event factor, and the history carries the likelihood ratio
 //! factor^-(such cuts) x exp((factor - 1) x lambda x integral of their number over time) — the
 //! same failure biasing by rate inflation as for strikes (Heidelberger 1995, ACM TOMACS 5, 43).
 

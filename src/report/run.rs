@@ -93,7 +93,7 @@ pub fn run_text(s: &RunSummary) -> String {
     ));
     match &s.rare_event {
         Some(r) => o.push_str(&format!(
-            "  {} seen under the biased measure (boost factor {}) in {} histories.\n",
+            "  {} seen under the biased measure (rare-event factor {}) in {} histories.\n",
             count_noun(r.losses_observed, "loss", "losses"),
             sig(r.rare_event_factor, 3),
             s.histories

@@ -382,7 +382,7 @@ pub struct SweepResult {
     pub seed: u64,
     /// Histories per point.
     pub histories: u64,
-    /// Rare-event boost factor (1: plain Monte Carlo).
+    /// Rare-event factor (1: plain Monte Carlo).
     pub rare_event_factor: f64,
     /// Relative standard error at which each point stopped early (absent: every point ran
     /// `histories`).

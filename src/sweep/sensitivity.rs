@@ -262,7 +262,7 @@ pub struct SensitivityResult {
     pub seed: u64,
     /// Histories per run.
     pub histories: u64,
-    /// Rare-event boost factor (1: plain).
+    /// Rare-event factor (1: plain).
     pub rare_event_factor: f64,
     /// Damage sampler of every run (absent in studies written before it could be chosen:
     /// on-demand).

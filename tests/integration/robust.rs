@@ -738,7 +738,7 @@ fn issue7_negative_values_name_their_option() {
 }
 
 /// Engine-level option checks reach the user without the option's spelling (and, for the
-/// floor fraction, without a unit): "rare-event boost factor = 0.5 is out of range",
+/// floor fraction, without a unit): "rare-event factor = 0.5 is out of range",
 /// "floor fraction = 2 is out of range: allowed (0, 1]".
 #[test]
 fn issue7_engine_option_errors_name_the_option() {

@@ -1,0 +1,405 @@
+//! The run folder read into memory: `summary.json` (required) and the optional files beside
+//! it, each checked against the manifest. The report's sections render from a [`RunFolder`];
+//! nothing here writes.
+
+use std::path::{Path, PathBuf};
+
+use serde::Deserialize;
+use serde_json::Value;
+
+use super::failure::MarkovPoint;
+use super::figures::FigureError;
+use crate::engine::RunSummary;
+
+/// Why a report could not be made.
+#[derive(Debug, thiserror::Error)]
+pub enum ReportError {
+    /// The folder has no `summary.json`: it is not a run folder (an input error).
+    #[error("{dir} holds no summary.json, so it is not a run folder: give the folder `tether-risk simulate --out` or `tether-risk demo` wrote")]
+    NotARunFolder {
+        /// The folder given.
+        dir: PathBuf,
+    },
+    /// A required file could not be read or parsed (an input error).
+    #[error("{path} is not a readable run summary: {reason}")]
+    BadSummary {
+        /// The file.
+        path: PathBuf,
+        /// What was wrong.
+        reason: String,
+    },
+    /// The folder's files contradict each other or its manifest (an input error).
+    #[error("{dir} is not a consistent run folder: {}; rerun the command that wrote it (with --force) or restore the files", problems.join("; "))]
+    Inconsistent {
+        /// The folder.
+        dir: PathBuf,
+        /// What disagrees.
+        problems: Vec<String>,
+    },
+    /// Another process is writing the folder (an input error).
+    #[error(transparent)]
+    Locked(#[from] super::folder::LockError),
+    /// A chart could not be drawn.
+    #[error(transparent)]
+    Figure(#[from] FigureError),
+    /// An output file could not be written.
+    #[error("cannot write {path}: {source}")]
+    Write {
+        /// The file.
+        path: PathBuf,
+        /// The I/O error.
+        #[source]
+        source: std::io::Error,
+    },
+}
+
+impl ReportError {
+    /// True for errors caused by the input folder (exit code 2), false for run-time failures.
+    pub fn is_input_error(&self) -> bool {
+        matches!(
+            self,
+            ReportError::NotARunFolder { .. }
+                | ReportError::BadSummary { .. }
+                | ReportError::Inconsistent { .. }
+                | ReportError::Locked(_)
+        )
+    }
+}
+
+/// The fields of `estimate.json` the report uses (a view of
+/// [`crate::report::estimate::EstimateSummary`]).
+#[derive(Clone, Debug, Deserialize, PartialEq)]
+pub struct EstimateView {
+    /// Scenario hash the estimate was made for.
+    pub scenario_hash: String,
+    /// `physical` or `synthetic_rates`.
+    pub mode: String,
+    /// System loss probability by mission end.
+    pub loss_probability: f64,
+    /// Loss probability at each whole year and at mission end.
+    pub loss_probability_by_year: Vec<EstimateYearView>,
+    /// The assumptions behind the number.
+    #[serde(default)]
+    pub assumptions: Vec<String>,
+    /// The damage-memory estimate (absent in older files and where it does not apply).
+    #[serde(default)]
+    pub damage_memory: Option<DamageMemoryView>,
+}
+
+/// The damage-memory part of estimate.json.
+#[derive(Clone, Debug, Deserialize, PartialEq)]
+pub struct DamageMemoryView {
+    /// Exact (no repair) or an approximation (with repair).
+    pub exact: bool,
+    /// System loss probability by mission end.
+    pub loss_probability: f64,
+    /// Which mechanism dominates (`latent damage` or `direct cuts`).
+    #[serde(default)]
+    pub dominant_mechanism: String,
+}
+
+/// One year of the Markov estimate.
+#[derive(Clone, Copy, Debug, Deserialize, PartialEq)]
+pub struct EstimateYearView {
+    /// Mission time, years.
+    pub year: f64,
+    /// System loss probability by then.
+    pub loss_probability: f64,
+}
+
+/// An optional trade study found in `sweep/`.
+#[derive(Clone, Debug)]
+pub struct SweepInput {
+    /// `sweep/sweep.json` as read.
+    pub value: Value,
+    /// `sweep/heatmap.svg`, if present.
+    pub heatmap_svg: Option<String>,
+    /// `sweep/pareto.svg`, if present.
+    pub pareto_svg: Option<String>,
+}
+
+/// Everything read from a run folder.
+#[derive(Clone, Debug)]
+pub struct RunFolder {
+    /// The folder.
+    pub dir: PathBuf,
+    /// The run summary.
+    pub summary: RunSummary,
+    /// `manifest.json`.
+    pub manifest: Option<Value>,
+    /// `scenario.json`.
+    pub scenario: Option<Value>,
+    /// `design.json`.
+    pub design: Option<Value>,
+    /// `estimate.json`, when present and made for the same scenario.
+    pub estimate: Option<EstimateView>,
+    /// The trade study, if any.
+    pub sweep: Option<SweepInput>,
+    /// `sensitivity/sensitivity.json` with `sensitivity/sensitivity.svg`, if present.
+    pub sensitivity: Option<(crate::sweep::sensitivity::SensitivityResult, Option<String>)>,
+    /// What was missing or left out, in words.
+    pub notes: Vec<String>,
+    /// Why the folder may be incomplete (no manifest listing its files), shown as a warning at
+    /// the top of the report; `None` when the manifest vouches for every file.
+    pub incomplete: Option<String>,
+}
+
+/// Read a run-folder file with the run-file size cap.
+pub(crate) fn read_capped(path: &Path) -> std::io::Result<String> {
+    crate::scenario::read_text_capped(
+        path,
+        crate::scenario::MAX_RUN_FILE_BYTES,
+        "a run-folder file",
+    )
+}
+
+/// How [`RunFolder::load_with`] treats the manifest.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Completeness {
+    /// The folder is finished: check the files its manifest lists (a missing manifest makes
+    /// the folder incomplete; listed files that are missing or changed are an error).
+    Check,
+    /// The caller is writing the run now and writes the manifest after the report.
+    Writing,
+}
+
+fn read_json(path: &Path, notes: &mut Vec<String>, what: &str) -> Option<Value> {
+    let name = path
+        .file_name()
+        .map(|n| n.to_string_lossy().into_owned())
+        .unwrap_or_default();
+    match read_capped(path) {
+        Err(e) if e.kind() == std::io::ErrorKind::NotFound => {
+            notes.push(format!("{name} not found: {what} left out."));
+            None
+        }
+        Err(e) => {
+            notes.push(format!("{name} could not be read ({e}): {what} left out."));
+            None
+        }
+        Ok(text) => match serde_json::from_str(&text) {
+            Ok(v) => Some(v),
+            Err(e) => {
+                notes.push(format!("{name} is not valid JSON ({e}): {what} left out."));
+                None
+            }
+        },
+    }
+}
+
+impl RunFolder {
+    /// Read a run folder. Only `summary.json` is required.
+    ///
+    /// # Errors
+    /// [`ReportError::NotARunFolder`] without `summary.json`; [`ReportError::BadSummary`] if it
+    /// cannot be read as a run summary.
+    pub fn load(dir: &Path) -> Result<Self, ReportError> {
+        Self::load_with(dir, Completeness::Check)
+    }
+
+    /// [`RunFolder::load`], saying whether the manifest is to be checked.
+    ///
+    /// # Errors
+    /// As [`RunFolder::load`], and [`ReportError::Inconsistent`] when the manifest's files or
+    /// the scenario hashes of the folder's files disagree.
+    pub fn load_with(dir: &Path, completeness: Completeness) -> Result<Self, ReportError> {
+        let path = dir.join("summary.json");
+        let text = read_main_file(dir, &path)?;
+        let summary: RunSummary =
+            serde_json::from_str(&text).map_err(|e| ReportError::BadSummary {
+                path: path.clone(),
+                reason: e.to_string(),
+            })?;
+        if summary.histories == 0 {
+            return Err(ReportError::BadSummary {
+                path,
+                reason: "it records 0 histories; there is nothing to report".into(),
+            });
+        }
+        super::folder::validate_summary(&summary).map_err(|reason| ReportError::BadSummary {
+            path: path.clone(),
+            reason: format!("it is not consistent: {reason}"),
+        })?;
+        let mut notes = Vec::new();
+        let manifest = read_json(&dir.join("manifest.json"), &mut notes, "the manifest");
+        let mut problems = Vec::new();
+        let incomplete = match (completeness, &manifest) {
+            (Completeness::Writing, _) => None,
+            (Completeness::Check, None) => Some(
+                "this folder has no readable manifest.json, which a run writes last: the run that wrote it may have been killed before it finished, so its files may not belong together".to_string(),
+            ),
+            (Completeness::Check, Some(m)) => match m.get("files") {
+                None => Some(
+                    "manifest.json does not list the run's files (written by an older version), so the folder's completeness cannot be checked".to_string(),
+                ),
+                Some(f) => match serde_json::from_value::<Vec<super::folder::FileEntry>>(f.clone())
+                {
+                    Ok(files) => {
+                        problems.extend(super::folder::check_listed_files(dir, &files));
+                        None
+                    }
+                    Err(e) => {
+                        problems.push(format!("manifest.json: files is not a file list ({e})"));
+                        None
+                    }
+                },
+            },
+        };
+        if let Some(h) = manifest
+            .as_ref()
+            .and_then(|m| m.get("scenario_hash"))
+            .and_then(Value::as_str)
+        {
+            if h != summary.scenario_hash {
+                problems.push(format!(
+                    "manifest.json is for scenario hash {h}, summary.json for {}",
+                    summary.scenario_hash
+                ));
+            }
+        }
+        if let Ok(text) = read_capped(&dir.join("scenario.json")) {
+            if let Ok(spec) = crate::scenario::parse_spec(&text) {
+                let table = read_capped(&dir.join("flux_table.json")).ok();
+                let h = format!(
+                    "{:016x}",
+                    crate::scenario::scenario_hash(&spec, table.as_deref())
+                );
+                if h != summary.scenario_hash {
+                    problems.push(format!(
+                        "scenario.json has hash {h}, but summary.json was run for {}",
+                        summary.scenario_hash
+                    ));
+                }
+            }
+        }
+        let scenario = read_json(
+            &dir.join("scenario.json"),
+            &mut notes,
+            "the scenario description",
+        );
+        let design = read_json(
+            &dir.join("design.json"),
+            &mut notes,
+            "the design key numbers (write it with `tether-risk check FILE --format json > design.json`)",
+        );
+        let estimate = read_json(
+            &dir.join("estimate.json"),
+            &mut notes,
+            "the Markov estimate and its comparison with the Monte Carlo (write it with `tether-risk estimate FILE --format json > estimate.json`)",
+        )
+        .and_then(|v| match serde_json::from_value::<EstimateView>(v) {
+            Ok(e) if e.scenario_hash != summary.scenario_hash => {
+                notes.push(format!(
+                    "estimate.json was made for scenario hash {}, not this run's {}: the Markov comparison is left out.",
+                    e.scenario_hash, summary.scenario_hash
+                ));
+                None
+            }
+            Ok(e) => Some(e),
+            Err(e) => {
+                notes.push(format!(
+                    "estimate.json is not a Markov estimate ({e}): the Markov comparison is left out."
+                ));
+                None
+            }
+        });
+        let design = design.filter(|d| {
+            let hash = d.get("scenario_hash").and_then(Value::as_str);
+            if hash.is_some_and(|h| h != summary.scenario_hash) {
+                notes.push("design.json was made for another scenario: the design key numbers are left out.".into());
+                false
+            } else {
+                true
+            }
+        });
+        let sweep_dir = dir.join("sweep");
+        let sweep = if sweep_dir.join("sweep.json").exists() {
+            read_json(&sweep_dir.join("sweep.json"), &mut notes, "the trade study").map(|value| {
+                SweepInput {
+                    value,
+                    heatmap_svg: read_capped(&sweep_dir.join("heatmap.svg")).ok(),
+                    pareto_svg: read_capped(&sweep_dir.join("pareto.svg")).ok(),
+                }
+            })
+        } else {
+            notes.push("No trade study (sweep/sweep.json) in this folder: the trade-study comparison is left out.".into());
+            None
+        };
+        let sens_dir = dir.join("sensitivity");
+        let sensitivity = if sens_dir.join("sensitivity.json").exists() {
+            match read_capped(&sens_dir.join("sensitivity.json"))
+                .map_err(|e| e.to_string())
+                .and_then(|t| serde_json::from_str(&t).map_err(|e| e.to_string()))
+            {
+                Ok(r) => Some((r, read_capped(&sens_dir.join("sensitivity.svg")).ok())),
+                Err(e) => {
+                    notes.push(format!("sensitivity/sensitivity.json is not readable ({e}): the sensitivity section is left out."));
+                    None
+                }
+            }
+        } else {
+            notes.push("No sensitivity study (sensitivity/sensitivity.json) in this folder: the section \"Which assumption decides the answer?\" is left out; make it with `tether-risk sensitivity FILE --out DIR/sensitivity`.".into());
+            None
+        };
+        if let Some(h) = sweep
+            .as_ref()
+            .and_then(|s| s.value.get("scenario_hash"))
+            .and_then(Value::as_str)
+        {
+            if h != summary.scenario_hash {
+                problems.push(format!(
+                    "sweep/sweep.json is a trade study of scenario hash {h}, not of this run's scenario {}; move it out of the folder or rerun the sweep from this scenario",
+                    summary.scenario_hash
+                ));
+            }
+        }
+        if !problems.is_empty() {
+            return Err(ReportError::Inconsistent {
+                dir: dir.to_path_buf(),
+                problems,
+            });
+        }
+        Ok(RunFolder {
+            sensitivity,
+            dir: dir.to_path_buf(),
+            summary,
+            manifest,
+            scenario,
+            design,
+            estimate,
+            sweep,
+            notes,
+            incomplete,
+        })
+    }
+
+    pub(crate) fn markov_points(&self) -> Option<Vec<MarkovPoint>> {
+        self.estimate.as_ref().map(|e| {
+            e.loss_probability_by_year
+                .iter()
+                .filter(|p| p.year.is_finite() && p.loss_probability.is_finite())
+                .map(|p| MarkovPoint {
+                    year: p.year,
+                    loss_probability: p.loss_probability.clamp(0.0, 1.0),
+                })
+                .collect()
+        })
+    }
+}
+
+/// Read the file that makes `dir` a folder of its kind (`summary.json`, `sweep.json`), size
+/// capped: absent means not such a folder, unreadable means a bad summary.
+pub(crate) fn read_main_file(dir: &Path, path: &Path) -> Result<String, ReportError> {
+    read_capped(path).map_err(|e| {
+        if e.kind() == std::io::ErrorKind::NotFound {
+            ReportError::NotARunFolder {
+                dir: dir.to_path_buf(),
+            }
+        } else {
+            ReportError::BadSummary {
+                path: path.to_path_buf(),
+                reason: e.to_string(),
+            }
+        }
+    })
+}

@@ -1,0 +1,135 @@
+//! The repair section and the fleet paragraph.
+
+use serde_json::Value;
+
+use super::*;
+use crate::report::figures::NamedFigure;
+use crate::report::html::{ReportTable, Section};
+use crate::report::reader::RunFolder;
+use crate::report::run::stock_table;
+use crate::report::table::sig;
+
+pub(crate) fn repair_section(folder: &RunFolder, figures: &[NamedFigure]) -> Section {
+    let s = &folder.summary;
+    let (Some(r), Some(sp)) = (&s.repair, &s.spares) else {
+        return Section {
+            heading: "What stock and fleet keep it alive?".into(),
+            paragraphs: vec!["This scenario has no repair logistics.".into()],
+            ..Default::default()
+        };
+    };
+    let q = &r.queue;
+    let mut figs = figure(figures, "spare_demand_");
+    figs.extend(figure(figures, "time_to_splice"));
+    let mut paragraphs = vec![fleet_paragraph(folder, r)];
+    paragraphs.insert(
+        0,
+        if q.mean_wait_hours > 0.0 {
+            format!(
+                "Climbers are busy {} of the available time; {} segments are spliced per year. On average {} detected segments wait for dispatch; {} (Little's law: arrival rate {} per hour x mean wait = {}).",
+                pct(r.climber_utilisation),
+                sig(r.splices_per_year, 3),
+                sig(q.mean_waiting_segments, 3),
+                crate::report::run::wait_sentence(r),
+                sig(q.arrival_rate_per_hour, 3),
+                sig(q.arrival_rate_times_wait, 3)
+            )
+        } else {
+            format!(
+                "Climbers are busy {} of the available time; {} segments are spliced per year. No detected segment ever waited for dispatch: the fleet and stock are large enough for this cut rate, and the time to splice is detection, travel and splicing.",
+                pct(r.climber_utilisation),
+                sig(r.splices_per_year, 3)
+            )
+        },
+    );
+    Section {
+        heading: "What stock and fleet keep it alive?".into(),
+        paragraphs,
+        figures: figs,
+        tables: vec![ReportTable::from_table(
+            format!(
+                "Spare demand and stock per station: mission demand quantiles (segments), the 95th percentile of one demand interval, the chance of a stock-out (Clopper–Pearson upper bound) and the recommended initial stock (stock-out target {})",
+                pct(r.stockout_target)
+            ),
+            &{
+                let mut t = stock_table(r, sp);
+                t.headers = [
+                    "station",
+                    "mission demand P50",
+                    "P90",
+                    "P95",
+                    "P99",
+                    "one interval P95",
+                    "interval (days)",
+                    "stock-out probability",
+                    "upper bound",
+                    "recommended initial stock",
+                ]
+                .iter()
+                .map(|h| h.to_string())
+                .collect();
+                t
+            },
+        )],
+        ..Default::default()
+    }
+}
+
+/// The fleet next to the stock: the time-to-splice requirement (if the scenario states one)
+/// against the run's P90, and the fleet recommendation of a sweep over climbers in the
+/// folder, or the command that makes one.
+pub(crate) fn fleet_paragraph(folder: &RunFolder, r: &crate::engine::RepairSummary) -> String {
+    let p90 = r.time_to_splice_hours.p90;
+    let target = folder
+        .scenario
+        .as_ref()
+        .and_then(|v| v.get("repair")?.get("splice_p90_target_hours")?.as_f64());
+    let mut o = match target {
+        Some(t) if p90 <= t => format!(
+            "Fleet: the 90th percentile of the time from cut to splice is {} h, within the requirement of {} h (repair.splice_p90_target_hours).",
+            sig(p90, 3),
+            sig(t, 3)
+        ),
+        Some(t) => format!(
+            "Fleet: the 90th percentile of the time from cut to splice is {} h, above the requirement of {} h (repair.splice_p90_target_hours): add climbers (if they wait), stock (if splices wait for spares) or speed.",
+            sig(p90, 3),
+            sig(t, 3)
+        ),
+        None => format!(
+            "Fleet: the 90th percentile of the time from cut to splice is {} h; no requirement is stated (repair.splice_p90_target_hours).",
+            sig(p90, 3)
+        ),
+    };
+    let recs: Vec<Value> = folder
+        .sweep
+        .as_ref()
+        .and_then(|sw| sw.value.get("fleet_recommendations")?.as_array().cloned())
+        .unwrap_or_default();
+    if recs.is_empty() {
+        o.push_str(" To size the fleet, sweep a station's climbers (`tether-risk sweep FILE --vary 'repair.stations[0].climbers=1,2,3'`): the sweep names the smallest fleet whose loss probability is within 10 % of the largest swept and, with a requirement, the smallest that meets it.");
+    } else {
+        for f in recs {
+            let text = |k: &str| f.get(k).and_then(Value::as_str).unwrap_or("").to_string();
+            let station = text("station");
+            let at = match text("other_values") {
+                v if v.is_empty() => String::new(),
+                v => format!(" at {v}"),
+            };
+            if let Some(c) = f.get("recommended_climbers").and_then(Value::as_u64) {
+                o.push_str(&format!(
+                    " Trade study{at}: {c} climber(s) at {station} ({}).",
+                    text("basis")
+                ));
+            }
+            if let Some(c) = f
+                .get("meets_splice_target_climbers")
+                .and_then(Value::as_u64)
+            {
+                o.push_str(&format!(
+                    " For the time-to-splice requirement{at}: {c} climber(s) at {station}."
+                ));
+            }
+        }
+    }
+    o
+}
