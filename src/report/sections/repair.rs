@@ -22,6 +22,27 @@ pub(crate) fn repair_section(folder: &RunFolder, figures: &[NamedFigure]) -> Sec
     let mut figs = figure(figures, "spare_demand_");
     figs.extend(figure(figures, "time_to_splice"));
     let mut paragraphs = vec![fleet_paragraph(folder, r)];
+    if let (Some(c), Some(cuts)) = (r.cross_links.as_ref(), s.cross_link_cuts_per_history) {
+        let share = s.cross_link_cut_fraction_of_time.unwrap_or(0.0);
+        let waited = if c.detected > 0 {
+            c.stockout_events as f64 / c.detected as f64
+        } else {
+            0.0
+        };
+        paragraphs.push(format!(
+            "Cross-links: {} are cut per history and {} re-joined; an interior cross-link station is cut {} of the time on average, and a detected cross-link cut waits {} h on average for a climber to leave with a spare. {} of the detected cross-link cuts waited for a spare cross-link.{}",
+            sig(cuts, 3),
+            sig(c.repairs_per_history, 3),
+            pct(share),
+            sig(c.mean_wait_hours, 3),
+            pct(waited),
+            if waited > 0.01 {
+                " Spare cross-links, not climbers, set how long the bays stay merged: raise repair.cross_link_repair.spares_per_station or resupply_batch and compare the share of time cut."
+            } else {
+                ""
+            }
+        ));
+    }
     paragraphs.insert(
         0,
         if q.mean_wait_hours > 0.0 {
