@@ -3,9 +3,11 @@
 //!
 //! Inputs in the run folder: `summary.json` (required), and, when present, `manifest.json`,
 //! `scenario.json`, `design.json` (design summary), `estimate.json` (Markov estimate) and
-//! `sweep/sweep.json` with `sweep/heatmap.svg` and `sweep/pareto.svg` (a trade study). The
-//! optional files are read defensively as JSON values or through small views of the fields
-//! used here, so a missing or stale file leaves its section out with a note instead of failing.
+//! `sweep/sweep.json` with `sweep/heatmap.svg` and `sweep/pareto.svg` (a trade study), read by
+//! [`super::reader`] (a missing or stale optional file leaves its section out with a note
+//! instead of failing; design.json, scenario.json and sweep.json are still read as JSON values
+//! by key, a typed reader is open work). Each section is built in [`super::sections`]; this
+//! module only orchestrates.
 //!
 //! Outputs: `failure_tables.md`, `failure_by_year.csv`, `failure_by_band.csv`,
 //! `failure_by_cause.csv`, `markov_vs_monte_carlo.csv` (with an estimate), `plots/*.png` and
