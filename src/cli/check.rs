@@ -328,12 +328,23 @@ fn cross_link_check(model: &Model) -> (String, serde_json::Value) {
         .get(k_max)
         .map_or(0.0, |b| b.bottom_altitude_m / 1e3);
     let years = model.scenario.run.mission_years;
-    let plan = model.scenario.repair.as_ref().map(|r| {
-        tether_risk::repair::RepairPlan::new(r, &model.profile, model.scenario.run.mission_s)
-    });
-    let down_s: Option<Vec<f64>> = plan.as_ref().and_then(|p| {
+    // The time a cut cross-link stays cut without queueing: the Markov estimate's mean repair
+    // time at the cross-link's station (detection, turnaround, travel from the nearest station
+    // with climbers), with the cross-link's time on site in place of a splice.
+    let repair = model.scenario.repair.as_ref();
+    let on_site_s = repair.and_then(|r| r.cross_link_repair).map(|x| x.repair_s);
+    let down_s: Option<Vec<f64>> = repair.zip(on_site_s).and_then(|(r, on_site)| {
+        let run_m = model.profile.surface_run_length_m();
         (0..rates.len())
-            .map(|k| p.cross_link_down_s(k))
+            .map(|k| {
+                let at_m = model
+                    .profile
+                    .bays
+                    .get(k)
+                    .map_or(model.profile.bays.last()?.line_top_m, |b| b.line_bottom_m);
+                tether_risk::model::markov::repair_mean_time_along_line_s(r, at_m, run_m)
+                    .map(|t| t - r.splice_s + on_site)
+            })
             .collect::<Option<Vec<f64>>>()
     });
     let year_s = tether_risk::units::SECONDS_PER_YEAR;
@@ -359,7 +370,7 @@ fn cross_link_check(model: &Model) -> (String, serde_json::Value) {
                 format!(
                     "  cross-link repair: a cut stays cut about {} h on average (detection, turnaround, travel from the nearest station, {} h on site; no queueing): {} of the station-time cut on average, highest {} at station {}\n",
                     sig(mean_down_h, 3),
-                    sig(plan.as_ref().and_then(|p| p.cross_link.as_ref()).map_or(0.0, |x| x.repair_s / 3600.0), 3),
+                    sig(on_site_s.unwrap_or(0.0) / 3600.0, 3),
                     sig(mean_share, 3),
                     sig(worst.1, 3),
                     worst.0,
@@ -375,7 +386,7 @@ fn cross_link_check(model: &Model) -> (String, serde_json::Value) {
         // Each cross-link is cut at most once (no repair): sum of 1 - exp(-rate x mission).
         None => (
             rates.iter().map(|r| -(-r * years).exp_m1()).sum(),
-            if plan.is_some() {
+            if repair.is_some() {
                 String::new()
             } else {
                 "  no repair: a cut cross-link stays cut\n".into()

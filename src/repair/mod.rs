@@ -358,26 +358,6 @@ impl RepairPlan {
         self
     }
 
-    /// The time a cut cross-link at station `link` stays cut when nothing queues: the mean
-    /// detection delay (half the interval for periodic inspection), the turnaround, the travel
-    /// from the nearest station (leaving at mission start, so with solar climbers the shadow
-    /// of that moment) and the time on site, s. None without cross-link repair.
-    pub fn cross_link_down_s(&self, link: usize) -> Option<f64> {
-        let x = self.cross_link.as_ref()?;
-        let to_m = *x.link_m.get(link)?;
-        let detection = match self.detection {
-            Detection::Fixed(d) => d,
-            Detection::Exponential(mean) => mean,
-            Detection::Periodic(every) => 0.5 * every,
-        };
-        let travel = self
-            .stations
-            .iter()
-            .map(|s| self.leg_s(s.altitude_m, to_m, self.turnaround_s))
-            .fold(f64::INFINITY, f64::min);
-        Some(detection + self.turnaround_s + travel + x.repair_s)
-    }
-
     /// Time of a leg from altitude `from_m` to `to_m` started at `t0_s`, s: the distance at the
     /// climb or descent speed, plus the delay in the Moon's shadow for solar climbers (exact,
     /// see [`ShadeMotion`]). Without solar power it is the same arithmetic as
