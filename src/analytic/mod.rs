@@ -7,6 +7,7 @@
 //! time to absorption by the first-passage recursion.
 
 mod birth_death;
+pub mod cascade;
 pub mod damage_memory;
 pub mod estimate;
 
