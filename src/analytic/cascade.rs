@@ -108,6 +108,66 @@ impl SeverTable {
     }
 }
 
+/// [`SeverTable::sever_probability`] when all `m` segments have the same distribution, from
+/// `ln_below[k] = ln P(M < h_k)` (non-increasing in `k`; `-inf` when every segment reaches
+/// `h_k`): the binomial recursion over thresholds of [`super::damage_memory`], in `O(m^3)` and
+/// without allocation. `None` when `m` is 0 or above [`MAX_SEGMENTS`].
+pub fn sever_probability_identical(m: usize, ln_below: &[f64]) -> Option<f64> {
+    if m == 0 || m > MAX_SEGMENTS || ln_below.len() < m {
+        return None;
+    }
+    // alive[c]: probability that c segments reach the current threshold and the cascade has
+    // not stopped yet.
+    let mut alive = [0.0f64; MAX_SEGMENTS + 1];
+    let mut next = [0.0f64; MAX_SEGMENTS + 1];
+    let mut prev = 0.0f64; // ln P(M < h_{k-1}), 0 before the first threshold
+    for k in 0..m {
+        // Step down to h_k: a segment below h_{k-1} reaches h_k with probability
+        // p = 1 - P(M < h_k) / P(M < h_{k-1}).
+        let d = (ln_below[k] - prev).min(0.0);
+        let (p, q) = if d == f64::NEG_INFINITY || prev == f64::NEG_INFINITY {
+            (1.0, 0.0)
+        } else {
+            (-d.exp_m1(), d.exp())
+        };
+        if k == 0 {
+            for (c, a) in alive.iter_mut().enumerate().take(m + 1) {
+                *a = binomial(m, c, p, q);
+            }
+        } else {
+            next[..=m].fill(0.0);
+            for c in 0..=m {
+                let a = alive[c];
+                if a == 0.0 {
+                    continue;
+                }
+                for j in 0..=(m - c) {
+                    next[c + j] += a * binomial(m - c, j, p, q);
+                }
+            }
+            alive[..=m].copy_from_slice(&next[..=m]);
+        }
+        // The cascade stops at k cuts when at most k segments reach h_k.
+        alive[..=k].fill(0.0);
+        if prev != f64::NEG_INFINITY {
+            prev = ln_below[k].min(prev);
+        }
+    }
+    Some(alive[m])
+}
+
+/// `C(n, j) p^j q^(n - j)` with `p` and `q` given separately (neither formed as a difference).
+fn binomial(n: usize, j: usize, p: f64, q: f64) -> f64 {
+    if j > n {
+        return 0.0;
+    }
+    let mut c = 1.0f64;
+    for i in 0..j {
+        c = c * (n - i) as f64 / (i + 1) as f64;
+    }
+    c * p.powi(j as i32) * q.powi((n - j) as i32)
+}
+
 impl Level {
     /// Enumerate the capped-count states reachable from "no segment yet" (breadth first, so
     /// state 0 is the start) and their transitions.
@@ -288,5 +348,36 @@ mod tests {
         assert_eq!(t.sever_probability(2, &[0.5; 3], &mut work), None);
         let mut short = vec![0.0; 3];
         assert_eq!(t.sever_probability(2, &[0.5; 6], &mut short), None);
+    }
+
+    /// The identical-segment recursion equals the general sum on identical rows, including
+    /// thresholds every segment already reaches (ln P = -inf).
+    #[test]
+    fn identical_recursion_matches_the_general_sum() {
+        let t = SeverTable::new();
+        let mut work = vec![0.0; 2 * t.max_states()];
+        let cases: [&[f64]; 4] = [
+            &[-1e-4, -3e-3, -0.05, -0.4],
+            &[-1e-7, -2e-6, -1e-5, -3e-4, -1e-3],
+            &[-0.2, -0.9, f64::NEG_INFINITY],
+            &[-1e-3, -1e-3, -0.3],
+        ];
+        for ln_below in cases {
+            let m = ln_below.len();
+            let mut row = vec![0.0; m + 1];
+            row[0] = -ln_below[0].exp_m1();
+            for b in 1..m {
+                row[b] = ln_below[b - 1].exp() - ln_below[b].exp();
+            }
+            row[m] = ln_below[m - 1].exp();
+            let bins: Vec<f64> = (0..m).flat_map(|_| row.clone()).collect();
+            let general = t.sever_probability(m, &bins, &mut work).unwrap();
+            let fast = sever_probability_identical(m, ln_below).unwrap();
+            assert!(
+                (general - fast).abs() <= 1e-9 * general + 1e-300,
+                "{ln_below:?}: {general} vs {fast}"
+            );
+        }
+        assert_eq!(sever_probability_identical(0, &[]), None);
     }
 }

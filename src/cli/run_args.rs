@@ -22,6 +22,13 @@ pub struct RunArgs {
     /// 1/histories. Typical factors 10 to 1000; check the effective sample size it reports.
     #[arg(long, value_name = "FACTOR", allow_hyphen_values = true)]
     pub rare_event: Option<f64>,
+    /// Conditional Monte Carlo at cuts (equal load sharing): at each cut the history scores the
+    /// exact probability that the cascade through the bay's old sub-critical holes severs the
+    /// bay, and goes on conditioned on the bay surviving. For loss probabilities far below
+    /// 1/histories that come from latent damage; unbiased, reported as a weighted estimate
+    /// with its effective sample size. Replaces --rare-event.
+    #[arg(long)]
+    pub condition_cascades: bool,
     /// Stop at a batch boundary once the loss probability's relative standard error is at most
     /// this (deterministic given the seed); the history count is then a ceiling.
     #[arg(long, value_name = "X", allow_hyphen_values = true)]
@@ -42,6 +49,7 @@ impl RunArgs {
             seed: self.seed,
             threads: self.threads,
             rare_event: self.rare_event.unwrap_or(1.0),
+            condition_cascades: self.condition_cascades,
             target_rel_error: self.target_rel_error,
             sampler: self.sampler.into(),
             ..RunChoices::default()

@@ -56,6 +56,8 @@ pub struct Scratch {
     pub(crate) link_cut_at_s: Vec<f64>,
     /// Time cross-links spent cut and since re-joined in this history, summed over stations, s.
     pub(crate) link_down_s: f64,
+    /// Work buffer of the conditional Monte Carlo's severance sum (sized on first use).
+    pub(crate) sever_work: Vec<f64>,
 }
 
 impl Scratch {
@@ -233,6 +235,9 @@ pub struct HistoryOutcome {
     pub strikes: u64,
     /// Likelihood ratio of the history (1 without the rare-event estimator).
     pub weight: f64,
+    /// Conditional Monte Carlo at cuts: the loss probability this history scored at its cuts
+    /// (0 otherwise); the history's estimate is this plus `weight` if it ended in a loss.
+    pub captured: f64,
     /// The history was abandoned because a stop was requested; its scores are incomplete and
     /// its batch must be discarded.
     pub stopped: bool,
@@ -296,6 +301,7 @@ impl Default for HistoryOutcome {
             cross_link_down_s: 0.0,
             strikes: 0,
             weight: 1.0,
+            captured: 0.0,
             stopped: false,
             anomaly: None,
         }
@@ -332,14 +338,21 @@ impl Engine<'_> {
         if let Some(c) = tally.max_cuts_in_bay.get_mut(m) {
             *c += 1;
         }
-        if let (Some(loss), Some(wb)) = (out.loss, tally.weighted.last_mut()) {
-            let w = out.weight;
-            wb.sum_w += w;
-            wb.sum_w2 += w * w;
-            wb.max_w = wb.max_w.max(w);
-            let y = self.year_of(loss.time_s);
-            if let Some(c) = wb.sum_w_by_year.get_mut(y) {
-                *c += w;
+        if let Some(wb) = tally.weighted.last_mut() {
+            // The history's score: its loss indicator times its weight, plus what the
+            // conditional Monte Carlo scored at its cuts (already added to its years).
+            let natural = out.loss.map_or(0.0, |_| out.weight);
+            let score = natural + out.captured;
+            if score > 0.0 {
+                wb.sum_w += score;
+                wb.sum_w2 += score * score;
+                wb.max_w = wb.max_w.max(score);
+            }
+            if let Some(loss) = out.loss {
+                let y = self.year_of(loss.time_s);
+                if let Some(c) = wb.sum_w_by_year.get_mut(y) {
+                    *c += natural;
+                }
             }
         }
         if let Some(loss) = out.loss {

@@ -278,6 +278,10 @@ pub struct Engine<'m> {
     rare_event_factor: f64,
     /// Defensive-mixture probability of the latent-damage bias (0: off).
     latent_bias: f64,
+    /// Conditional Monte Carlo at cuts (`--condition-cascades`): the severance tables, when on.
+    sever: Option<crate::analytic::cascade::SeverTable>,
+    /// With it: the biased untouched-bay cut process (None: the natural one).
+    first_cut_bias: Option<ondemand::FirstCutBias>,
     strict: bool,
     /// Climber loads on bays (absent without repair or with them switched off).
     climber_load: Option<crate::model::climber::ClimberLoadTable>,
@@ -416,6 +420,8 @@ impl<'m> Engine<'m> {
             ribbon_density: t.material_density_kg_per_m3,
             rare_event_factor: 1.0,
             latent_bias: 0.0,
+            sever: None,
+            first_cut_bias: None,
             strict: false,
             climber_load,
             stream_samplers,
@@ -432,7 +438,8 @@ impl<'m> Engine<'m> {
     pub fn for_settings(model: &'m Model, s: &RunSettings) -> Result<Self, EngineError> {
         Self::with_sampler(model, s.floor_fraction, s.sampler)?
             .with_rare_event(s.rare_event)?
-            .with_latent_bias(s.latent_bias)
+            .with_latent_bias(s.latent_bias)?
+            .with_conditioned_cascades(s.condition_cascades)
     }
 
     /// Switch on the rare-event estimator: strikes (synthetic-rates mode: cuts) on bays that already
@@ -475,9 +482,65 @@ impl<'m> Engine<'m> {
         self.latent_bias
     }
 
+    /// Switch on the conditional Monte Carlo at cuts (`--condition-cascades`; see
+    /// `HistoryRun::condition_on_survival` in events.rs): at each cut the history scores the
+    /// exact probability that the cascade through the bay's worst holes severs the bay, and
+    /// goes on conditioned on the bay surviving, its weight multiplied by the survival
+    /// probability. Unbiased by construction; `false` is plain Monte Carlo, bit for bit.
+    ///
+    /// # Errors
+    /// [`EngineError::Options`] for what it does not cover, named: the every-strike sampler or
+    /// synthetic rates, a load-sharing rule whose loads depend on which ribbons are cut,
+    /// meteor streams, cross-link hits, and the latent-damage bias. It combines with the
+    /// rate inflation of `--rare-event` (both are likelihood-ratio changes of one history).
+    pub fn with_conditioned_cascades(mut self, on: bool) -> Result<Self, EngineError> {
+        if !on {
+            self.sever = None;
+            self.first_cut_bias = None;
+            return Ok(self);
+        }
+        let refuse = |why: &str| Err(EngineError::Options(format!("--condition-cascades {why}")));
+        if self.on_demand.is_none() || self.sampler_kind != Sampler::OnDemand {
+            return refuse("works on the on-demand sampler's worst holes: it needs `--sampler on-demand` and a scenario outside synthetic-rates mode");
+        }
+        if self
+            .sharing
+            .uniform_share_divisor(self.ribbons, 1)
+            .is_none()
+        {
+            return refuse("needs a load-sharing rule under which every intact ribbon of a bay carries the same load (tether.load_sharing \"equal\"): with local sharing the severance probability depends on which ribbons are cut");
+        }
+        if !self.model.scenario.environment.meteor_streams.is_empty() {
+            return refuse("does not cover meteor streams yet: remove environment.meteor_streams or run without --condition-cascades");
+        }
+        if self.cross_links.is_some() {
+            return refuse("does not cover cross-link hits yet: remove tether.cross_link_hits or run without --condition-cascades");
+        }
+        if self.latent_bias > 0.0 {
+            return refuse("replaces --latent-bias (both change the worst-hole draws at cuts): leave out --latent-bias");
+        }
+        let table = crate::analytic::cascade::SeverTable::new();
+        self.first_cut_bias = self.on_demand.as_ref().and_then(|od| {
+            ondemand::FirstCutBias::new(
+                od,
+                &self.model.profile,
+                self.sharing,
+                &table,
+                self.mission_s,
+            )
+        });
+        self.sever = Some(table);
+        Ok(self)
+    }
+
+    /// True when the conditional Monte Carlo at cuts is on.
+    pub fn conditions_cascades(&self) -> bool {
+        self.sever.is_some()
+    }
+
     /// True when histories carry likelihood-ratio weights (any rare-event estimator on).
     pub fn is_weighted(&self) -> bool {
-        self.rare_event_factor > 1.0 || self.latent_bias > 0.0
+        self.rare_event_factor > 1.0 || self.latent_bias > 0.0 || self.sever.is_some()
     }
 
     /// Check every invariant after every event (slow; for tests). A violation marks the history

@@ -238,6 +238,9 @@ pub struct RunSettings {
     /// Latent-damage bias probability (0: off; absent in folders written before it).
     #[serde(default)]
     pub latent_bias: f64,
+    /// Conditional Monte Carlo at cuts (`--condition-cascades`; absent in older folders: off).
+    #[serde(default)]
+    pub condition_cascades: bool,
     /// Target relative error.
     pub target_rel_error: Option<f64>,
     /// Stock-out target.
@@ -293,7 +296,7 @@ impl RunSettings {
 
     /// True when histories carry likelihood-ratio weights.
     pub fn is_weighted(&self) -> bool {
-        self.rare_event > 1.0 || self.latent_bias > 0.0
+        self.rare_event > 1.0 || self.latent_bias > 0.0 || self.condition_cascades
     }
 }
 
@@ -313,6 +316,8 @@ pub struct RunChoices {
     pub rare_event: f64,
     /// Latent-damage bias probability (0: off).
     pub latent_bias: f64,
+    /// Conditional Monte Carlo at cuts.
+    pub condition_cascades: bool,
     /// Shard I of N, if any.
     pub shard: Option<(u64, u64)>,
     /// Stop once the loss probability's relative standard error is at most this.
@@ -332,6 +337,7 @@ impl Default for RunChoices {
             floor_fraction: 1.0,
             rare_event: 1.0,
             latent_bias: 0.0,
+            condition_cascades: false,
             shard: None,
             target_rel_error: None,
             stockout_target: DEFAULT_STOCKOUT_TARGET,
@@ -358,6 +364,7 @@ impl RunChoices {
             floor_fraction: self.floor_fraction,
             rare_event: self.rare_event,
             latent_bias: self.latent_bias,
+            condition_cascades: self.condition_cascades,
             target_rel_error: self.target_rel_error,
             stockout_target: self.stockout_target,
             sampler: self.sampler,

@@ -1002,6 +1002,13 @@ pub struct RareEventSummary {
     /// the worst sub-critical holes (0: off; absent in older files).
     #[serde(default)]
     pub latent_bias: f64,
+    /// Conditional Monte Carlo at cuts (`--condition-cascades`; absent in older files: off).
+    #[serde(default)]
+    pub condition_cascades: bool,
+    /// Conditional Monte Carlo: cuts at which a severance probability was scored (absent in
+    /// older files).
+    #[serde(default)]
+    pub scored_cascades: u64,
     /// Weighted loss probability (interval only when resolved).
     pub loss_probability: LossProbability,
     /// Standard error of the estimate.
@@ -1060,10 +1067,15 @@ impl RareEventSummary {
         if engine.latent_bias() > 0.0 {
             parts.push("latent-damage bias: worst sub-critical holes from a defensive mixture toward the next critical width (Hesterberg 1995, Technometrics 37, 185)");
         }
+        if engine.conditions_cascades() {
+            parts.push("conditional Monte Carlo at cuts: each cut scores the exact probability that its cascade severs the bay and the history goes on conditioned on survival");
+        }
         Some(RareEventSummary {
             method: format!("{}; likelihood-ratio weights", parts.join(" and ")),
             rare_event_factor: engine.rare_event_factor(),
             latent_bias: engine.latent_bias(),
+            condition_cascades: engine.conditions_cascades(),
+            scored_cascades: tally.scored_cascades,
             std_error: total.standard_error,
             relative_error: (total.estimate > 0.0).then(|| total.standard_error / total.estimate),
             effective_sample_size: total.effective_sample_size,

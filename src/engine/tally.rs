@@ -95,6 +95,10 @@ pub struct Tally {
     /// when zero).
     #[serde(default, skip_serializing_if = "is_zero")]
     pub cross_link_down_s: u64,
+    /// Conditional Monte Carlo at cuts: cuts at which a severance probability was scored
+    /// (absent from files when zero).
+    #[serde(default, skip_serializing_if = "is_zero")]
+    pub scored_cascades: u64,
     /// Strikes sampled (above the floor).
     pub strikes: u64,
     /// Strikes that made a hole but cut nothing (sub-critical damage).
@@ -197,6 +201,7 @@ impl Tally {
         self.cross_link_cuts += o.cross_link_cuts;
         self.cross_link_down_s += o.cross_link_down_s;
         self.strikes += o.strikes;
+        self.scored_cascades += o.scored_cascades;
         self.subcritical_holes += o.subcritical_holes;
         self.cutting_holes += o.cutting_holes;
         self.cutting_holes_extrapolated += o.cutting_holes_extrapolated;
