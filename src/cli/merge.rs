@@ -194,6 +194,7 @@ pub fn run(a: Args) -> anyhow::Result<()> {
             && st.floor_fraction == first_settings.floor_fraction
             && st.rare_event == first_settings.rare_event
             && st.latent_bias == first_settings.latent_bias
+            && st.condition_cascades == first_settings.condition_cascades
             && st.stockout_target == first_settings.stockout_target
             && st.target_rel_error == first_settings.target_rel_error;
         if !same {

@@ -719,9 +719,9 @@ pub fn run(a: Args) -> anyhow::Result<()> {
         )
         .into());
     }
-    if a.compare_policy && settings.latent_bias > 0.0 {
+    if a.compare_policy && (settings.latent_bias > 0.0 || settings.condition_cascades) {
         return Err(InputError(
-            "--compare-policy counts losses history by history and needs plain Monte Carlo: leave out --latent-bias".into(),
+            "--compare-policy counts losses history by history and needs plain Monte Carlo: leave out --latent-bias and --condition-cascades".into(),
         )
         .into());
     }

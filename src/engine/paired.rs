@@ -188,7 +188,7 @@ impl<'m> Engine<'m> {
     ) -> Result<PairedOutcome, EngineError> {
         if self.is_weighted() || other.is_weighted() {
             return Err(EngineError::Options(
-                "a paired comparison needs plain Monte Carlo on both sides (no --rare-event, no --latent-bias)".into(),
+                "a paired comparison needs plain Monte Carlo on both sides (no --rare-event, --latent-bias or --condition-cascades)".into(),
             ));
         }
         let (a, b) = (self.empty_tally(), other.empty_tally());

@@ -302,6 +302,11 @@ pub struct RunSummary {
     pub repair: Option<RepairSummary>,
     /// Spare-ribbon demand (absent without repair).
     pub spares: Option<SpareSummary>,
+    /// Why the cut, cause, repair, spares and month tallies are left out (absent when they
+    /// are given): under `--condition-cascades` histories run under a biased measure, so those
+    /// counts are not the design's.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub tallies_withheld: Option<String>,
     /// The raw counts (for merging shards).
     pub tally: Tally,
     /// Loss probability with and without a preventive-replacement policy over the same
@@ -311,6 +316,9 @@ pub struct RunSummary {
     /// The engineering caution.
     pub caution: String,
 }
+
+/// What a conditioned run says in place of the tallies it leaves out.
+pub const TALLIES_WITHHELD: &str = "Cuts, causes of loss, cuts by altitude band and month, repair logistics and spare demand are left out of this run: under --condition-cascades first cuts are drawn more often where they can sever, damaged bays are cut more often and every cut's cascade is conditioned on survival, so those counts are not the design's. The loss probability and survival by year are unbiased (weighted). Run the same scenario without --condition-cascades for the logistics and the cut counts: they are frequent events and need no rare-event method.";
 
 fn cp(k: u64, n: u64, confidence: f64) -> Interval {
     let (lo, hi) = clopper_pearson(k, n, confidence).unwrap_or((0.0, 1.0));
@@ -463,6 +471,14 @@ impl RunSummary {
             })
             .collect();
 
+        let tallies_withheld = engine.conditions_cascades().then(|| {
+            TALLIES_WITHHELD.to_string()
+        });
+        let (repair, spares, by_month) = if tallies_withheld.is_some() {
+            (None, None, Vec::new())
+        } else {
+            (repair, spares, by_month)
+        };
         RunSummary {
             version: crate::VERSION.to_string(),
             scenario: sc.spec.name.clone(),
@@ -543,6 +559,7 @@ impl RunSummary {
             rare_event,
             repair,
             spares,
+            tallies_withheld,
             tally,
             policy_effect: None,
             caution: crate::CAUTION.to_string(),

@@ -279,7 +279,7 @@ fn report_doc(folder: &RunFolder, figures: &[NamedFigure], t: &DocTables<'_>) ->
         design_section(folder),
         super::statement::model_section(folder),
         survival_section(folder, figures, t),
-        where_section(figures, t),
+        where_section(figures, t, folder.summary.tallies_withheld.as_deref()),
     ];
     sections.extend(super::statement::cuts_section(s));
     sections.push(repair_section(folder, figures));

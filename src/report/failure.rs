@@ -50,10 +50,10 @@ pub fn loss_cell(lp: &LossProbability) -> String {
 pub fn loss_text(lp: &LossProbability, digits: usize) -> String {
     let conf = format!("{:.0} %", 100.0 * lp.confidence);
     let diag = format!(
-        "SE {}, effective sample size {}, largest weight {:.1} %",
+        "SE {}, effective sample size {}, largest weight {} %",
         sig(lp.standard_error, 2),
         sig(lp.effective_sample_size, 3),
-        100.0 * lp.largest_weight_share
+        sig(100.0 * lp.largest_weight_share, 2)
     );
     match (lp.interval(), lp.is_weighted()) {
         (Some((lo, hi)), false) => format!(

@@ -92,6 +92,13 @@ pub fn run_text(s: &RunSummary) -> String {
         super::failure::loss_text(lp, 4)
     ));
     match &s.rare_event {
+        Some(r) if r.condition_cascades => o.push_str(&format!(
+            "  conditional Monte Carlo at cuts: {} cuts scored the probability that their cascade severs the bay; {} seen under the biased measure (rare-event factor {}) in {} histories.\n",
+            r.scored_cascades,
+            count_noun(r.losses_observed, "loss", "losses"),
+            sig(r.rare_event_factor, 3),
+            s.histories
+        )),
         Some(r) => o.push_str(&format!(
             "  {} seen under the biased measure (rare-event factor {}) in {} histories.\n",
             count_noun(r.losses_observed, "loss", "losses"),
@@ -108,6 +115,15 @@ pub fn run_text(s: &RunSummary) -> String {
         o.push_str("  Not resolved: the estimate rests on too few effectively independent losses for any interval to be trusted. Run more histories, or use plain Monte Carlo if the probability is within reach of it.\n");
     } else if s.tally.losses == 0 {
         o.push_str("  No loss was seen: the upper bound is what these histories can rule out; more histories lower it. Do not substitute the memoryless Markov number of `tether-risk estimate`: it forgets sub-critical holes and can be orders of magnitude too low where losses come from cascades through old damage (compare it with the damage-memory estimate printed beside it).\n");
+    }
+    if let Some(why) = &s.tallies_withheld {
+        o.push_str(&format!("{why}\n\n"));
+        o.push_str("Survival by mission year\n");
+        o.push_str(&terminal_survival_table(s).to_text());
+        o.push('\n');
+        o.push_str(&s.caution);
+        o.push('\n');
+        return o;
     }
     o.push_str(&format!(
         "Cut segments per year (whole tether): {}  ({} .. {}); mean cuts per history {}\n",
@@ -503,14 +519,16 @@ pub fn write_run(dir: &Path, summary: &RunSummary) -> std::io::Result<Vec<String
         "survival_by_year.md",
         survival_table(summary).to_markdown().as_bytes(),
     )?;
-    put(
-        "altitude_bands.csv",
-        altitude_bands_table(summary).to_csv().as_bytes(),
-    )?;
-    put(
-        "altitude_bands.md",
-        altitude_bands_table(summary).to_markdown().as_bytes(),
-    )?;
+    if summary.tallies_withheld.is_none() {
+        put(
+            "altitude_bands.csv",
+            altitude_bands_table(summary).to_csv().as_bytes(),
+        )?;
+        put(
+            "altitude_bands.md",
+            altitude_bands_table(summary).to_markdown().as_bytes(),
+        )?;
+    }
     if !summary.by_month.is_empty() {
         let t = super::statement::by_month_table(summary);
         put("by_month.csv", t.to_csv().as_bytes())?;

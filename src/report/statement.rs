@@ -292,6 +292,13 @@ pub fn cuts_section(s: &RunSummary) -> Option<Section> {
     if s.expected_cuts_by_year.is_empty() {
         return None;
     }
+    if let Some(why) = &s.tallies_withheld {
+        return Some(Section {
+            heading: "How many segments are cut each year?".into(),
+            paragraphs: vec![why.clone()],
+            ..Default::default()
+        });
+    }
     let basis = if s.rare_event.is_some() {
         " Counted under the rare-event run's biased measure, so these are not the physical cut rates."
     } else {

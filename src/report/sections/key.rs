@@ -14,12 +14,17 @@ pub(crate) fn key_section(folder: &RunFolder) -> Section {
     let mut cards = Vec::new();
     let basis = match &s.rare_event {
         Some(r) => format!(
-            "weighted rare-event estimate, {} histories, {} losses under the biased measure, SE {}, effective sample size {}, largest weight {:.1} %",
+            "weighted {} estimate, {} histories, {} losses under the biased measure, SE {}, effective sample size {}, largest weight {} %",
+            if r.condition_cascades {
+                "conditional Monte Carlo"
+            } else {
+                "rare-event"
+            },
             s.histories,
             r.losses_observed,
             sig(lp.standard_error, 2),
             sig(lp.effective_sample_size, 3),
-            100.0 * lp.largest_weight_share
+            sig(100.0 * lp.largest_weight_share, 2)
         ),
         None => format!(
             "{} losses in {} histories, Clopper–Pearson",
@@ -207,7 +212,9 @@ pub(crate) fn answer_sentence(folder: &RunFolder) -> String {
         ),
     };
     let total = c.direct_cut + c.cascade + c.stockout_delay + c.climber_load;
-    if total > 0 {
+    if s.tallies_withheld.is_some() {
+        // Causes are biased-measure counts here: the withheld-tallies sentence below says so.
+    } else if total > 0 {
         o.push_str(&format!(
             "Of the {total} losses seen, {} were cascades (survivors overloaded after a cut), {} direct cuts, {} losses while waiting for spare stock and {} caused by a climber's weight arriving on a weakened bay. ",
             c.cascade, c.direct_cut, c.stockout_delay, c.climber_load
@@ -265,6 +272,8 @@ pub(crate) fn answer_sentence(folder: &RunFolder) -> String {
             sig(r.time_to_splice_hours.p90, 3),
             pct(r.stockout_target)
         ));
+    } else if let Some(why) = &s.tallies_withheld {
+        o.push_str(why);
     } else {
         o.push_str("This scenario has no repair: cut segments stay cut.");
     }

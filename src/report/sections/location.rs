@@ -4,7 +4,18 @@ use super::*;
 use crate::report::figures::NamedFigure;
 use crate::report::html::Section;
 
-pub(crate) fn where_section(figures: &[NamedFigure], t: &DocTables<'_>) -> Section {
+pub(crate) fn where_section(
+    figures: &[NamedFigure],
+    t: &DocTables<'_>,
+    withheld: Option<&str>,
+) -> Section {
+    if let Some(why) = withheld {
+        return Section {
+            heading: "Where along the tether, and why?".into(),
+            paragraphs: vec![why.to_string()],
+            ..Default::default()
+        };
+    }
     let mut figs = figure(figures, "losses_by_altitude");
     figs.extend(figure(figures, "cuts_by_altitude"));
     Section {

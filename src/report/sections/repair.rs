@@ -14,7 +14,10 @@ pub(crate) fn repair_section(folder: &RunFolder, figures: &[NamedFigure]) -> Sec
     let (Some(r), Some(sp)) = (&s.repair, &s.spares) else {
         return Section {
             heading: "What stock and fleet keep it alive?".into(),
-            paragraphs: vec!["This scenario has no repair logistics.".into()],
+            paragraphs: vec![s
+                .tallies_withheld
+                .clone()
+                .unwrap_or_else(|| "This scenario has no repair logistics.".into())],
             ..Default::default()
         };
     };
