@@ -471,9 +471,9 @@ impl RunSummary {
             })
             .collect();
 
-        let tallies_withheld = engine.conditions_cascades().then(|| {
-            TALLIES_WITHHELD.to_string()
-        });
+        let tallies_withheld = engine
+            .conditions_cascades()
+            .then(|| TALLIES_WITHHELD.to_string());
         let (repair, spares, by_month) = if tallies_withheld.is_some() {
             (None, None, Vec::new())
         } else {

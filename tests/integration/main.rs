@@ -11,6 +11,7 @@ mod util;
 mod bad_input;
 mod commands;
 mod compare;
+mod conditioned;
 mod cross_links;
 mod damage_memory;
 mod determinism;
