@@ -246,14 +246,26 @@ impl OnDemandTables {
     }
 }
 
+/// Exponent a that flattens the aim π_j = (P_j / max P)^a of [`FirstCutBias`].
+///
+/// A tuning value (no source), chosen by measurement: P_j(T) bounds the severance chance of a
+/// cut at mission end, while an earlier cut meets smaller holes, so bays with a small P_j still
+/// carry much of the loss, and aiming in proportion to P_j (a = 1) leaves them with nearly the
+/// natural rate and large weights. On the demo without repair at flux factor 0.1 (exact loss
+/// probability 1.875e-6), six seeds of 1e6 histories each gave with a = 1 standard errors from
+/// 2e-8 to 2e-7, effective sample sizes from 112 to 8,447 and a largest weight share up to 8 %;
+/// with a = 0.25 standard errors 2.1e-8 to 5.1e-8, effective sample sizes 1,322 to 7,535 and
+/// every estimate within 1.83e-6 .. 1.91e-6.
+pub(crate) const AIM_EXPONENT: f64 = 0.25;
+
 /// Importance sampling of the untouched-bay cut process for the conditional Monte Carlo at cuts
 /// (`--condition-cascades`): first cuts are drawn more often on the bays where a first cut is
 /// most likely to start a severing cascade.
 ///
 /// The natural process has rate r_j = N H_j(c0_j) on bay j. The biased one has
-/// q_j = r_j (1 + κ π_j), with π_j = P_j(T) / max_k P_k(T), P_j(T) the probability that a first
-/// cut at mission end severs the fresh bay j (all other segments with the holes of a whole
-/// mission, [`crate::analytic::cascade`]), and κ set so the extra cuts number one per history on
+/// q_j = r_j (1 + κ π_j), with π_j = (P_j(T) / max_k P_k(T))^a, P_j(T) the probability that a
+/// first cut at mission end severs the fresh bay j (all other segments with the holes of a whole
+/// mission, [`crate::analytic::cascade`]), a = [`AIM_EXPONENT`], and κ set so the extra cuts number one per history on
 /// average (Σ_j (q_j - r_j) T = 1; a tuning choice, common practice for a defensive mixture and
 /// no source). Keeping the natural rate inside q_j (a defensive mixture, Hesterberg 1995,
 /// Technometrics 37, 185) bounds each candidate's likelihood-ratio factor r_j / q_j by 1. The
@@ -327,6 +339,9 @@ impl FirstCutBias {
                 bins[r * (m + 1)..(r + 1) * (m + 1)].copy_from_slice(&row);
             }
             sever.push(table.sever_probability(m, &bins, &mut work).unwrap_or(0.0));
+        }
+        for x in sever.iter_mut() {
+            *x = x.powf(AIM_EXPONENT);
         }
         let top = sever.iter().cloned().fold(0.0f64, f64::max);
         if !(top > 0.0) {
