@@ -301,28 +301,32 @@ const EXTRA_CUTS_PER_DAMAGED_BAY: f64 = 2.0;
 
 /// Conditional Monte Carlo at cuts: the surviving branch draws the bay's fresh worst holes from
 /// the defensive mixture `(1 - β) f + β f_γ`, β = [`SURVIVOR_TILT_SHARE`]. Under `f_γ` each
-/// segment's fresh maximum reaches the cascade's first threshold h_0 with its odds multiplied
-/// by γ (`q' = γ q / (1 + (γ - 1) q)`, q the natural probability), and is drawn naturally within
-/// the part it falls in: the density ratio `f_γ / f` is `q'/q` above h_0 and
-/// `(1 - q')/(1 - q)` below, so the bulk of small holes keeps weight 1. A cascade that stops
-/// short of severance leaves the bay a few cuts down and likely to be lost at its next cut;
-/// drawn naturally, that branch is rare and arrives with a large weight (on the demo without
-/// repair at 1.9e-6, 55 histories of 1e6 carried 91 % of the variance). γ is a tuning value
-/// with no source, chosen by measurement on that case (1e6 histories, 2-4 seeds each, SE² x
-/// run time in s²·s): without the tilt 1.2e-15 to 5e-15 (effective sample sizes down to 1,500,
-/// one weight up to 2.3 % of the total); γ = 5: 6e-15 to 8.5e-15; 20: 1.3e-15 to 1.6e-15; 60:
-/// 0.8e-15 to 1.2e-15; 200: 0.67e-15 to 0.75e-15; 1000: 0.8e-15 to 0.95e-15; 5000: 0.9e-15 to
-/// 2.8e-15.
-const SURVIVOR_TILT: f64 = 200.0;
+/// segment's fresh maximum reaches the cascade threshold h_l, l = [`SURVIVOR_TILT_LEVEL`], with
+/// its odds multiplied by γ (`q' = γ q / (1 + (γ - 1) q)`, q the natural probability), and is
+/// drawn naturally within the part it falls in: the density ratio `f_γ / f` is `q'/q` at or
+/// above h_l and `(1 - q')/(1 - q)` below, so the bulk of small holes keeps weight 1. A
+/// cascade that stops short of severance, or a hole left between h_1 and h_0, leaves the bay
+/// likely to be lost at its next cut; drawn naturally, those branches are rare and arrive with
+/// large weights (on the demo without repair at 1.9e-6, 55 histories of 1e6 carried 91 % of
+/// the variance). γ and l are tuning values with no source, chosen by measurement on that case
+/// (1e6 histories, two to four seeds each, SE² x run time in units of 1e-16 s): no tilt 12 to
+/// 50; tilt at h_0 with γ = 5, 20, 60, 200, 1000, 5000: 60 to 85, 13 to 16, 8 to 12, 4.7 to
+/// 4.9, 8 to 9.5, 9 to 28; at h_1 with γ = 20, 40, 80, 200, 400, 1000: 2.5, 1.8, 1.6 to 1.7,
+/// 1.8 to 2.1, 3.1 to 3.2, 7.4 to 7.5; at h_2 and h_3 (γ = 200): 110 to 210.
+const SURVIVOR_TILT: f64 = 80.0;
+
+/// The cascade threshold h_l whose odds [`SURVIVOR_TILT`] multiplies: h_1, the critical width
+/// after one more cut (h_0 for a bay with a single segment left besides the one being cut).
+const SURVIVOR_TILT_LEVEL: usize = 1;
 
 /// β of [`SURVIVOR_TILT`]: the share of the tilted component (a tuning value, no source; a
 /// half keeps each draw's likelihood-ratio factor below 2).
 const SURVIVOR_TILT_SHARE: f64 = 0.5;
 
 /// How the fresh worst holes of a bay are drawn: `tilted` (from `f_γ`, else natural), the odds
-/// factor γ whose density ratio `f_γ / f` the draw reports (1: none), the rate `H(h_0)` of the
-/// threshold it acts on, and a segment drawn naturally and left out of the ratio (the one
-/// about to be cut). Segments whose old hole already reaches the threshold width are drawn
+/// factor γ whose density ratio `f_γ / f` the draw reports (1: none), the threshold h_l it acts
+/// on (`level` l, its width and rate `H(h_l)`), and a segment drawn naturally and left out of
+/// the ratio (the one about to be cut). Segments whose old hole already reaches the threshold width are drawn
 /// naturally.
 #[derive(Clone, Copy, Debug)]
 struct Tilt {
@@ -330,6 +334,7 @@ struct Tilt {
     gamma: f64,
     threshold_rate_s: f64,
     threshold_m: f64,
+    level: usize,
     skip: Option<usize>,
 }
 
@@ -339,6 +344,7 @@ impl Tilt {
         gamma: 1.0,
         threshold_rate_s: 0.0,
         threshold_m: f64::INFINITY,
+        level: 0,
         skip: None,
     };
 
@@ -1589,8 +1595,10 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
         }
         // Severance probability under the tilted law (finite ln F scaled by γ) and under the
         // mixture the surviving branch is drawn from.
+        let level = SURVIVOR_TILT_LEVEL.min(m - 1);
         let gamma = Tilt {
             gamma: SURVIVOR_TILT,
+            level,
             ..Tilt::NONE
         };
         let p_tilted =
@@ -1618,9 +1626,10 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
         for _ in 0..MAX_REDRAWS {
             let tilt = Tilt {
                 tilted: unit(&mut self.damage) < SURVIVOR_TILT_SHARE,
-                gamma: SURVIVOR_TILT,
-                threshold_rate_s: rate_h[0],
-                threshold_m: h[0],
+                gamma: gamma.gamma,
+                level,
+                threshold_rate_s: rate_h[level],
+                threshold_m: h[level],
                 skip: Some(ribbon),
             };
             let ln_r = self.update_worst_holes(slot, t, false, tilt);
@@ -1821,13 +1830,13 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
                 any_big = true;
             }
             let mut big_f = big_f;
-            // (A segment whose old hole already reaches h_0 is drawn naturally: its part is
-            // settled, as in the tilted bins of `sever_probability`.)
+            // (A segment whose old hole already reaches h_l is drawn naturally: its part is
+            // settled, as in the tilted parts of `sever_probability`.)
             if tilt.gamma != 1.0
                 && Some(i) != tilt.skip
                 && s.worst_hole_m[base + i] < tilt.threshold_m
             {
-                // q = P(fresh max >= h_0) under f; the draw puts F at or above 1 - q with
+                // q = P(fresh max >= h_l) under f; the draw puts F at or above 1 - q with
                 // probability q' (tilted) or q (natural), inverting within each part.
                 let q = -(-(tilt.threshold_rate_s - h_c).max(0.0) * dt).exp_m1();
                 if q > 0.0 && q < 1.0 {
@@ -2062,7 +2071,7 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
 #[inline]
 /// Severance probability of a cut's cascade over `m` segments whose final worst holes have
 /// `ln P(M_r < h_k) = ln_f[r][k]` ([`crate::analytic::cascade`]), under the natural law or,
-/// with `tilt`, with each segment's odds of reaching h_0 multiplied by γ ([`Tilt`]). `None`
+/// with `tilt`, with each segment's odds of reaching h_l multiplied by γ ([`Tilt`]). `None`
 /// when the table cannot say.
 fn sever_probability(
     table: &crate::analytic::cascade::SeverTable,
@@ -2072,21 +2081,27 @@ fn sever_probability(
     work: &mut [f64],
 ) -> Option<f64> {
     use crate::analytic::cascade::MAX_SEGMENTS;
-    // The tilt moves mass q' - q above h_0 and scales every part below by
-    // (1 - q')/(1 - q), so each F_k = P(M < h_k) is multiplied by that factor.
+    // The tilt scales the parts at or above h_l by q'/q and those below by (1 - q')/(1 - q)
+    // (q = 1 - F_l): F_k is multiplied by the second factor for k >= l, and 1 - F_k by the
+    // first for k < l.
     let mut tilted = [[0.0f64; MAX_SEGMENTS]; MAX_SEGMENTS];
     let ln_f = match tilt {
         None => ln_f,
         Some(tilt) => {
+            let l = tilt.level;
             for (out, lf) in tilted[..m].iter_mut().zip(&ln_f[..m]) {
-                let q = -lf[0].exp_m1();
-                let shift = if q > 0.0 && q < 1.0 {
-                    ((1.0 - tilt.odds(q)) / (1.0 - q)).ln()
-                } else {
-                    0.0
-                };
-                for (o, &x) in out[..m].iter_mut().zip(&lf[..m]) {
-                    *o = x + shift;
+                out[..m].copy_from_slice(&lf[..m]);
+                let q = -lf[l].exp_m1();
+                if q > 0.0 && q < 1.0 {
+                    let q_t = tilt.odds(q);
+                    let shift = ((1.0 - q_t) / (1.0 - q)).ln();
+                    for o in out[l..m].iter_mut() {
+                        *o += shift;
+                    }
+                    // Above h_l the parts scale by q'/q: 1 - F'_k = (q'/q)(1 - F_k).
+                    for (o, &x) in out[..l].iter_mut().zip(&lf[..l]) {
+                        *o = (-(q_t / q) * -x.exp_m1()).ln_1p();
+                    }
                 }
             }
             &tilted
@@ -2409,7 +2424,7 @@ mod tests {
     /// (1 - q')/(1 - q)), and the cascade rule "at least k + 1 segments at or above h_k for
     /// every k < m" applied to each assignment. Independent of both the F-shift used by
     /// `sever_probability` and the dynamic program of `analytic::cascade`.
-    fn enumerated(ln_f: &[Vec<f64>], gamma: Option<f64>) -> f64 {
+    fn enumerated(ln_f: &[Vec<f64>], gamma: Option<f64>, level: usize) -> f64 {
         let m = ln_f.len();
         let rows: Vec<Vec<f64>> = ln_f
             .iter()
@@ -2421,11 +2436,17 @@ mod tests {
                 }
                 row.push(f[m - 1]);
                 if let Some(g) = gamma {
-                    let q = row[0];
-                    let qt = g * q / (1.0 + (g - 1.0) * q);
-                    row[0] = qt;
-                    for x in row[1..].iter_mut() {
-                        *x *= (1.0 - qt) / (1.0 - q);
+                    // Parts 0..=level lie at or above h_level.
+                    let q: f64 = row[..=level].iter().sum();
+                    if q > 0.0 && q < 1.0 {
+                        let qt = g * q / (1.0 + (g - 1.0) * q);
+                        for (b, x) in row.iter_mut().enumerate() {
+                            *x *= if b <= level {
+                                qt / q
+                            } else {
+                                (1.0 - qt) / (1.0 - q)
+                            };
+                        }
                     }
                 }
                 row
@@ -2476,17 +2497,20 @@ mod tests {
             for (r, lf) in ln_f.iter().enumerate() {
                 a[r][..m].copy_from_slice(lf);
             }
-            for gamma in [None, Some(7.0), Some(200.0)] {
-                let tilt = gamma.map(|g| Tilt {
-                    gamma: g,
-                    ..Tilt::NONE
-                });
-                let got = sever_probability(&table, m, &a, tilt.as_ref(), &mut work).unwrap();
-                let want = enumerated(ln_f, gamma);
-                assert!(
-                    (got - want).abs() <= 1e-12 * want.max(1e-300) + 1e-15,
-                    "m {m}, gamma {gamma:?}: {got} vs enumeration {want}"
-                );
+            for level in 0..m {
+                for gamma in [None, Some(7.0), Some(200.0)] {
+                    let tilt = gamma.map(|g| Tilt {
+                        gamma: g,
+                        level,
+                        ..Tilt::NONE
+                    });
+                    let got = sever_probability(&table, m, &a, tilt.as_ref(), &mut work).unwrap();
+                    let want = enumerated(ln_f, gamma, level);
+                    assert!(
+                        (got - want).abs() <= 1e-12 * want.max(1e-300) + 1e-15,
+                        "m {m}, level {level}, gamma {gamma:?}: {got} vs enumeration {want}"
+                    );
+                }
             }
         }
     }
