@@ -50,7 +50,7 @@ pub struct Args {
     #[arg(long)]
     pub force: bool,
     /// Continue an interrupted sweep from its output folder (finished points are kept).
-    #[arg(long, value_name = "DIR", conflicts_with_all = ["file", "vary", "histories", "seed", "rare_event", "target_rel_error", "out", "force"])]
+    #[arg(long, value_name = "DIR", conflicts_with_all = ["file", "vary", "histories", "seed", "rare_event", "condition_cascades", "target_rel_error", "out", "force"])]
     pub resume: Option<PathBuf>,
     /// Output format on stdout.
     #[arg(long, value_enum, default_value_t)]
@@ -68,6 +68,9 @@ struct SweepPlan {
     histories: Option<u64>,
     seed: Option<u64>,
     rare_event_factor: f64,
+    /// Conditional Monte Carlo at cuts for every point (absent in older plans: off).
+    #[serde(default)]
+    condition_cascades: bool,
     /// Relative standard error at which each point stops early.
     #[serde(default)]
     target_rel_error: Option<f64>,
@@ -271,6 +274,7 @@ pub fn run(a: Args) -> anyhow::Result<()> {
                 histories: a.run.histories,
                 seed: a.run.seed,
                 rare_event_factor: a.run.rare_event.unwrap_or(1.0),
+                condition_cascades: a.run.condition_cascades,
                 target_rel_error: a.run.target_rel_error,
                 stockout_target: a.stock.stockout_target,
                 sampler: a.run.sampler.into(),
@@ -285,6 +289,7 @@ pub fn run(a: Args) -> anyhow::Result<()> {
             seed: plan.seed,
             threads: a.run.threads,
             rare_event: plan.rare_event_factor,
+            condition_cascades: plan.condition_cascades,
             target_rel_error: plan.target_rel_error,
             stockout_target: plan.stockout_target,
             sampler: plan.sampler,

@@ -36,7 +36,7 @@ pub use summary::{
     BandRow, CauseCounts, CountQuantiles, DurationStats, EstimateMethod, Interval, LittleLaw,
     LossProbability, MonthRow, RepairSummary, RunSummary, SpareSummary, StationDemand,
     StationProbability, StationStock, SurvivalPoint, YearCuts, PLAIN_INTERVAL_METHOD,
-    WEIGHTED_INTERVAL_METHOD,
+    TALLIES_WITHHELD, WEIGHTED_INTERVAL_METHOD,
 };
 pub use tally::{Loss, LossCause, Tally, WeightedBatch, ANOMALY_EXAMPLES, LOSS_CAUSES};
 

@@ -26,11 +26,18 @@ fn value_label(v: &serde_json::Value) -> String {
 fn variant_cell(v: &VariantResult) -> String {
     match (&v.loss_probability, &v.infeasible) {
         (_, Some(r)) => format!("infeasible ({r})"),
-        (Some(l), None) => format!(
-            "{} ({})",
-            loss_cell(l),
-            super::run::count_noun(v.losses.unwrap_or(0), "loss", "losses")
-        ),
+        // A weighted run's loss count is that of its biased measure: its effective sample
+        // size says how much the estimate rests on instead.
+        (Some(l), None) => match l.method {
+            crate::engine::EstimateMethod::Weighted => {
+                format!("{} (ESS {})", loss_cell(l), sig(l.effective_sample_size, 3))
+            }
+            crate::engine::EstimateMethod::Plain => format!(
+                "{} ({})",
+                loss_cell(l),
+                super::run::count_noun(v.losses.unwrap_or(0), "loss", "losses")
+            ),
+        },
         (None, None) => "-".into(),
     }
 }

@@ -417,6 +417,17 @@ fn notes(r: &SweepResult, bullet: &str) -> String {
         "\n{} histories per point, seed {} for every point. {}\nMasses: {}\nMargins: min margin = smallest intact allowable-over-actual tension over all bays; payload/segment = climber payload over the heaviest spare segment's mass (below 1 no climber can carry a spare). Stock columns list the stations in the order of the header.\n\n{}\n",
         r.histories, r.seed, r.common_random_numbers, r.spare_stock_basis, r.caution
     ));
+    if r.condition_cascades {
+        // Before the caution paragraph: why the count columns are empty.
+        let at = o.rfind("\n\n").map_or(o.len(), |i| i + 1);
+        o.insert_str(
+            at,
+            &format!(
+                "Columns losses, cuts/yr, stock and spares are left out (-): {}\n",
+                crate::engine::TALLIES_WITHHELD
+            ),
+        );
+    }
     o
 }
 

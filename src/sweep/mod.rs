@@ -384,6 +384,9 @@ pub struct SweepResult {
     pub histories: u64,
     /// Rare-event factor (1: plain Monte Carlo).
     pub rare_event_factor: f64,
+    /// Conditional Monte Carlo at cuts (`--condition-cascades`; absent in older files: off).
+    #[serde(default)]
+    pub condition_cascades: bool,
     /// Relative standard error at which each point stopped early (absent: every point ran
     /// `histories`).
     #[serde(default)]
@@ -871,6 +874,7 @@ pub fn run_sweep_resumable(
         seed: run.seed,
         histories,
         rare_event_factor: run.rare_event,
+        condition_cascades: run.condition_cascades,
         target_rel_error: run.target_rel_error,
         stockout_target: run.stockout_target,
         loss_probability_method: if run.is_weighted() {
@@ -1188,6 +1192,11 @@ fn evaluate_point(
     p.relative_error = s.relative_error;
     p.target_met = outcome.status == crate::engine::RunStatus::TargetMet;
     p.loss_probability = Some(s.loss_probability);
+    if s.tallies_withheld.is_some() {
+        // A conditioned run's counts (losses, cuts, splices, stock) are those of its biased
+        // measure, not the design's: left out, as in the run's own outputs.
+        return Ok(Some(p));
+    }
     p.losses = Some(s.tally.losses);
     p.cuts_per_year = Some(s.cuts_per_year);
     if s.tally.repair.splices > 0 {

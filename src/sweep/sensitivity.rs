@@ -264,6 +264,9 @@ pub struct SensitivityResult {
     pub histories: u64,
     /// Rare-event factor (1: plain).
     pub rare_event_factor: f64,
+    /// Conditional Monte Carlo at cuts (`--condition-cascades`; absent in older files: off).
+    #[serde(default)]
+    pub condition_cascades: bool,
     /// Damage sampler of every run (absent in studies written before it could be chosen:
     /// on-demand).
     #[serde(default)]
@@ -363,7 +366,11 @@ fn evaluate(
     };
     Ok(VariantResult {
         loss_probability: Some(summary.loss_probability.clone()),
-        losses: Some(summary.tally.losses),
+        // Left out with the run's other biased counts (a conditioned run).
+        losses: summary
+            .tallies_withheld
+            .is_none()
+            .then_some(summary.tally.losses),
         histories: Some(summary.histories),
         damage_memory_estimate: dm,
         infeasible: None,
@@ -473,9 +480,27 @@ pub fn run_sensitivity(
                 path::set(&mut doc, p, v);
             }
             let label = format!("{} = {}", input.name, first);
-            ends.push(evaluate(&doc, &run, s, &label)?);
+            match evaluate(&doc, &run, s, &label) {
+                Ok(v) => ends.push(v),
+                // A variant the conditioned estimator does not cover (local sharing, say) is
+                // left out with the engine's reason rather than run by another method: the
+                // row's two ends and the base must come from one estimator.
+                Err(SweepError::Run { message, .. })
+                    if run.condition_cascades && message.starts_with("--condition-cascades") =>
+                {
+                    skipped.push(SkippedInput {
+                        input: input.name.into(),
+                        reason: format!("{label}: {message}"),
+                    });
+                    break;
+                }
+                Err(e) => return Err(e),
+            }
             progress(&label);
             shown.push(first);
+        }
+        if ends.len() < 2 {
+            continue;
         }
         let (lo, hi) = (ends.remove(0), ends.remove(0));
         let est = |v: &VariantResult| v.loss_probability.as_ref().map_or(0.0, |l| l.estimate);
@@ -517,6 +542,7 @@ pub fn run_sensitivity(
         seed: run.seed,
         histories: run.histories,
         rare_event_factor: run.rare_event,
+        condition_cascades: run.condition_cascades,
         sampler: run.sampler,
         common_random_numbers: super::CRN_NOTE.into(),
         base,

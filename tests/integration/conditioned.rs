@@ -236,3 +236,68 @@ fn through_the_binary_it_never_prints_an_exact_binomial_label() {
     assert!(v["repair"].is_null() && v["tallies_withheld"].is_string());
     assert!(!out.join("altitude_bands.csv").exists());
 }
+
+/// `sweep` passes `--condition-cascades` to every point (it once accepted the flag and ran
+/// plain Monte Carlo under an exact-binomial label), records it in the plan and the result,
+/// and leaves out the points' biased counts; `sensitivity` does the same and lists a variant
+/// the estimator does not cover (local sharing) as skipped, with the reason.
+#[test]
+fn sweep_and_sensitivity_run_every_point_conditioned_and_say_so() {
+    let out = temp_dir("conditioned-sweep-out");
+    let o = out.to_str().unwrap();
+    let r = run(&[
+        "sweep",
+        "demo",
+        "--vary",
+        "tether.ribbon_width_mm=11,13",
+        "--histories",
+        "3000",
+        "--condition-cascades",
+        "--out",
+        o,
+        "--force",
+    ]);
+    assert!(r.status.success(), "{r:?}");
+    let text = stdout(&r);
+    assert!(!text.contains("Clopper"), "{text}");
+    assert!(text.contains("left out (-)"), "{text}");
+    let v: Value =
+        serde_json::from_str(&std::fs::read_to_string(out.join("sweep.json")).unwrap()).unwrap();
+    assert_eq!(v["condition_cascades"], true);
+    for p in v["points"].as_array().unwrap() {
+        assert_eq!(p["loss_probability"]["method"], "weighted", "{p}");
+        assert!(p["losses"].is_null() && p["cuts_per_year"].is_null(), "{p}");
+    }
+    let plan: Value =
+        serde_json::from_str(&std::fs::read_to_string(out.join("sweep_plan.json")).unwrap())
+            .unwrap();
+    assert_eq!(plan["condition_cascades"], true);
+
+    let out = temp_dir("conditioned-sensitivity-out");
+    let r = run(&[
+        "sensitivity",
+        "demo",
+        "--histories",
+        "300",
+        "--condition-cascades",
+        "--out",
+        out.to_str().unwrap(),
+        "--force",
+        "--format",
+        "json",
+    ]);
+    assert!(r.status.success(), "{r:?}");
+    let v: Value = serde_json::from_str(&stdout(&r)).unwrap();
+    assert_eq!(v["condition_cascades"], true);
+    assert_eq!(v["base"]["loss_probability"]["method"], "weighted");
+    assert!(v["base"]["losses"].is_null());
+    let skipped = v["skipped"].as_array().unwrap();
+    assert!(
+        skipped.iter().any(|s| s["input"] == "load-sharing rule"
+            && s["reason"]
+                .as_str()
+                .unwrap()
+                .contains("--condition-cascades")),
+        "{skipped:?}"
+    );
+}
