@@ -92,6 +92,17 @@
 //! least one segment of the bay reaches its critical width after this cut", with the bounded
 //! likelihood ratio 1/(1 - p + p 1{B}/P(B)) (see `HistoryRun::bring_up_to_date` in events.rs;
 //! Hesterberg 1995, Technometrics 37, 185).
+//!
+//! Under `--condition-cascades` (conditional Monte Carlo at cuts, the estimator for small
+//! probabilities from latent damage) each cut scores the exact probability P that its cascade
+//! severs the bay, summed over the other segments' worst-hole laws
+//! ([`crate::analytic::cascade`]), and the history goes on in the surviving branch, weight
+//! times `1 - P` (conditional expectation in place of the indicator: the estimator's mean is
+//! unchanged). Three importance-sampling changes make the branches that matter frequent, each
+//! with its likelihood ratio: first cuts are aimed at bays where they can sever
+//! ([`FirstCutBias`]), damaged bays get an additive extra cut rate, and the surviving branch's
+//! worst holes are drawn from a mixture that raises each segment's odds of reaching the next
+//! threshold (`SURVIVOR_TILT` in events.rs, where `condition_on_survival` derives the weight).
 
 use crate::model::hole_rate::HoleRateTable;
 use crate::model::Model;
