@@ -108,6 +108,25 @@ impl SeverTable {
     }
 }
 
+/// One segment's part probabilities from `ln_f[k] = ln P(M < h_k)`, k < m (non-increasing):
+/// `row[0] = P(M >= h_0)`, `row[k] = P(h_k <= M < h_{k-1})`, `row[m] = P(M < h_{m-1})`, formed
+/// without cancellation (`-inf` entries: the hole already reaches that threshold). `row` has
+/// `m + 1` entries.
+pub fn parts_from_ln_f(ln_f: &[f64], row: &mut [f64]) {
+    let m = ln_f.len();
+    row[0] = -ln_f[0].exp_m1();
+    for k in 1..m {
+        row[k] = if ln_f[k - 1] == f64::NEG_INFINITY {
+            0.0
+        } else if ln_f[k] == f64::NEG_INFINITY {
+            ln_f[k - 1].exp()
+        } else {
+            ln_f[k - 1].exp() * -(ln_f[k] - ln_f[k - 1]).min(0.0).exp_m1()
+        };
+    }
+    row[m] = ln_f[m - 1].exp();
+}
+
 /// [`SeverTable::sever_probability`] when all `m` segments have the same distribution, from
 /// `ln_below[k] = ln P(M < h_k)` (non-increasing in `k`; `-inf` when every segment reaches
 /// `h_k`): the binomial recursion over thresholds of [`super::damage_memory`], in `O(m^3)` and

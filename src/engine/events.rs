@@ -2112,22 +2112,10 @@ fn sever_probability(
         // A bay's first cut: its other segments share one law (binomial recursion).
         return crate::analytic::cascade::sever_probability_identical(m, &ln_f[0][..m]);
     }
-    // Bin probabilities, formed without cancellation from the ln F_k.
     let w = m + 1;
     let mut bins = [0.0f64; MAX_SEGMENTS * (MAX_SEGMENTS + 1)];
     for (r, lf) in ln_f[..m].iter().enumerate() {
-        let row = &mut bins[r * w..(r + 1) * w];
-        row[0] = -lf[0].exp_m1();
-        for k in 1..m {
-            row[k] = if lf[k - 1] == f64::NEG_INFINITY {
-                0.0
-            } else if lf[k] == f64::NEG_INFINITY {
-                lf[k - 1].exp()
-            } else {
-                lf[k - 1].exp() * -(lf[k] - lf[k - 1]).min(0.0).exp_m1()
-            };
-        }
-        row[m] = lf[m - 1].exp();
+        crate::analytic::cascade::parts_from_ln_f(&lf[..m], &mut bins[r * w..(r + 1) * w]);
     }
     table.sever_probability(m, &bins[..m * w], work)
 }

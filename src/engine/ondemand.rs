@@ -338,17 +338,7 @@ impl FirstCutBias {
                 };
             }
             let mut row = vec![0.0; m + 1];
-            row[0] = -ln_f[0].exp_m1();
-            for k in 1..m {
-                row[k] = if ln_f[k - 1] == f64::NEG_INFINITY {
-                    0.0
-                } else if ln_f[k] == f64::NEG_INFINITY {
-                    ln_f[k - 1].exp()
-                } else {
-                    ln_f[k - 1].exp() * -(ln_f[k] - ln_f[k - 1]).min(0.0).exp_m1()
-                };
-            }
-            row[m] = ln_f[m - 1].exp();
+            crate::analytic::cascade::parts_from_ln_f(&ln_f, &mut row);
             for r in 0..m {
                 bins[r * (m + 1)..(r + 1) * (m + 1)].copy_from_slice(&row);
             }
