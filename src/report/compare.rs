@@ -349,7 +349,7 @@ pub fn compare(folders: &[RunFolder]) -> Comparison {
         .zip(&labels)
         .map(|(f, label)| {
             let s = &f.summary;
-            let tether = f.scenario.as_ref().and_then(|v| v.get("tether"));
+            let tether = f.scenario.as_ref().map(|v| &v.tether);
             let design = f.design.as_ref();
             let repair = s.repair.as_ref();
             ComparedDesign {
@@ -361,10 +361,10 @@ pub fn compare(folders: &[RunFolder]) -> Comparison {
                 histories: s.histories,
                 mission_years: s.mission_years,
                 ribbon_count: tether
-                    .and_then(|t| t.get("ribbon_count"))
-                    .or_else(|| design.and_then(|d| d.get("ribbon_count")))
-                    .and_then(Value::as_u64),
-                cross_link_spacing_km: num(tether, "cross_link_spacing_km")
+                    .map(|t| u64::from(t.ribbon_count))
+                    .or_else(|| design.and_then(|d| d.get("ribbon_count")?.as_u64())),
+                cross_link_spacing_km: tether
+                    .map(|t| t.cross_link_spacing_km)
                     .or_else(|| num(design, "cross_link_spacing_km")),
                 tether_mass_kg: num(design, "ribbon_mass_kg")
                     .map(|r| r + num(design, "cross_links_mass_kg").unwrap_or(0.0)),

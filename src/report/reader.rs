@@ -10,6 +10,7 @@ use serde_json::Value;
 use super::failure::MarkovPoint;
 use super::figures::FigureError;
 use crate::engine::RunSummary;
+use crate::scenario::ScenarioSpec;
 
 /// Why a report could not be made.
 #[derive(Debug, thiserror::Error)]
@@ -127,8 +128,9 @@ pub struct RunFolder {
     pub summary: RunSummary,
     /// `manifest.json`.
     pub manifest: Option<Value>,
-    /// `scenario.json`.
-    pub scenario: Option<Value>,
+    /// `scenario.json`, as the scenario loader reads it ([`crate::scenario::parse_spec`]:
+    /// unknown fields refused, deprecated names accepted).
+    pub scenario: Option<ScenarioSpec>,
     /// `design.json`.
     pub design: Option<Value>,
     /// `estimate.json`, when present and made for the same scenario.
@@ -257,26 +259,39 @@ impl RunFolder {
                 ));
             }
         }
-        if let Ok(text) = read_capped(&dir.join("scenario.json")) {
-            if let Ok(spec) = crate::scenario::parse_spec(&text) {
-                let table = read_capped(&dir.join("flux_table.json")).ok();
-                let h = format!(
-                    "{:016x}",
-                    crate::scenario::scenario_hash(&spec, table.as_deref())
-                );
-                if h != summary.scenario_hash {
-                    problems.push(format!(
-                        "scenario.json has hash {h}, but summary.json was run for {}",
-                        summary.scenario_hash
-                    ));
-                }
+        let spec = read_capped(&dir.join("scenario.json"))
+            .ok()
+            .map(|text| crate::scenario::parse_spec(&text));
+        if let Some(Ok(spec)) = &spec {
+            let table = read_capped(&dir.join("flux_table.json")).ok();
+            let h = format!(
+                "{:016x}",
+                crate::scenario::scenario_hash(spec, table.as_deref())
+            );
+            if h != summary.scenario_hash {
+                problems.push(format!(
+                    "scenario.json has hash {h}, but summary.json was run for {}",
+                    summary.scenario_hash
+                ));
             }
         }
+        // The notes for an absent or broken file come from read_json; a JSON document that is
+        // not a scenario is left out with the loader's reason.
         let scenario = read_json(
             &dir.join("scenario.json"),
             &mut notes,
             "the scenario description",
-        );
+        )
+        .and_then(|_| match spec {
+            Some(Ok(spec)) => Some(spec),
+            Some(Err(e)) => {
+                notes.push(format!(
+                    "scenario.json is not a scenario ({e}): the scenario description is left out."
+                ));
+                None
+            }
+            None => None,
+        });
         let design = read_json(
             &dir.join("design.json"),
             &mut notes,

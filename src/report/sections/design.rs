@@ -15,13 +15,8 @@ pub(crate) fn design_section(folder: &RunFolder) -> Section {
         s.scenario_hash,
         year_label(s.mission_years)
     )];
-    if let Some(d) = folder
-        .scenario
-        .as_ref()
-        .and_then(|v| v.get("description"))
-        .and_then(Value::as_str)
-    {
-        paragraphs.push(d.to_string());
+    if let Some(spec) = &folder.scenario {
+        paragraphs.push(spec.description.clone());
     }
     let mut tables = Vec::new();
     if let Some(d) = &folder.design {
@@ -99,33 +94,19 @@ pub(crate) fn design_section(folder: &RunFolder) -> Section {
         paragraphs
             .push("No design.json in this folder: the design key numbers are left out.".into());
     }
-    if let Some(st) = folder
-        .scenario
-        .as_ref()
-        .and_then(|v| v.get("repair"))
-        .and_then(|r| r.get("stations"))
-        .and_then(Value::as_array)
-    {
+    if let Some(repair) = folder.scenario.as_ref().and_then(|v| v.repair.as_ref()) {
         let mut t = Table::new([
             "station",
             "altitude (km)",
             "climbers",
             "initial stock (segments)",
         ]);
-        for x in st {
-            let f = |k: &str| {
-                x.get(k).map_or(String::new(), |v| match v {
-                    Value::Number(n) if n.is_u64() => n.to_string(),
-                    Value::Number(n) => n.as_f64().map_or(n.to_string(), |f| sig(f, 6)),
-                    Value::String(s) => s.clone(),
-                    other => other.to_string(),
-                })
-            };
+        for x in &repair.stations {
             t.push([
-                f("name"),
-                f("altitude_km"),
-                f("climbers"),
-                f("initial_stock_segments"),
+                x.name.clone(),
+                sig(x.altitude_km, 6),
+                x.climbers.to_string(),
+                x.initial_stock_segments.to_string(),
             ]);
         }
         tables.push(ReportTable::from_table(

@@ -25,6 +25,7 @@ use crate::report::failure::{interval_cell, DualTable};
 use crate::report::figures::NamedFigure;
 use crate::report::html::{ReportFigure, ReportTable};
 use crate::report::table::sig;
+use crate::scenario::ScenarioSpec;
 
 pub(crate) struct DocTables<'a> {
     pub(crate) years: &'a DualTable,
@@ -56,13 +57,10 @@ pub(crate) fn pct(x: f64) -> String {
     }
 }
 
-pub(crate) fn climber_count(scenario: Option<&Value>) -> Option<u64> {
-    let st = scenario?.get("repair")?.get("stations")?.as_array()?;
-    Some(
-        st.iter()
-            .filter_map(|s| s.get("climbers").and_then(Value::as_u64))
-            .sum(),
-    )
+/// The climbers of all stations (none without a scenario or without repair).
+pub(crate) fn climber_count(scenario: Option<&ScenarioSpec>) -> Option<u64> {
+    let repair = scenario?.repair.as_ref()?;
+    Some(repair.stations.iter().map(|s| u64::from(s.climbers)).sum())
 }
 
 /// The band where most losses happened (or most cuts, when there is no loss).

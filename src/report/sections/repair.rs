@@ -107,7 +107,7 @@ pub(crate) fn fleet_paragraph(folder: &RunFolder, r: &crate::engine::RepairSumma
     let target = folder
         .scenario
         .as_ref()
-        .and_then(|v| v.get("repair")?.get("splice_p90_target_hours")?.as_f64());
+        .and_then(|v| v.repair.as_ref()?.splice_p90_target_hours);
     let mut o = match target {
         Some(t) if p90 <= t => format!(
             "Fleet: the 90th percentile of the time from cut to splice is {} h, within the requirement of {} h (repair.splice_p90_target_hours).",
