@@ -7,6 +7,7 @@ use std::path::{Path, PathBuf};
 use serde::Deserialize;
 use serde_json::Value;
 
+use super::design::DesignSummary;
 use super::failure::MarkovPoint;
 use super::figures::FigureError;
 use crate::engine::RunSummary;
@@ -131,8 +132,8 @@ pub struct RunFolder {
     /// `scenario.json`, as the scenario loader reads it ([`crate::scenario::parse_spec`]:
     /// unknown fields refused, deprecated names accepted).
     pub scenario: Option<ScenarioSpec>,
-    /// `design.json`.
-    pub design: Option<Value>,
+    /// `design.json`, when present and made for the same scenario.
+    pub design: Option<DesignSummary>,
     /// `estimate.json`, when present and made for the same scenario.
     pub estimate: Option<EstimateView>,
     /// The trade study, if any.
@@ -318,13 +319,17 @@ impl RunFolder {
                 None
             }
         });
-        let design = design.filter(|d| {
-            let hash = d.get("scenario_hash").and_then(Value::as_str);
-            if hash.is_some_and(|h| h != summary.scenario_hash) {
+        let design = design.and_then(|v| match serde_json::from_value::<DesignSummary>(v) {
+            Ok(d) if d.scenario_hash != summary.scenario_hash => {
                 notes.push("design.json was made for another scenario: the design key numbers are left out.".into());
-                false
-            } else {
-                true
+                None
+            }
+            Ok(d) => Some(d),
+            Err(e) => {
+                notes.push(format!(
+                    "design.json is not a design summary of this version ({e}): the design key numbers are left out."
+                ));
+                None
             }
         });
         let sweep_dir = dir.join("sweep");

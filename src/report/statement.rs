@@ -3,8 +3,6 @@
 //! ones, and any setting the program overrode) and the expected cuts in each mission year.
 //! Built from the run folder's files alone.
 
-use serde_json::Value;
-
 use super::assemble::RunFolder;
 use super::html::{ReportTable, Section};
 use super::table::{sig, Table};
@@ -14,16 +12,12 @@ use crate::scenario::{
     ScenarioSpec,
 };
 
-fn on_off(v: Option<&Value>) -> &'static str {
-    match v.and_then(Value::as_bool) {
-        Some(true) => "on",
-        Some(false) => "off",
-        None => "not recorded",
+fn on_off(v: bool) -> &'static str {
+    if v {
+        "on"
+    } else {
+        "off"
     }
-}
-
-fn text<'a>(v: Option<&'a Value>, key: &str) -> Option<&'a str> {
-    v.and_then(|v| v.get(key)).and_then(Value::as_str)
 }
 
 /// The Monte Carlo assumptions, in words, for this run (the counterpart of the Markov
@@ -159,35 +153,28 @@ fn climber_power_assumption(power: &ClimberPowerSpec) -> String {
 pub fn model_section(folder: &RunFolder) -> Section {
     let s = &folder.summary;
     let env = folder.scenario.as_ref().map(|v| &v.environment);
-    let st = folder
-        .design
-        .as_ref()
-        .and_then(|d| d.get("model_statement"));
+    let st = folder.design.as_ref().map(|d| &d.model_statement);
     let mut paragraphs = Vec::new();
     match st {
         Some(m) => {
-            let range = m
-                .get("flux_valid_mass_range_kg")
-                .and_then(Value::as_array)
-                .and_then(|r| Some((r.first()?.as_f64()?, r.get(1)?.as_f64()?)));
+            let [lo, hi] = m.flux_valid_mass_range_kg;
             paragraphs.push(format!(
-                "Flux model: {} (scenario setting {}), valid for particle masses {}; outside that range the flux is extrapolated. Flux scale factor {}. Velocity distribution: {}.",
-                text(Some(m), "flux_model_source").unwrap_or("not recorded"),
-                text(Some(m), "flux_model").unwrap_or("not recorded"),
-                range.map_or("not recorded".to_string(), |(lo, hi)| format!("{} kg to {} kg", sig(lo, 3), sig(hi, 3))),
-                m.get("flux_scale_factor").and_then(Value::as_f64).map_or("not recorded".into(), |x| sig(x, 4)),
-                text(Some(m), "velocity_distribution").unwrap_or("not recorded"),
+                "Flux model: {} (scenario setting {}), valid for particle masses {} kg to {} kg; outside that range the flux is extrapolated. Flux scale factor {}. Velocity distribution: {}.",
+                m.flux_model_source,
+                m.flux_model,
+                sig(lo, 3),
+                sig(hi, 3),
+                sig(m.flux_scale_factor, 4),
+                m.velocity_distribution,
             ));
             paragraphs.push(format!(
                 "Switches: Moon focusing {}, Earth focusing {}, Moon shielding {}, lunar ejecta {}.",
-                on_off(m.get("moon_focusing")),
-                on_off(m.get("earth_focusing")),
-                on_off(m.get("moon_shielding")),
-                on_off(m.get("lunar_ejecta"))
+                on_off(m.moon_focusing),
+                on_off(m.earth_focusing),
+                on_off(m.moon_shielding),
+                on_off(m.lunar_ejecta)
             ));
-            if let Some(a) = text(Some(m), "anchor") {
-                paragraphs.push(format!("Anchor: {a}."));
-            }
+            paragraphs.push(format!("Anchor: {}.", m.anchor));
             if let Some(list) = env.map(|e| &e.meteor_streams).filter(|l| !l.is_empty()) {
                 let names: Vec<String> = list
                     .iter()
@@ -205,16 +192,7 @@ pub fn model_section(folder: &RunFolder) -> Section {
                     names.join("; ")
                 ));
             }
-            let over: Vec<String> = m
-                .get("overridden_settings")
-                .and_then(Value::as_array)
-                .map(|a| {
-                    a.iter()
-                        .filter_map(Value::as_str)
-                        .map(String::from)
-                        .collect()
-                })
-                .unwrap_or_default();
+            let over = &m.overridden_settings;
             if over.is_empty() {
                 paragraphs.push(
                     "Overridden settings: none; every result uses the scenario's values as given."
@@ -226,8 +204,7 @@ pub fn model_section(folder: &RunFolder) -> Section {
         }
         None => {
             paragraphs.push(format!(
-                "The flux model's source and valid mass range are recorded in design.json, which this folder lacks{}. Scenario flux model: {}, scale factor {}.",
-                if folder.design.is_some() { " in this version's form" } else { "" },
+                "The flux model's source and valid mass range are recorded in design.json, which this folder lacks. Scenario flux model: {}, scale factor {}.",
                 env.map_or("not recorded".into(), |e| flux_model_json(&e.flux_model)),
                 env.map_or("not recorded".into(), |e| sig(e.flux_scale_factor, 4)),
             ));
