@@ -4,10 +4,10 @@
 
 use std::path::{Path, PathBuf};
 
-use serde::Deserialize;
 use serde_json::Value;
 
 use super::design::DesignSummary;
+use super::estimate::EstimateSummary;
 use super::failure::MarkovPoint;
 use super::figures::FigureError;
 use crate::engine::RunSummary;
@@ -68,47 +68,6 @@ impl ReportError {
     }
 }
 
-/// The fields of `estimate.json` the report uses (a view of
-/// [`crate::report::estimate::EstimateSummary`]).
-#[derive(Clone, Debug, Deserialize, PartialEq)]
-pub struct EstimateView {
-    /// Scenario hash the estimate was made for.
-    pub scenario_hash: String,
-    /// `physical` or `synthetic_rates`.
-    pub mode: String,
-    /// System loss probability by mission end.
-    pub loss_probability: f64,
-    /// Loss probability at each whole year and at mission end.
-    pub loss_probability_by_year: Vec<EstimateYearView>,
-    /// The assumptions behind the number.
-    #[serde(default)]
-    pub assumptions: Vec<String>,
-    /// The damage-memory estimate (absent in older files and where it does not apply).
-    #[serde(default)]
-    pub damage_memory: Option<DamageMemoryView>,
-}
-
-/// The damage-memory part of estimate.json.
-#[derive(Clone, Debug, Deserialize, PartialEq)]
-pub struct DamageMemoryView {
-    /// Exact (no repair) or an approximation (with repair).
-    pub exact: bool,
-    /// System loss probability by mission end.
-    pub loss_probability: f64,
-    /// Which mechanism dominates (`latent damage` or `direct cuts`).
-    #[serde(default)]
-    pub dominant_mechanism: String,
-}
-
-/// One year of the Markov estimate.
-#[derive(Clone, Copy, Debug, Deserialize, PartialEq)]
-pub struct EstimateYearView {
-    /// Mission time, years.
-    pub year: f64,
-    /// System loss probability by then.
-    pub loss_probability: f64,
-}
-
 /// An optional trade study found in `sweep/`.
 #[derive(Clone, Debug)]
 pub struct SweepInput {
@@ -135,7 +94,7 @@ pub struct RunFolder {
     /// `design.json`, when present and made for the same scenario.
     pub design: Option<DesignSummary>,
     /// `estimate.json`, when present and made for the same scenario.
-    pub estimate: Option<EstimateView>,
+    pub estimate: Option<EstimateSummary>,
     /// The trade study, if any.
     pub sweep: Option<SweepInput>,
     /// `sensitivity/sensitivity.json` with `sensitivity/sensitivity.svg`, if present.
@@ -303,7 +262,7 @@ impl RunFolder {
             &mut notes,
             "the Markov estimate and its comparison with the Monte Carlo (write it with `tether-risk estimate FILE --format json > estimate.json`)",
         )
-        .and_then(|v| match serde_json::from_value::<EstimateView>(v) {
+        .and_then(|v| match serde_json::from_value::<EstimateSummary>(v) {
             Ok(e) if e.scenario_hash != summary.scenario_hash => {
                 notes.push(format!(
                     "estimate.json was made for scenario hash {}, not this run's {}: the Markov comparison is left out.",
