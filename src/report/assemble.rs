@@ -4,10 +4,9 @@
 //! Inputs in the run folder: `summary.json` (required), and, when present, `manifest.json`,
 //! `scenario.json`, `design.json` (design summary), `estimate.json` (Markov estimate) and
 //! `sweep/sweep.json` with `sweep/heatmap.svg` and `sweep/pareto.svg` (a trade study), read by
-//! [`super::reader`] (a missing or stale optional file leaves its section out with a note
-//! instead of failing; design.json, scenario.json and sweep.json are still read as JSON values
-//! by key, a typed reader is open work). Each section is built in [`super::sections`]; this
-//! module only orchestrates.
+//! [`super::reader`] as the types their writers define (a missing, stale or differently shaped
+//! optional file leaves its section out with a note instead of failing). Each section is built
+//! in [`super::sections`]; this module only orchestrates.
 //!
 //! Outputs: `failure_tables.md`, `failure_by_year.csv`, `failure_by_band.csv`,
 //! `failure_by_cause.csv`, `markov_vs_monte_carlo.csv` (with an estimate), `plots/*.png` and
@@ -15,8 +14,6 @@
 //! file written atomically, `report.html` last, so a failed render leaves the folder as it was.
 
 use std::path::{Path, PathBuf};
-
-use serde_json::Value;
 
 use super::failure::{
     band_table, cause_table, comparison_table, failure_markdown, year_label, year_table,
@@ -130,9 +127,8 @@ pub fn write_sweep_report(dir: &Path) -> Result<ReportWritten, ReportError> {
         path: path.clone(),
         reason: format!("it is not consistent: {reason}"),
     })?;
-    let value: Value = serde_json::from_str(&text).unwrap_or(Value::Null);
     let sw = SweepInput {
-        value,
+        result: r.clone(),
         heatmap_svg: read_capped(&dir.join("heatmap.svg")).ok(),
         pareto_svg: read_capped(&dir.join("pareto.svg")).ok(),
     };
@@ -309,46 +305,5 @@ fn report_doc(folder: &RunFolder, figures: &[NamedFigure], t: &DocTables<'_>) ->
         ),
         caution: crate::CAUTION.to_string(),
         sections,
-    }
-}
-
-#[cfg(test)]
-mod tests {
-    use super::*;
-    use crate::model::markov::{mission_times_s, MarkovModel};
-    use crate::model::Model;
-    use crate::report::design::DesignSummary;
-    use crate::report::estimate::EstimateSummary;
-
-    // Source: the file contract of this module: the reader reads estimate.json and
-    // design.json as the writers' own types, so what a writer writes must read back whole
-    // (a skipped field needs its default), or the report would leave the section out.
-    #[test]
-    fn writers_output_reads_back_as_their_types() {
-        let model = Model::build(crate::scenario::demo()).unwrap();
-        let markov = MarkovModel::build(&model).unwrap();
-        let times = mission_times_s(&model.scenario.run);
-        let est = markov.solve(&times).unwrap();
-        let dm = crate::model::damage_memory::solve(&model, &times);
-        let e = EstimateSummary::new(&model, &markov, &est).with_damage_memory(&model, dm.as_ref());
-        assert!(e.damage_memory.is_some());
-        let text = serde_json::to_string_pretty(&e).unwrap();
-        let back: EstimateSummary = serde_json::from_str(&text).unwrap();
-        assert_eq!(back, e);
-        let d = DesignSummary::from_model(&model);
-        let text = serde_json::to_string_pretty(&d).unwrap();
-        let back: DesignSummary = serde_json::from_str(&text).unwrap();
-        assert_eq!(serde_json::to_string_pretty(&back).unwrap(), text);
-    }
-
-    // Source: the defensive-reading rule for the optional trade study: rows are found under
-    // the usual names or as the first array of objects, and interval objects become cells.
-    #[test]
-    fn sweep_rows_are_found() {
-        let v = serde_json::json!({"note": "x", "cases": [{"a": 1.0, "p": {"estimate": 0.5, "ci_low": 0.25, "ci_high": 0.75}}]});
-        let rows = sweep_rows(&v).unwrap();
-        assert_eq!(rows.len(), 1);
-        assert_eq!(sweep_cell(&rows[0]["p"]), "0.500 [0.250, 0.750]");
-        assert!(sweep_rows(&serde_json::json!({"x": [1, 2]})).is_none());
     }
 }

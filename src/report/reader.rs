@@ -1,6 +1,14 @@
 //! The run folder read into memory: `summary.json` (required) and the optional files beside
 //! it, each checked against the manifest. The report's sections render from a [`RunFolder`];
 //! nothing here writes.
+//!
+//! Every file is read as the type its writer defines: `summary.json` as
+//! [`RunSummary`], `scenario.json` through the scenario loader as a [`ScenarioSpec`]
+//! (deprecated names accepted as the loader accepts them, nothing else), `design.json` as
+//! [`DesignSummary`], `estimate.json` as [`EstimateSummary`], `sweep/sweep.json` as
+//! [`SweepResult`] and `sensitivity/sensitivity.json` as
+//! [`crate::sweep::sensitivity::SensitivityResult`]. There is no second guess: an optional file
+//! of another shape is left out with a note giving serde's reason.
 
 use std::path::{Path, PathBuf};
 
@@ -12,6 +20,7 @@ use super::failure::MarkovPoint;
 use super::figures::FigureError;
 use crate::engine::RunSummary;
 use crate::scenario::ScenarioSpec;
+use crate::sweep::SweepResult;
 
 /// Why a report could not be made.
 #[derive(Debug, thiserror::Error)]
@@ -71,8 +80,9 @@ impl ReportError {
 /// An optional trade study found in `sweep/`.
 #[derive(Clone, Debug)]
 pub struct SweepInput {
-    /// `sweep/sweep.json` as read.
-    pub value: Value,
+    /// `sweep/sweep.json`, read as the sweep's own result and checked
+    /// ([`crate::report::folder::validate_sweep`]).
+    pub result: SweepResult,
     /// `sweep/heatmap.svg`, if present.
     pub heatmap_svg: Option<String>,
     /// `sweep/pareto.svg`, if present.
@@ -293,13 +303,22 @@ impl RunFolder {
         });
         let sweep_dir = dir.join("sweep");
         let sweep = if sweep_dir.join("sweep.json").exists() {
-            read_json(&sweep_dir.join("sweep.json"), &mut notes, "the trade study").map(|value| {
-                SweepInput {
-                    value,
+            read_json(&sweep_dir.join("sweep.json"), &mut notes, "the trade study")
+                .and_then(|v| {
+                    let read = serde_json::from_value::<SweepResult>(v).map_err(|e| e.to_string());
+                    match read.and_then(|r| super::folder::validate_sweep(&r).map(|()| r)) {
+                        Ok(r) => Some(r),
+                        Err(e) => {
+                            notes.push(format!("sweep/sweep.json is not a trade study of this version ({e}): the trade-study comparison is left out."));
+                            None
+                        }
+                    }
+                })
+                .map(|result| SweepInput {
+                    result,
                     heatmap_svg: read_capped(&sweep_dir.join("heatmap.svg")).ok(),
                     pareto_svg: read_capped(&sweep_dir.join("pareto.svg")).ok(),
-                }
-            })
+                })
         } else {
             notes.push("No trade study (sweep/sweep.json) in this folder: the trade-study comparison is left out.".into());
             None
@@ -320,12 +339,8 @@ impl RunFolder {
             notes.push("No sensitivity study (sensitivity/sensitivity.json) in this folder: the section \"Which assumption decides the answer?\" is left out; make it with `tether-risk sensitivity FILE --out DIR/sensitivity`.".into());
             None
         };
-        if let Some(h) = sweep
-            .as_ref()
-            .and_then(|s| s.value.get("scenario_hash"))
-            .and_then(Value::as_str)
-        {
-            if h != summary.scenario_hash {
+        if let Some(h) = sweep.as_ref().map(|s| &s.result.scenario_hash) {
+            if *h != summary.scenario_hash {
                 problems.push(format!(
                     "sweep/sweep.json is a trade study of scenario hash {h}, not of this run's scenario {}; move it out of the folder or rerun the sweep from this scenario",
                     summary.scenario_hash
@@ -381,4 +396,32 @@ pub(crate) fn read_main_file(dir: &Path, path: &Path) -> Result<String, ReportEr
             }
         }
     })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::model::markov::{mission_times_s, MarkovModel};
+    use crate::model::Model;
+
+    // Source: the file contract of this module: the reader reads estimate.json and
+    // design.json as the writers' own types, so what a writer writes must read back whole
+    // (a skipped field needs its default), or the report would leave the section out.
+    #[test]
+    fn writers_output_reads_back_as_their_types() {
+        let model = Model::build(crate::scenario::demo()).unwrap();
+        let markov = MarkovModel::build(&model).unwrap();
+        let times = mission_times_s(&model.scenario.run);
+        let est = markov.solve(&times).unwrap();
+        let dm = crate::model::damage_memory::solve(&model, &times);
+        let e = EstimateSummary::new(&model, &markov, &est).with_damage_memory(&model, dm.as_ref());
+        assert!(e.damage_memory.is_some());
+        let text = serde_json::to_string_pretty(&e).unwrap();
+        let back: EstimateSummary = serde_json::from_str(&text).unwrap();
+        assert_eq!(back, e);
+        let d = DesignSummary::from_model(&model);
+        let text = serde_json::to_string_pretty(&d).unwrap();
+        let back: DesignSummary = serde_json::from_str(&text).unwrap();
+        assert_eq!(serde_json::to_string_pretty(&back).unwrap(), text);
+    }
 }
