@@ -18,6 +18,7 @@ use super::design::DesignSummary;
 use super::estimate::EstimateSummary;
 use super::failure::MarkovPoint;
 use super::figures::FigureError;
+use super::run::Manifest;
 use crate::engine::RunSummary;
 use crate::scenario::ScenarioSpec;
 use crate::sweep::SweepResult;
@@ -96,8 +97,8 @@ pub struct RunFolder {
     pub dir: PathBuf,
     /// The run summary.
     pub summary: RunSummary,
-    /// `manifest.json`.
-    pub manifest: Option<Value>,
+    /// `manifest.json`, when it is a manifest of this version.
+    pub manifest: Option<Manifest>,
     /// `scenario.json`, as the scenario loader reads it ([`crate::scenario::parse_spec`]:
     /// unknown fields refused, deprecated names accepted).
     pub scenario: Option<ScenarioSpec>,
@@ -193,36 +194,32 @@ impl RunFolder {
             reason: format!("it is not consistent: {reason}"),
         })?;
         let mut notes = Vec::new();
-        let manifest = read_json(&dir.join("manifest.json"), &mut notes, "the manifest");
+        let manifest = read_json(&dir.join("manifest.json"), &mut notes, "the manifest")
+            .map(serde_json::from_value::<Manifest>);
         let mut problems = Vec::new();
+        // Without a manifest (or with one that is not JSON) the folder may be incomplete; a
+        // JSON manifest of another shape (a damaged file list, an older version's manifest)
+        // cannot vouch for the files, so the folder is refused, as for files that disagree
+        // with it.
         let incomplete = match (completeness, &manifest) {
             (Completeness::Writing, _) => None,
             (Completeness::Check, None) => Some(
                 "this folder has no readable manifest.json, which a run writes last: the run that wrote it may have been killed before it finished, so its files may not belong together".to_string(),
             ),
-            (Completeness::Check, Some(m)) => match m.get("files") {
-                None => Some(
-                    "manifest.json does not list the run's files (written by an older version), so the folder's completeness cannot be checked".to_string(),
-                ),
-                Some(f) => match serde_json::from_value::<Vec<super::folder::FileEntry>>(f.clone())
-                {
-                    Ok(files) => {
-                        problems.extend(super::folder::check_listed_files(dir, &files));
-                        None
-                    }
-                    Err(e) => {
-                        problems.push(format!("manifest.json: files is not a file list ({e})"));
-                        None
-                    }
-                },
-            },
+            (Completeness::Check, Some(Err(e))) => {
+                problems.push(format!(
+                    "manifest.json is not a run manifest of this version ({e})"
+                ));
+                None
+            }
+            (Completeness::Check, Some(Ok(m))) => {
+                problems.extend(super::folder::check_listed_files(dir, &m.files));
+                None
+            }
         };
-        if let Some(h) = manifest
-            .as_ref()
-            .and_then(|m| m.get("scenario_hash"))
-            .and_then(Value::as_str)
-        {
-            if h != summary.scenario_hash {
+        let manifest = manifest.and_then(Result::ok);
+        if let Some(h) = manifest.as_ref().map(|m| &m.scenario_hash) {
+            if *h != summary.scenario_hash {
                 problems.push(format!(
                     "manifest.json is for scenario hash {h}, summary.json for {}",
                     summary.scenario_hash

@@ -266,3 +266,24 @@ fn issue15_optional_files_of_another_shape_are_left_out_with_the_reason() {
     );
     assert!(html.contains("design.json, which this folder lacks"));
 }
+
+// Issue 15 item 1: manifest.json is read as the Manifest the run wrote; one of another shape
+// (here a damaged file list) cannot vouch for the folder, which is refused, naming the file.
+#[test]
+fn issue15_a_manifest_of_another_shape_is_refused() {
+    let dir = small_run("report-manifest-shape");
+    let mp = dir.join("manifest.json");
+    let mut m: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(&mp).unwrap()).unwrap();
+    m["files"] = serde_json::json!(3);
+    std::fs::write(&mp, m.to_string()).unwrap();
+    let o = run(&["report", dir.to_str().unwrap()]);
+    assert_eq!(o.status.code(), Some(2), "{}", stderr(&o));
+    let e = stderr(&o);
+    assert!(
+        e.contains(
+            "manifest.json is not a run manifest of this version (invalid type: integer `3`"
+        ),
+        "{e}"
+    );
+}
