@@ -194,71 +194,11 @@ impl RunFolder {
             reason: format!("it is not consistent: {reason}"),
         })?;
         let mut notes = Vec::new();
-        let manifest = read_json(&dir.join("manifest.json"), &mut notes, "the manifest")
-            .map(serde_json::from_value::<Manifest>);
         let mut problems = Vec::new();
-        // Without a manifest (or with one that is not JSON) the folder may be incomplete; a
-        // JSON manifest of another shape (a damaged file list, an older version's manifest)
-        // cannot vouch for the files, so the folder is refused, as for files that disagree
-        // with it.
-        let incomplete = match (completeness, &manifest) {
-            (Completeness::Writing, _) => None,
-            (Completeness::Check, None) => Some(
-                "this folder has no readable manifest.json, which a run writes last: the run that wrote it may have been killed before it finished, so its files may not belong together".to_string(),
-            ),
-            (Completeness::Check, Some(Err(e))) => {
-                problems.push(format!(
-                    "manifest.json is not a run manifest of this version ({e})"
-                ));
-                None
-            }
-            (Completeness::Check, Some(Ok(m))) => {
-                problems.extend(super::folder::check_listed_files(dir, &m.files));
-                None
-            }
-        };
-        let manifest = manifest.and_then(Result::ok);
-        if let Some(h) = manifest.as_ref().map(|m| &m.scenario_hash) {
-            if *h != summary.scenario_hash {
-                problems.push(format!(
-                    "manifest.json is for scenario hash {h}, summary.json for {}",
-                    summary.scenario_hash
-                ));
-            }
-        }
-        let spec = read_capped(&dir.join("scenario.json"))
-            .ok()
-            .map(|text| crate::scenario::parse_spec(&text));
-        if let Some(Ok(spec)) = &spec {
-            let table = read_capped(&dir.join("flux_table.json")).ok();
-            let h = format!(
-                "{:016x}",
-                crate::scenario::scenario_hash(spec, table.as_deref())
-            );
-            if h != summary.scenario_hash {
-                problems.push(format!(
-                    "scenario.json has hash {h}, but summary.json was run for {}",
-                    summary.scenario_hash
-                ));
-            }
-        }
-        // The notes for an absent or broken file come from read_json; a JSON document that is
-        // not a scenario is left out with the loader's reason.
-        let scenario = read_json(
-            &dir.join("scenario.json"),
-            &mut notes,
-            "the scenario description",
-        )
-        .and_then(|_| match spec {
-            Some(Ok(spec)) => Some(spec),
-            Some(Err(e)) => {
-                notes.push(format!(
-                    "scenario.json is not a scenario ({e}): the scenario description is left out."
-                ));
-                None
-            }
-            None => None,
-        });
+        let hash = summary.scenario_hash.as_str();
+        let (manifest, incomplete) =
+            read_manifest(dir, completeness, hash, &mut notes, &mut problems);
+        let scenario = read_scenario(dir, hash, &mut notes, &mut problems);
         let design = read_json(
             &dir.join("design.json"),
             &mut notes,
@@ -298,28 +238,7 @@ impl RunFolder {
                 None
             }
         });
-        let sweep_dir = dir.join("sweep");
-        let sweep = if sweep_dir.join("sweep.json").exists() {
-            read_json(&sweep_dir.join("sweep.json"), &mut notes, "the trade study")
-                .and_then(|v| {
-                    let read = serde_json::from_value::<SweepResult>(v).map_err(|e| e.to_string());
-                    match read.and_then(|r| super::folder::validate_sweep(&r).map(|()| r)) {
-                        Ok(r) => Some(r),
-                        Err(e) => {
-                            notes.push(format!("sweep/sweep.json is not a trade study of this version ({e}): the trade-study comparison is left out."));
-                            None
-                        }
-                    }
-                })
-                .map(|result| SweepInput {
-                    result,
-                    heatmap_svg: read_capped(&sweep_dir.join("heatmap.svg")).ok(),
-                    pareto_svg: read_capped(&sweep_dir.join("pareto.svg")).ok(),
-                })
-        } else {
-            notes.push("No trade study (sweep/sweep.json) in this folder: the trade-study comparison is left out.".into());
-            None
-        };
+        let sweep = read_sweep(dir, &mut notes);
         let sens_dir = dir.join("sensitivity");
         let sensitivity = if sens_dir.join("sensitivity.json").exists() {
             match read_capped(&sens_dir.join("sensitivity.json"))
@@ -337,10 +256,9 @@ impl RunFolder {
             None
         };
         if let Some(h) = sweep.as_ref().map(|s| &s.result.scenario_hash) {
-            if *h != summary.scenario_hash {
+            if h != hash {
                 problems.push(format!(
-                    "sweep/sweep.json is a trade study of scenario hash {h}, not of this run's scenario {}; move it out of the folder or rerun the sweep from this scenario",
-                    summary.scenario_hash
+                    "sweep/sweep.json is a trade study of scenario hash {h}, not of this run's scenario {hash}; move it out of the folder or rerun the sweep from this scenario"
                 ));
             }
         }
@@ -375,6 +293,110 @@ impl RunFolder {
                 })
                 .collect()
         })
+    }
+}
+
+/// `manifest.json` and, when the folder is to be checked, why it may be incomplete. Without a
+/// manifest (or with one that is not JSON) the folder may be incomplete; a JSON manifest of
+/// another shape (a damaged file list, an older version's manifest) cannot vouch for the
+/// files, so it is a problem, as are listed files that disagree with it.
+fn read_manifest(
+    dir: &Path,
+    completeness: Completeness,
+    scenario_hash: &str,
+    notes: &mut Vec<String>,
+    problems: &mut Vec<String>,
+) -> (Option<Manifest>, Option<String>) {
+    let manifest = read_json(&dir.join("manifest.json"), notes, "the manifest")
+        .map(serde_json::from_value::<Manifest>);
+    let incomplete = match (completeness, &manifest) {
+        (Completeness::Writing, _) => None,
+        (Completeness::Check, None) => Some(
+            "this folder has no readable manifest.json, which a run writes last: the run that wrote it may have been killed before it finished, so its files may not belong together".to_string(),
+        ),
+        (Completeness::Check, Some(Err(e))) => {
+            problems.push(format!(
+                "manifest.json is not a run manifest of this version ({e})"
+            ));
+            None
+        }
+        (Completeness::Check, Some(Ok(m))) => {
+            problems.extend(super::folder::check_listed_files(dir, &m.files));
+            None
+        }
+    };
+    let manifest = manifest.and_then(Result::ok);
+    if let Some(h) = manifest.as_ref().map(|m| &m.scenario_hash) {
+        if h != scenario_hash {
+            problems.push(format!(
+                "manifest.json is for scenario hash {h}, summary.json for {scenario_hash}"
+            ));
+        }
+    }
+    (manifest, incomplete)
+}
+
+/// `scenario.json` through the scenario loader, its hash checked against the run's (with
+/// `flux_table.json` when there is one). The notes for an absent or broken file come from
+/// [`read_json`]; a JSON document the loader refuses is left out with the loader's reason.
+fn read_scenario(
+    dir: &Path,
+    scenario_hash: &str,
+    notes: &mut Vec<String>,
+    problems: &mut Vec<String>,
+) -> Option<ScenarioSpec> {
+    let spec = read_capped(&dir.join("scenario.json"))
+        .ok()
+        .map(|text| crate::scenario::parse_spec(&text));
+    if let Some(Ok(spec)) = &spec {
+        let table = read_capped(&dir.join("flux_table.json")).ok();
+        let h = format!(
+            "{:016x}",
+            crate::scenario::scenario_hash(spec, table.as_deref())
+        );
+        if h != scenario_hash {
+            problems.push(format!(
+                "scenario.json has hash {h}, but summary.json was run for {scenario_hash}"
+            ));
+        }
+    }
+    read_json(
+        &dir.join("scenario.json"),
+        notes,
+        "the scenario description",
+    )
+    .and_then(|_| match spec {
+        Some(Ok(spec)) => Some(spec),
+        Some(Err(e)) => {
+            notes.push(format!(
+                "scenario.json is not a scenario ({e}): the scenario description is left out."
+            ));
+            None
+        }
+        None => None,
+    })
+}
+
+/// `sweep/sweep.json` as the sweep's result, checked, with its charts; absent, unreadable or
+/// of another shape: a note and `None`.
+fn read_sweep(dir: &Path, notes: &mut Vec<String>) -> Option<SweepInput> {
+    let sweep_dir = dir.join("sweep");
+    if !sweep_dir.join("sweep.json").exists() {
+        notes.push("No trade study (sweep/sweep.json) in this folder: the trade-study comparison is left out.".into());
+        return None;
+    }
+    let v = read_json(&sweep_dir.join("sweep.json"), notes, "the trade study")?;
+    let read = serde_json::from_value::<SweepResult>(v).map_err(|e| e.to_string());
+    match read.and_then(|r| super::folder::validate_sweep(&r).map(|()| r)) {
+        Ok(result) => Some(SweepInput {
+            result,
+            heatmap_svg: read_capped(&sweep_dir.join("heatmap.svg")).ok(),
+            pareto_svg: read_capped(&sweep_dir.join("pareto.svg")).ok(),
+        }),
+        Err(e) => {
+            notes.push(format!("sweep/sweep.json is not a trade study of this version ({e}): the trade-study comparison is left out."));
+            None
+        }
     }
 }
 
