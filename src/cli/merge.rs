@@ -6,8 +6,8 @@
 use std::path::{Path, PathBuf};
 
 use tether_risk::engine::{Engine, RunSettings, RunStatus, RunSummary, Tally};
-use tether_risk::report::folder::{check_listed_files, validate_summary, FileEntry};
-use tether_risk::report::run::run_text;
+use tether_risk::report::folder::{check_listed_files, validate_summary};
+use tether_risk::report::run::{run_text, Manifest};
 
 use super::output::{print, InputError};
 use super::simulate::{
@@ -54,14 +54,15 @@ fn check_complete(d: &Path) -> anyhow::Result<()> {
             d.display()
         ))
     })?;
-    let files: Vec<FileEntry> = m
-        .get("files")
-        .cloned()
-        .map(serde_json::from_value)
-        .transpose()
-        .map_err(|e| InputError(format!("{}/manifest.json: files: {e}", d.display())))?
-        .unwrap_or_default();
-    let problems = check_listed_files(d, &files);
+    // Read as the manifest the shard run wrote: one of another shape lists no files that
+    // could be checked, so it cannot vouch for the shard.
+    let m: Manifest = serde_json::from_value(m).map_err(|e| {
+        InputError(format!(
+            "{}/manifest.json is not a run manifest of this version: {e}",
+            d.display()
+        ))
+    })?;
+    let problems = check_listed_files(d, &m.files);
     if !problems.is_empty() {
         return Err(InputError(format!(
             "{} is not a complete shard folder: {}",

@@ -4,10 +4,9 @@
 //! Inputs in the run folder: `summary.json` (required), and, when present, `manifest.json`,
 //! `scenario.json`, `design.json` (design summary), `estimate.json` (Markov estimate) and
 //! `sweep/sweep.json` with `sweep/heatmap.svg` and `sweep/pareto.svg` (a trade study), read by
-//! [`super::reader`] (a missing or stale optional file leaves its section out with a note
-//! instead of failing; design.json, scenario.json and sweep.json are still read as JSON values
-//! by key, a typed reader is open work). Each section is built in [`super::sections`]; this
-//! module only orchestrates.
+//! [`super::reader`] as the types their writers define (a missing, stale or differently shaped
+//! optional file leaves its section out with a note instead of failing). Each section is built
+//! in [`super::sections`]; this module only orchestrates.
 //!
 //! Outputs: `failure_tables.md`, `failure_by_year.csv`, `failure_by_band.csv`,
 //! `failure_by_cause.csv`, `markov_vs_monte_carlo.csv` (with an estimate), `plots/*.png` and
@@ -16,18 +15,13 @@
 
 use std::path::{Path, PathBuf};
 
-use serde_json::Value;
-
 use super::failure::{
     band_table, cause_table, comparison_table, failure_markdown, year_label, year_table,
 };
 use super::figures::{run_figures, NamedFigure};
 use super::html::{render_report, ReportDoc, Section};
 use super::reader::{read_capped, read_main_file};
-pub use super::reader::{
-    Completeness, DamageMemoryView, EstimateView, EstimateYearView, ReportError, RunFolder,
-    SweepInput,
-};
+pub use super::reader::{Completeness, ReportError, RunFolder, SweepInput};
 use super::sections::*;
 use super::table::Table;
 use super::write_atomic;
@@ -133,9 +127,8 @@ pub fn write_sweep_report(dir: &Path) -> Result<ReportWritten, ReportError> {
         path: path.clone(),
         reason: format!("it is not consistent: {reason}"),
     })?;
-    let value: Value = serde_json::from_str(&text).unwrap_or(Value::Null);
     let sw = SweepInput {
-        value,
+        result: r.clone(),
         heatmap_svg: read_capped(&dir.join("heatmap.svg")).ok(),
         pareto_svg: read_capped(&dir.join("pareto.svg")).ok(),
     };
@@ -312,54 +305,5 @@ fn report_doc(folder: &RunFolder, figures: &[NamedFigure], t: &DocTables<'_>) ->
         ),
         caution: crate::CAUTION.to_string(),
         sections,
-    }
-}
-
-#[cfg(test)]
-mod tests {
-    use super::*;
-    use crate::model::markov::{mission_times_s, MarkovModel};
-    use crate::model::Model;
-    use crate::report::design::DesignSummary;
-    use crate::report::estimate::EstimateSummary;
-
-    // Source: the file contract of this module: the views must read what the estimate and
-    // design writers produce, so a renamed field shows up here rather than as a silently
-    // missing section.
-    #[test]
-    fn views_read_the_writers_output() {
-        let model = Model::build(crate::scenario::demo()).unwrap();
-        let markov = MarkovModel::build(&model).unwrap();
-        let est = markov.solve(&mission_times_s(&model.scenario.run)).unwrap();
-        let e = EstimateSummary::new(&model, &markov, &est);
-        let v: EstimateView = serde_json::from_value(serde_json::to_value(&e).unwrap()).unwrap();
-        assert_eq!(v.loss_probability, e.loss_probability);
-        assert_eq!(
-            v.loss_probability_by_year.len(),
-            e.loss_probability_by_year.len()
-        );
-        assert_eq!(v.scenario_hash, e.scenario_hash);
-        let d = serde_json::to_value(DesignSummary::from_model(&model)).unwrap();
-        for key in [
-            "tether_length_km",
-            "ribbon_count",
-            "cross_link_spacing_km",
-            "ribbon_mass_kg",
-            "min_margin",
-            "scenario_hash",
-        ] {
-            assert!(d.get(key).is_some(), "design.json lost `{key}`");
-        }
-    }
-
-    // Source: the defensive-reading rule for the optional trade study: rows are found under
-    // the usual names or as the first array of objects, and interval objects become cells.
-    #[test]
-    fn sweep_rows_are_found() {
-        let v = serde_json::json!({"note": "x", "cases": [{"a": 1.0, "p": {"estimate": 0.5, "ci_low": 0.25, "ci_high": 0.75}}]});
-        let rows = sweep_rows(&v).unwrap();
-        assert_eq!(rows.len(), 1);
-        assert_eq!(sweep_cell(&rows[0]["p"]), "0.500 [0.250, 0.750]");
-        assert!(sweep_rows(&serde_json::json!({"x": [1, 2]})).is_none());
     }
 }

@@ -18,7 +18,6 @@
 use std::path::{Path, PathBuf};
 
 use serde::Serialize;
-use serde_json::Value;
 
 use super::assemble::{Completeness, ReportError, RunFolder};
 use super::failure::{interval_cell, loss_cell, year_label, year_rows};
@@ -281,10 +280,6 @@ fn verdict(design: &str, baseline: &str, d: f64, ci: Option<(f64, f64)>, pct: &s
     }
 }
 
-fn num(v: Option<&Value>, key: &str) -> Option<f64> {
-    v.and_then(|v| v.get(key)).and_then(Value::as_f64)
-}
-
 fn labels(dirs: &[PathBuf]) -> Vec<String> {
     let short: Vec<String> = dirs
         .iter()
@@ -349,7 +344,7 @@ pub fn compare(folders: &[RunFolder]) -> Comparison {
         .zip(&labels)
         .map(|(f, label)| {
             let s = &f.summary;
-            let tether = f.scenario.as_ref().and_then(|v| v.get("tether"));
+            let tether = f.scenario.as_ref().map(|v| &v.tether);
             let design = f.design.as_ref();
             let repair = s.repair.as_ref();
             ComparedDesign {
@@ -361,14 +356,13 @@ pub fn compare(folders: &[RunFolder]) -> Comparison {
                 histories: s.histories,
                 mission_years: s.mission_years,
                 ribbon_count: tether
-                    .and_then(|t| t.get("ribbon_count"))
-                    .or_else(|| design.and_then(|d| d.get("ribbon_count")))
-                    .and_then(Value::as_u64),
-                cross_link_spacing_km: num(tether, "cross_link_spacing_km")
-                    .or_else(|| num(design, "cross_link_spacing_km")),
-                tether_mass_kg: num(design, "ribbon_mass_kg")
-                    .map(|r| r + num(design, "cross_links_mass_kg").unwrap_or(0.0)),
-                counterweight_kg: num(design, "counterweight_kg"),
+                    .map(|t| u64::from(t.ribbon_count))
+                    .or_else(|| design.map(|d| d.ribbon_count as u64)),
+                cross_link_spacing_km: tether
+                    .map(|t| t.cross_link_spacing_km)
+                    .or_else(|| design.map(|d| d.cross_link_spacing_km)),
+                tether_mass_kg: design.map(|d| d.ribbon_mass_kg + d.cross_links_mass_kg),
+                counterweight_kg: design.map(|d| d.counterweight_kg),
                 losses_observed: s.tally.losses,
                 loss_probability: s.loss_probability.clone(),
                 loss_probability_at_horizon: losses_by(s, horizon).1,

@@ -1,7 +1,7 @@
 //! Design summaries from a built model: what `check` and `profile` show, as serialisable
 //! values rendered to text, JSON or CSV.
 
-use serde::Serialize;
+use serde::{Deserialize, Serialize};
 
 use super::table::{sig, Table};
 use super::CAUTION;
@@ -9,7 +9,7 @@ use crate::model::Model;
 use crate::orbit::Side;
 
 /// Critical hole widths of one bay for 0..N-1 cuts.
-#[derive(Clone, Debug, Serialize)]
+#[derive(Clone, Debug, Serialize, Deserialize)]
 pub struct CriticalRow {
     /// Why this bay is shown.
     pub label: String,
@@ -23,7 +23,7 @@ pub struct CriticalRow {
 
 /// The surface run from a base away from the tether's foot (`check`; present only when the
 /// base is off the foot). See [`crate::structure::surface`].
-#[derive(Clone, Debug, Serialize)]
+#[derive(Clone, Debug, Serialize, Deserialize)]
 pub struct SurfaceRunSummary {
     /// Latitude of the base, deg.
     pub base_latitude_deg: f64,
@@ -89,8 +89,9 @@ impl SurfaceRunSummary {
     }
 }
 
-/// Derived design quantities (`check`).
-#[derive(Clone, Debug, Serialize)]
+/// Derived design quantities (`check`; `design.json` of a run folder, read back by the
+/// report).
+#[derive(Clone, Debug, Serialize, Deserialize)]
 pub struct DesignSummary {
     /// Tool version.
     pub version: String,
@@ -167,7 +168,7 @@ pub struct DesignSummary {
 
 /// What the physics model is: flux model and its source, the switches that change the strike
 /// rate, and every setting the program changed from what the scenario gave.
-#[derive(Clone, Debug, Serialize)]
+#[derive(Clone, Debug, Serialize, Deserialize)]
 pub struct ModelStatement {
     /// Flux model as named in the scenario (`grun1985`, or the table file).
     pub flux_model: String,

@@ -1,9 +1,10 @@
-//! The fast Markov estimate as a serialisable summary, rendered as text or JSON.
+//! The fast Markov estimate as a serialisable summary, rendered as text or JSON
+//! (`estimate.json` of a run folder, read back by the report).
 //!
 //! The assumptions travel with the number: they are part of the summary and the text shows
 //! them right under the headline probability, because the estimate means nothing without them.
 
-use serde::Serialize;
+use serde::{Deserialize, Serialize};
 
 use super::table::{sig, Table};
 use super::CAUTION;
@@ -17,7 +18,7 @@ use crate::scenario::SECONDS_PER_YEAR;
 pub const TOP_BAYS: usize = 20;
 
 /// Loss probability at one time.
-#[derive(Clone, Debug, Serialize, PartialEq)]
+#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
 pub struct YearPoint {
     /// Mission time, years.
     pub year: f64,
@@ -26,7 +27,7 @@ pub struct YearPoint {
 }
 
 /// One bay's contribution.
-#[derive(Clone, Debug, Serialize, PartialEq)]
+#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
 pub struct BayEstimate {
     /// Bay index from the anchor.
     pub bay_index: usize,
@@ -34,7 +35,7 @@ pub struct BayEstimate {
     pub altitude_range_km: [f64; 2],
     /// The bay lies on the surface run from a base off the tether's foot (present only when
     /// true).
-    #[serde(skip_serializing_if = "std::ops::Not::not")]
+    #[serde(default, skip_serializing_if = "std::ops::Not::not")]
     pub surface_run: bool,
     /// Probability that this bay is lost by mission end.
     pub loss_probability: f64,
@@ -50,7 +51,7 @@ pub struct BayEstimate {
 }
 
 /// What `estimate` reports.
-#[derive(Clone, Debug, Serialize, PartialEq)]
+#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
 pub struct EstimateSummary {
     /// Tool version.
     pub version: String,
@@ -95,7 +96,7 @@ pub struct EstimateSummary {
 pub const AGREEMENT_TOLERANCE: f64 = 0.1;
 
 /// One bay's damage-memory result.
-#[derive(Clone, Debug, Serialize, PartialEq)]
+#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
 pub struct MemoryBayEstimate {
     /// Bay index from the anchor.
     pub bay_index: usize,
@@ -103,7 +104,7 @@ pub struct MemoryBayEstimate {
     pub altitude_range_km: [f64; 2],
     /// The bay lies on the surface run from a base off the tether's foot (present only when
     /// true).
-    #[serde(skip_serializing_if = "std::ops::Not::not")]
+    #[serde(default, skip_serializing_if = "std::ops::Not::not")]
     pub surface_run: bool,
     /// Damage-memory loss probability by mission end.
     pub loss_probability: f64,
@@ -112,7 +113,7 @@ pub struct MemoryBayEstimate {
 }
 
 /// The damage-memory estimate (see [`crate::analytic::damage_memory`]).
-#[derive(Clone, Debug, Serialize, PartialEq)]
+#[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
 pub struct DamageMemorySummary {
     /// How it was computed.
     pub method: String,

@@ -1,15 +1,27 @@
 //! The run folder read into memory: `summary.json` (required) and the optional files beside
 //! it, each checked against the manifest. The report's sections render from a [`RunFolder`];
 //! nothing here writes.
+//!
+//! Every file is read as the type its writer defines: `summary.json` as
+//! [`RunSummary`], `scenario.json` through the scenario loader as a [`ScenarioSpec`]
+//! (deprecated names accepted as the loader accepts them, nothing else), `design.json` as
+//! [`DesignSummary`], `estimate.json` as [`EstimateSummary`], `sweep/sweep.json` as
+//! [`SweepResult`] and `sensitivity/sensitivity.json` as
+//! [`crate::sweep::sensitivity::SensitivityResult`]. There is no second guess: an optional file
+//! of another shape is left out with a note giving serde's reason.
 
 use std::path::{Path, PathBuf};
 
-use serde::Deserialize;
 use serde_json::Value;
 
+use super::design::DesignSummary;
+use super::estimate::EstimateSummary;
 use super::failure::MarkovPoint;
 use super::figures::FigureError;
+use super::run::Manifest;
 use crate::engine::RunSummary;
+use crate::scenario::ScenarioSpec;
+use crate::sweep::SweepResult;
 
 /// Why a report could not be made.
 #[derive(Debug, thiserror::Error)]
@@ -66,52 +78,12 @@ impl ReportError {
     }
 }
 
-/// The fields of `estimate.json` the report uses (a view of
-/// [`crate::report::estimate::EstimateSummary`]).
-#[derive(Clone, Debug, Deserialize, PartialEq)]
-pub struct EstimateView {
-    /// Scenario hash the estimate was made for.
-    pub scenario_hash: String,
-    /// `physical` or `synthetic_rates`.
-    pub mode: String,
-    /// System loss probability by mission end.
-    pub loss_probability: f64,
-    /// Loss probability at each whole year and at mission end.
-    pub loss_probability_by_year: Vec<EstimateYearView>,
-    /// The assumptions behind the number.
-    #[serde(default)]
-    pub assumptions: Vec<String>,
-    /// The damage-memory estimate (absent in older files and where it does not apply).
-    #[serde(default)]
-    pub damage_memory: Option<DamageMemoryView>,
-}
-
-/// The damage-memory part of estimate.json.
-#[derive(Clone, Debug, Deserialize, PartialEq)]
-pub struct DamageMemoryView {
-    /// Exact (no repair) or an approximation (with repair).
-    pub exact: bool,
-    /// System loss probability by mission end.
-    pub loss_probability: f64,
-    /// Which mechanism dominates (`latent damage` or `direct cuts`).
-    #[serde(default)]
-    pub dominant_mechanism: String,
-}
-
-/// One year of the Markov estimate.
-#[derive(Clone, Copy, Debug, Deserialize, PartialEq)]
-pub struct EstimateYearView {
-    /// Mission time, years.
-    pub year: f64,
-    /// System loss probability by then.
-    pub loss_probability: f64,
-}
-
 /// An optional trade study found in `sweep/`.
 #[derive(Clone, Debug)]
 pub struct SweepInput {
-    /// `sweep/sweep.json` as read.
-    pub value: Value,
+    /// `sweep/sweep.json`, read as the sweep's own result and checked
+    /// ([`crate::report::folder::validate_sweep`]).
+    pub result: SweepResult,
     /// `sweep/heatmap.svg`, if present.
     pub heatmap_svg: Option<String>,
     /// `sweep/pareto.svg`, if present.
@@ -125,14 +97,15 @@ pub struct RunFolder {
     pub dir: PathBuf,
     /// The run summary.
     pub summary: RunSummary,
-    /// `manifest.json`.
-    pub manifest: Option<Value>,
-    /// `scenario.json`.
-    pub scenario: Option<Value>,
-    /// `design.json`.
-    pub design: Option<Value>,
+    /// `manifest.json`, when it is a manifest of this version.
+    pub manifest: Option<Manifest>,
+    /// `scenario.json`, as the scenario loader reads it ([`crate::scenario::parse_spec`]:
+    /// unknown fields refused, deprecated names accepted).
+    pub scenario: Option<ScenarioSpec>,
+    /// `design.json`, when present and made for the same scenario.
+    pub design: Option<DesignSummary>,
     /// `estimate.json`, when present and made for the same scenario.
-    pub estimate: Option<EstimateView>,
+    pub estimate: Option<EstimateSummary>,
     /// The trade study, if any.
     pub sweep: Option<SweepInput>,
     /// `sensitivity/sensitivity.json` with `sensitivity/sensitivity.svg`, if present.
@@ -221,62 +194,11 @@ impl RunFolder {
             reason: format!("it is not consistent: {reason}"),
         })?;
         let mut notes = Vec::new();
-        let manifest = read_json(&dir.join("manifest.json"), &mut notes, "the manifest");
         let mut problems = Vec::new();
-        let incomplete = match (completeness, &manifest) {
-            (Completeness::Writing, _) => None,
-            (Completeness::Check, None) => Some(
-                "this folder has no readable manifest.json, which a run writes last: the run that wrote it may have been killed before it finished, so its files may not belong together".to_string(),
-            ),
-            (Completeness::Check, Some(m)) => match m.get("files") {
-                None => Some(
-                    "manifest.json does not list the run's files (written by an older version), so the folder's completeness cannot be checked".to_string(),
-                ),
-                Some(f) => match serde_json::from_value::<Vec<super::folder::FileEntry>>(f.clone())
-                {
-                    Ok(files) => {
-                        problems.extend(super::folder::check_listed_files(dir, &files));
-                        None
-                    }
-                    Err(e) => {
-                        problems.push(format!("manifest.json: files is not a file list ({e})"));
-                        None
-                    }
-                },
-            },
-        };
-        if let Some(h) = manifest
-            .as_ref()
-            .and_then(|m| m.get("scenario_hash"))
-            .and_then(Value::as_str)
-        {
-            if h != summary.scenario_hash {
-                problems.push(format!(
-                    "manifest.json is for scenario hash {h}, summary.json for {}",
-                    summary.scenario_hash
-                ));
-            }
-        }
-        if let Ok(text) = read_capped(&dir.join("scenario.json")) {
-            if let Ok(spec) = crate::scenario::parse_spec(&text) {
-                let table = read_capped(&dir.join("flux_table.json")).ok();
-                let h = format!(
-                    "{:016x}",
-                    crate::scenario::scenario_hash(&spec, table.as_deref())
-                );
-                if h != summary.scenario_hash {
-                    problems.push(format!(
-                        "scenario.json has hash {h}, but summary.json was run for {}",
-                        summary.scenario_hash
-                    ));
-                }
-            }
-        }
-        let scenario = read_json(
-            &dir.join("scenario.json"),
-            &mut notes,
-            "the scenario description",
-        );
+        let hash = summary.scenario_hash.as_str();
+        let (manifest, incomplete) =
+            read_manifest(dir, completeness, hash, &mut notes, &mut problems);
+        let scenario = read_scenario(dir, hash, &mut notes, &mut problems);
         let design = read_json(
             &dir.join("design.json"),
             &mut notes,
@@ -287,7 +209,7 @@ impl RunFolder {
             &mut notes,
             "the Markov estimate and its comparison with the Monte Carlo (write it with `tether-risk estimate FILE --format json > estimate.json`)",
         )
-        .and_then(|v| match serde_json::from_value::<EstimateView>(v) {
+        .and_then(|v| match serde_json::from_value::<EstimateSummary>(v) {
             Ok(e) if e.scenario_hash != summary.scenario_hash => {
                 notes.push(format!(
                     "estimate.json was made for scenario hash {}, not this run's {}: the Markov comparison is left out.",
@@ -303,28 +225,20 @@ impl RunFolder {
                 None
             }
         });
-        let design = design.filter(|d| {
-            let hash = d.get("scenario_hash").and_then(Value::as_str);
-            if hash.is_some_and(|h| h != summary.scenario_hash) {
+        let design = design.and_then(|v| match serde_json::from_value::<DesignSummary>(v) {
+            Ok(d) if d.scenario_hash != summary.scenario_hash => {
                 notes.push("design.json was made for another scenario: the design key numbers are left out.".into());
-                false
-            } else {
-                true
+                None
+            }
+            Ok(d) => Some(d),
+            Err(e) => {
+                notes.push(format!(
+                    "design.json is not a design summary of this version ({e}): the design key numbers are left out."
+                ));
+                None
             }
         });
-        let sweep_dir = dir.join("sweep");
-        let sweep = if sweep_dir.join("sweep.json").exists() {
-            read_json(&sweep_dir.join("sweep.json"), &mut notes, "the trade study").map(|value| {
-                SweepInput {
-                    value,
-                    heatmap_svg: read_capped(&sweep_dir.join("heatmap.svg")).ok(),
-                    pareto_svg: read_capped(&sweep_dir.join("pareto.svg")).ok(),
-                }
-            })
-        } else {
-            notes.push("No trade study (sweep/sweep.json) in this folder: the trade-study comparison is left out.".into());
-            None
-        };
+        let sweep = read_sweep(dir, &mut notes);
         let sens_dir = dir.join("sensitivity");
         let sensitivity = if sens_dir.join("sensitivity.json").exists() {
             match read_capped(&sens_dir.join("sensitivity.json"))
@@ -341,15 +255,10 @@ impl RunFolder {
             notes.push("No sensitivity study (sensitivity/sensitivity.json) in this folder: the section \"Which assumption decides the answer?\" is left out; make it with `tether-risk sensitivity FILE --out DIR/sensitivity`.".into());
             None
         };
-        if let Some(h) = sweep
-            .as_ref()
-            .and_then(|s| s.value.get("scenario_hash"))
-            .and_then(Value::as_str)
-        {
-            if h != summary.scenario_hash {
+        if let Some(h) = sweep.as_ref().map(|s| &s.result.scenario_hash) {
+            if h != hash {
                 problems.push(format!(
-                    "sweep/sweep.json is a trade study of scenario hash {h}, not of this run's scenario {}; move it out of the folder or rerun the sweep from this scenario",
-                    summary.scenario_hash
+                    "sweep/sweep.json is a trade study of scenario hash {h}, not of this run's scenario {hash}; move it out of the folder or rerun the sweep from this scenario"
                 ));
             }
         }
@@ -387,6 +296,110 @@ impl RunFolder {
     }
 }
 
+/// `manifest.json` and, when the folder is to be checked, why it may be incomplete. Without a
+/// manifest (or with one that is not JSON) the folder may be incomplete; a JSON manifest of
+/// another shape (a damaged file list, an older version's manifest) cannot vouch for the
+/// files, so it is a problem, as are listed files that disagree with it.
+fn read_manifest(
+    dir: &Path,
+    completeness: Completeness,
+    scenario_hash: &str,
+    notes: &mut Vec<String>,
+    problems: &mut Vec<String>,
+) -> (Option<Manifest>, Option<String>) {
+    let manifest = read_json(&dir.join("manifest.json"), notes, "the manifest")
+        .map(serde_json::from_value::<Manifest>);
+    let incomplete = match (completeness, &manifest) {
+        (Completeness::Writing, _) => None,
+        (Completeness::Check, None) => Some(
+            "this folder has no readable manifest.json, which a run writes last: the run that wrote it may have been killed before it finished, so its files may not belong together".to_string(),
+        ),
+        (Completeness::Check, Some(Err(e))) => {
+            problems.push(format!(
+                "manifest.json is not a run manifest of this version ({e})"
+            ));
+            None
+        }
+        (Completeness::Check, Some(Ok(m))) => {
+            problems.extend(super::folder::check_listed_files(dir, &m.files));
+            None
+        }
+    };
+    let manifest = manifest.and_then(Result::ok);
+    if let Some(h) = manifest.as_ref().map(|m| &m.scenario_hash) {
+        if h != scenario_hash {
+            problems.push(format!(
+                "manifest.json is for scenario hash {h}, summary.json for {scenario_hash}"
+            ));
+        }
+    }
+    (manifest, incomplete)
+}
+
+/// `scenario.json` through the scenario loader, its hash checked against the run's (with
+/// `flux_table.json` when there is one). The notes for an absent or broken file come from
+/// [`read_json`]; a JSON document the loader refuses is left out with the loader's reason.
+fn read_scenario(
+    dir: &Path,
+    scenario_hash: &str,
+    notes: &mut Vec<String>,
+    problems: &mut Vec<String>,
+) -> Option<ScenarioSpec> {
+    let spec = read_capped(&dir.join("scenario.json"))
+        .ok()
+        .map(|text| crate::scenario::parse_spec(&text));
+    if let Some(Ok(spec)) = &spec {
+        let table = read_capped(&dir.join("flux_table.json")).ok();
+        let h = format!(
+            "{:016x}",
+            crate::scenario::scenario_hash(spec, table.as_deref())
+        );
+        if h != scenario_hash {
+            problems.push(format!(
+                "scenario.json has hash {h}, but summary.json was run for {scenario_hash}"
+            ));
+        }
+    }
+    read_json(
+        &dir.join("scenario.json"),
+        notes,
+        "the scenario description",
+    )
+    .and_then(|_| match spec {
+        Some(Ok(spec)) => Some(spec),
+        Some(Err(e)) => {
+            notes.push(format!(
+                "scenario.json is not a scenario ({e}): the scenario description is left out."
+            ));
+            None
+        }
+        None => None,
+    })
+}
+
+/// `sweep/sweep.json` as the sweep's result, checked, with its charts; absent, unreadable or
+/// of another shape: a note and `None`.
+fn read_sweep(dir: &Path, notes: &mut Vec<String>) -> Option<SweepInput> {
+    let sweep_dir = dir.join("sweep");
+    if !sweep_dir.join("sweep.json").exists() {
+        notes.push("No trade study (sweep/sweep.json) in this folder: the trade-study comparison is left out.".into());
+        return None;
+    }
+    let v = read_json(&sweep_dir.join("sweep.json"), notes, "the trade study")?;
+    let read = serde_json::from_value::<SweepResult>(v).map_err(|e| e.to_string());
+    match read.and_then(|r| super::folder::validate_sweep(&r).map(|()| r)) {
+        Ok(result) => Some(SweepInput {
+            result,
+            heatmap_svg: read_capped(&sweep_dir.join("heatmap.svg")).ok(),
+            pareto_svg: read_capped(&sweep_dir.join("pareto.svg")).ok(),
+        }),
+        Err(e) => {
+            notes.push(format!("sweep/sweep.json is not a trade study of this version ({e}): the trade-study comparison is left out."));
+            None
+        }
+    }
+}
+
 /// Read the file that makes `dir` a folder of its kind (`summary.json`, `sweep.json`), size
 /// capped: absent means not such a folder, unreadable means a bad summary.
 pub(crate) fn read_main_file(dir: &Path, path: &Path) -> Result<String, ReportError> {
@@ -402,4 +415,32 @@ pub(crate) fn read_main_file(dir: &Path, path: &Path) -> Result<String, ReportEr
             }
         }
     })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::model::markov::{mission_times_s, MarkovModel};
+    use crate::model::Model;
+
+    // Source: the file contract of this module: the reader reads estimate.json and
+    // design.json as the writers' own types, so what a writer writes must read back whole
+    // (a skipped field needs its default), or the report would leave the section out.
+    #[test]
+    fn writers_output_reads_back_as_their_types() {
+        let model = Model::build(crate::scenario::demo()).unwrap();
+        let markov = MarkovModel::build(&model).unwrap();
+        let times = mission_times_s(&model.scenario.run);
+        let est = markov.solve(&times).unwrap();
+        let dm = crate::model::damage_memory::solve(&model, &times);
+        let e = EstimateSummary::new(&model, &markov, &est).with_damage_memory(&model, dm.as_ref());
+        assert!(e.damage_memory.is_some());
+        let text = serde_json::to_string_pretty(&e).unwrap();
+        let back: EstimateSummary = serde_json::from_str(&text).unwrap();
+        assert_eq!(back, e);
+        let d = DesignSummary::from_model(&model);
+        let text = serde_json::to_string_pretty(&d).unwrap();
+        let back: DesignSummary = serde_json::from_str(&text).unwrap();
+        assert_eq!(serde_json::to_string_pretty(&back).unwrap(), text);
+    }
 }

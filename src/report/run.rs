@@ -3,14 +3,14 @@
 
 use std::path::Path;
 
-use serde::Serialize;
+use serde::{Deserialize, Serialize};
 
 use super::table::{sig, Table};
 use super::write_atomic;
 use crate::engine::RunSummary;
 
-/// Provenance of a run, written beside its summary.
-#[derive(Clone, Debug, Serialize)]
+/// Provenance of a run, written beside its summary (`manifest.json`, read back by the report).
+#[derive(Clone, Debug, Serialize, Deserialize)]
 pub struct Manifest {
     /// Tool name.
     pub tool: String,

@@ -3,32 +3,28 @@
 //! ones, and any setting the program overrode) and the expected cuts in each mission year.
 //! Built from the run folder's files alone.
 
-use serde_json::Value;
-
 use super::assemble::RunFolder;
 use super::html::{ReportTable, Section};
 use super::table::{sig, Table};
 use crate::engine::RunSummary;
+use crate::scenario::{
+    ClimberPowerSpec, CrossLinkHitsSpec, CrossLinkRepairSpec, FluxModelSpec, RepairConceptSpec,
+    ScenarioSpec,
+};
 
-fn on_off(v: Option<&Value>) -> &'static str {
-    match v.and_then(Value::as_bool) {
-        Some(true) => "on",
-        Some(false) => "off",
-        None => "not recorded",
+fn on_off(v: bool) -> &'static str {
+    if v {
+        "on"
+    } else {
+        "off"
     }
-}
-
-fn text<'a>(v: Option<&'a Value>, key: &str) -> Option<&'a str> {
-    v.and_then(|v| v.get(key)).and_then(Value::as_str)
 }
 
 /// The Monte Carlo assumptions, in words, for this run (the counterpart of the Markov
 /// estimate's list).
-pub fn monte_carlo_assumptions(s: &RunSummary, scenario: Option<&Value>) -> Vec<String> {
-    let tether = scenario.and_then(|v| v.get("tether"));
-    let repair = scenario
-        .and_then(|v| v.get("repair"))
-        .filter(|r| !r.is_null());
+pub fn monte_carlo_assumptions(s: &RunSummary, scenario: Option<&ScenarioSpec>) -> Vec<String> {
+    let tether = scenario.map(|v| &v.tether);
+    let repair = scenario.and_then(|v| v.repair.as_ref());
     let mut a = vec![
         format!(
             "each history is one mission of {} years from an intact tether; histories are independent{}",
@@ -50,40 +46,35 @@ pub fn monte_carlo_assumptions(s: &RunSummary, scenario: Option<&Value>) -> Vec<
         "a segment is cut when its worst hole is at least the critical width for the number of ribbons already cut in its bay; smaller holes stay and count again after later cuts (damage memory)".into(),
         format!(
             "a cut ribbon's load is shared by the ribbons left in its bay ({} load sharing); survivors loaded beyond their strength fail at once (cascade)",
-            text(tether, "load_sharing").unwrap_or("the scenario's")
+            tether.map_or("the scenario's", |t| t.load_sharing.name())
         ),
         "the tether is lost when every ribbon of one bay is cut; one loss ends the history".into(),
         cross_link_assumption(
-            tether.and_then(|t| t.get("cross_link_hits")),
-            repair.and_then(|r| r.get("cross_link_repair")),
+            tether.and_then(|t| t.cross_link_hits.as_ref()),
+            repair.and_then(|r| r.cross_link_repair.as_ref()),
         ),
     ];
-    let looped = repair.filter(|r| text(Some(r), "concept") == Some("looped_ribbon"));
+    let looped = repair.filter(|r| r.concept == RepairConceptSpec::LoopedRibbon);
     match repair {
         Some(r) if looped.is_some() => {
-            let l = r.get("looped_ribbon");
-            let num = |k: &str| l.and_then(|l| l.get(k)).and_then(Value::as_f64).unwrap_or(0.0);
+            let l = &r.looped_ribbon;
             a.push(format!(
                 "looped-ribbon repair: each ribbon is a loop over pulleys at stations; a detected cut ({} detection) is hauled at {} m/s from its bay's middle to the nearest pulley station, waits there for one of {} splice positions and a spare, is spliced in {} h and hauled back; the bay stays weakened until the new length is in place; hauls do not delay each other and do not change the state of the other bays the moving loop passes through (engineering assumptions)",
-                text(r.get("detection"), "kind").unwrap_or("scenario's"),
-                sig(num("haul_speed_m_per_s"), 3),
-                l.and_then(|l| l.get("station_splice_capacity"))
-                    .and_then(Value::as_u64)
-                    .unwrap_or(0),
-                sig(num("station_splice_hours"), 3)
+                r.detection.kind(),
+                sig(l.haul_speed_m_per_s, 3),
+                l.station_splice_capacity,
+                sig(l.station_splice_hours, 3)
             ));
         }
         Some(r) => a.push(format!(
             "cut segments are detected ({} detection), dispatched by the {} rule from the nearest station with a free climber and a spare segment, and spliced back to intact strength",
-            text(r.get("detection"), "kind").unwrap_or("scenario's"),
-            r.get("dispatch").and_then(Value::as_str).unwrap_or("scenario's").replace('_', " ")
+            r.detection.kind(),
+            r.dispatch.name().replace('_', " ")
         )),
         None => a.push("no repair: cuts accumulate over the mission".into()),
     }
     if let Some(r) = repair.filter(|_| looped.is_none()) {
-        a.push(climber_power_assumption(
-            r.get("climber").and_then(|c| c.get("power")),
-        ));
+        a.push(climber_power_assumption(&r.climber.power));
     }
     a.push(if s.rare_event.is_some() {
         "the interval is the Wilson score interval on effective counts, given only when the weighted estimate is resolved".into()
@@ -94,36 +85,24 @@ pub fn monte_carlo_assumptions(s: &RunSummary, scenario: Option<&Value>) -> Vec<
 }
 
 /// Cross-link hits in words (the scenario's `tether.cross_link_hits`; absent: off).
-fn cross_link_assumption(hits: Option<&Value>, repair: Option<&Value>) -> String {
-    let Some(h) = hits.filter(|h| !h.is_null()) else {
+fn cross_link_assumption(
+    hits: Option<&CrossLinkHitsSpec>,
+    repair: Option<&CrossLinkRepairSpec>,
+) -> String {
+    let Some(h) = hits else {
         return "cross-links are never hit (cross-link hits off): every cross-link transfers load for the whole mission".into();
-    };
-    let num = |k: &str| {
-        h.get(k)
-            .and_then(Value::as_f64)
-            .map_or("?".into(), |x| sig(x, 4))
     };
     format!(
         "each interior cross-link is cut by one particle of diameter at least {} mm striking its exposed area of {} m^2 (a Poisson process at the flux model's rate above that particle's mass at the cross-link's altitude, with the adjacent bay's shielding and focusing; engineering assumption: one critical size, no cumulative damage, no lunar ejecta or meteor streams on cross-links); a cut cross-link stops load transfer at its station, so the bays on either side act as one longer bay: a ribbon cut anywhere in the merged span counts as cut along all of it, the span's intact ribbons share the load, and the tether is lost when no ribbon is intact along a span; {}",
-        num("critical_diameter_mm"),
-        num("exposed_area_m2"),
-        match repair.filter(|r| !r.is_null()) {
+        sig(h.critical_diameter_mm, 4),
+        sig(h.exposed_area_m2, 4),
+        match repair {
             Some(r) => {
-                let rn = |k: &str| {
-                    r.get(k)
-                        .and_then(Value::as_f64)
-                        .map_or("?".into(), |x| sig(x, 4))
-                };
-                let count = |k: &str| {
-                    r.get(k)
-                        .and_then(Value::as_u64)
-                        .map_or("0".into(), |x| x.to_string())
-                };
                 format!(
                     "a cut cross-link is detected like a ribbon cut and re-joined by a climber from the nearest station holding a spare cross-link ({} at each station at mission start, {} more with each delivery; ribbon jobs are served first), {} h on site; the span splits again when it is re-joined",
-                    count("spares_per_station"),
-                    count("resupply_batch"),
-                    rn("repair_hours")
+                    r.spares_per_station,
+                    r.resupply_batch,
+                    sig(r.repair_hours, 4)
                 )
             }
             None => "cut cross-links stay cut (no repair)".into(),
@@ -133,13 +112,7 @@ fn cross_link_assumption(hits: Option<&Value>, repair: Option<&Value>) -> String
 
 /// How the Moon's shadow acts on the climbers, in words (the scenario's
 /// `repair.climber.power`; absent: beamed).
-fn climber_power_assumption(power: Option<&Value>) -> String {
-    let num = |k: &str| {
-        power
-            .and_then(|p| p.get(k))
-            .and_then(Value::as_f64)
-            .unwrap_or(0.0)
-    };
+fn climber_power_assumption(power: &ClimberPowerSpec) -> String {
     let shade = |vs: f64| {
         if vs > 0.0 {
             format!("move at {} m/s", sig(vs, 3))
@@ -148,21 +121,29 @@ fn climber_power_assumption(power: Option<&Value>) -> String {
         }
     };
     let geometry = "a point at distance r from the Moon's centre is in the shadow cylinder for arcsin(R/r)/π of every 29.53-day synodic month, with the Sun in the Moon's orbital plane (the Sun's few degrees out of that plane, the umbra's taper and the Earth's shadow are left out, which over-states shade high on the tether); splicing is not slowed by shade";
-    match power.and_then(|p| p.get("kind")).and_then(Value::as_str) {
-        None | Some("beamed") => {
+    match *power {
+        ClimberPowerSpec::Beamed => {
             "climbers have full power in the Moon's shadow (beamed power): no waiting for light".into()
         }
-        Some("solar") => format!(
+        ClimberPowerSpec::Solar {
+            shade_speed_m_per_s,
+            sun_angle_at_start_deg,
+        } => format!(
             "solar climbers {} while in the Moon's shadow (exact travel through the lit and dark stretches; Sun {} deg from the tether's direction at mission start); {geometry}",
-            shade(num("shade_speed_m_per_s")),
-            sig(num("sun_angle_at_start_deg"), 3)
+            shade(shade_speed_m_per_s),
+            sig(sun_angle_at_start_deg, 3)
         ),
-        Some(_) => format!(
+        ClimberPowerSpec::SolarWithBattery {
+            battery_energy_wh,
+            power_w,
+            shade_speed_m_per_s,
+            sun_angle_at_start_deg,
+        } => format!(
             "solar climbers run in the Moon's shadow on a {} Wh battery at {} W, then {} (battery full at each leg's start and refilled in light, an engineering assumption; Sun {} deg from the tether's direction at mission start); {geometry}",
-            sig(num("battery_energy_wh"), 3),
-            sig(num("power_w"), 3),
-            shade(num("shade_speed_m_per_s")),
-            sig(num("sun_angle_at_start_deg"), 3)
+            sig(battery_energy_wh, 3),
+            sig(power_w, 3),
+            shade(shade_speed_m_per_s),
+            sig(sun_angle_at_start_deg, 3)
         ),
     }
 }
@@ -171,53 +152,38 @@ fn climber_power_assumption(power: Option<&Value>) -> String {
 /// Carlo assumptions and overridden settings.
 pub fn model_section(folder: &RunFolder) -> Section {
     let s = &folder.summary;
-    let env = folder.scenario.as_ref().and_then(|v| v.get("environment"));
-    let st = folder
-        .design
-        .as_ref()
-        .and_then(|d| d.get("model_statement"));
+    let env = folder.scenario.as_ref().map(|v| &v.environment);
+    let st = folder.design.as_ref().map(|d| &d.model_statement);
     let mut paragraphs = Vec::new();
     match st {
         Some(m) => {
-            let range = m
-                .get("flux_valid_mass_range_kg")
-                .and_then(Value::as_array)
-                .and_then(|r| Some((r.first()?.as_f64()?, r.get(1)?.as_f64()?)));
+            let [lo, hi] = m.flux_valid_mass_range_kg;
             paragraphs.push(format!(
-                "Flux model: {} (scenario setting {}), valid for particle masses {}; outside that range the flux is extrapolated. Flux scale factor {}. Velocity distribution: {}.",
-                text(Some(m), "flux_model_source").unwrap_or("not recorded"),
-                text(Some(m), "flux_model").unwrap_or("not recorded"),
-                range.map_or("not recorded".to_string(), |(lo, hi)| format!("{} kg to {} kg", sig(lo, 3), sig(hi, 3))),
-                m.get("flux_scale_factor").and_then(Value::as_f64).map_or("not recorded".into(), |x| sig(x, 4)),
-                text(Some(m), "velocity_distribution").unwrap_or("not recorded"),
+                "Flux model: {} (scenario setting {}), valid for particle masses {} kg to {} kg; outside that range the flux is extrapolated. Flux scale factor {}. Velocity distribution: {}.",
+                m.flux_model_source,
+                m.flux_model,
+                sig(lo, 3),
+                sig(hi, 3),
+                sig(m.flux_scale_factor, 4),
+                m.velocity_distribution,
             ));
             paragraphs.push(format!(
                 "Switches: Moon focusing {}, Earth focusing {}, Moon shielding {}, lunar ejecta {}.",
-                on_off(m.get("moon_focusing")),
-                on_off(m.get("earth_focusing")),
-                on_off(m.get("moon_shielding")),
-                on_off(m.get("lunar_ejecta"))
+                on_off(m.moon_focusing),
+                on_off(m.earth_focusing),
+                on_off(m.moon_shielding),
+                on_off(m.lunar_ejecta)
             ));
-            if let Some(a) = text(Some(m), "anchor") {
-                paragraphs.push(format!("Anchor: {a}."));
-            }
-            if let Some(list) = env
-                .and_then(|e| e.get("meteor_streams"))
-                .and_then(Value::as_array)
-                .filter(|l| !l.is_empty())
-            {
+            paragraphs.push(format!("Anchor: {}.", m.anchor));
+            if let Some(list) = env.map(|e| &e.meteor_streams).filter(|l| !l.is_empty()) {
                 let names: Vec<String> = list
                     .iter()
                     .map(|st| {
                         format!(
                             "{} (peak on day {}, {} km/s)",
-                            text(Some(st), "name").unwrap_or("unnamed"),
-                            st.get("peak_day_of_year")
-                                .and_then(Value::as_f64)
-                                .map_or("?".into(), |x| sig(x, 4)),
-                            st.get("radiant_speed_km_per_s")
-                                .and_then(Value::as_f64)
-                                .map_or("?".into(), |x| sig(x, 3)),
+                            st.name,
+                            sig(st.peak_day_of_year, 4),
+                            sig(st.radiant_speed_km_per_s, 3),
                         )
                     })
                     .collect();
@@ -226,16 +192,7 @@ pub fn model_section(folder: &RunFolder) -> Section {
                     names.join("; ")
                 ));
             }
-            let over: Vec<String> = m
-                .get("overridden_settings")
-                .and_then(Value::as_array)
-                .map(|a| {
-                    a.iter()
-                        .filter_map(Value::as_str)
-                        .map(String::from)
-                        .collect()
-                })
-                .unwrap_or_default();
+            let over = &m.overridden_settings;
             if over.is_empty() {
                 paragraphs.push(
                     "Overridden settings: none; every result uses the scenario's values as given."
@@ -247,10 +204,9 @@ pub fn model_section(folder: &RunFolder) -> Section {
         }
         None => {
             paragraphs.push(format!(
-                "The flux model's source and valid mass range are recorded in design.json, which this folder lacks{}. Scenario flux model: {}, scale factor {}.",
-                if folder.design.is_some() { " in this version's form" } else { "" },
-                env.and_then(|e| e.get("flux_model")).map_or("not recorded".into(), |v| v.to_string()),
-                env.and_then(|e| e.get("flux_scale_factor")).and_then(Value::as_f64).map_or("not recorded".into(), |x| sig(x, 4)),
+                "The flux model's source and valid mass range are recorded in design.json, which this folder lacks. Scenario flux model: {}, scale factor {}.",
+                env.map_or("not recorded".into(), |e| flux_model_json(&e.flux_model)),
+                env.map_or("not recorded".into(), |e| sig(e.flux_scale_factor, 4)),
             ));
         }
     }
@@ -263,6 +219,11 @@ pub fn model_section(folder: &RunFolder) -> Section {
         paragraphs,
         ..Default::default()
     }
+}
+
+/// The scenario's flux model as written in scenario.json (`"grun1985"`, `{"table_file": ...}`).
+fn flux_model_json(m: &FluxModelSpec) -> String {
+    serde_json::to_string(m).unwrap_or_default()
 }
 
 /// The expected cuts in each mission year with intervals (text, Markdown and HTML share it).

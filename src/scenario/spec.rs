@@ -253,6 +253,17 @@ pub enum LoadSharingSpec {
     None,
 }
 
+impl LoadSharingSpec {
+    /// The name as written in a scenario.
+    pub fn name(self) -> &'static str {
+        match self {
+            LoadSharingSpec::Equal => "equal",
+            LoadSharingSpec::Local => "local",
+            LoadSharingSpec::None => "none",
+        }
+    }
+}
+
 /// Ribbon material, generic name.
 #[derive(Clone, Debug, Serialize, Deserialize)]
 #[serde(deny_unknown_fields)]
@@ -592,6 +603,17 @@ pub enum DetectionSpec {
     },
 }
 
+impl DetectionSpec {
+    /// The `kind` as written in a scenario.
+    pub fn kind(&self) -> &'static str {
+        match self {
+            DetectionSpec::Fixed { .. } => "fixed",
+            DetectionSpec::Exponential { .. } => "exponential",
+            DetectionSpec::PeriodicInspection { .. } => "periodic_inspection",
+        }
+    }
+}
+
 /// How spare stock is replenished.
 #[derive(Clone, Debug, Serialize, Deserialize, PartialEq)]
 #[serde(tag = "kind", rename_all = "snake_case", deny_unknown_fields)]
@@ -624,6 +646,16 @@ pub enum DispatchSpec {
     MostEndangered,
     /// First come, first served.
     FirstCome,
+}
+
+impl DispatchSpec {
+    /// The name as written in a scenario.
+    pub fn name(self) -> &'static str {
+        match self {
+            DispatchSpec::MostEndangered => "most_endangered",
+            DispatchSpec::FirstCome => "first_come",
+        }
+    }
 }
 
 /// The repair section.
@@ -869,4 +901,39 @@ fn default_dispatch() -> DispatchSpec {
 }
 fn default_confidence() -> f64 {
     0.95
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    // Source: the scenario file format itself: the names the report prints must be the ones
+    // serde reads and writes.
+    #[test]
+    fn names_are_the_serde_names() {
+        let tag = |v: serde_json::Value| match v {
+            serde_json::Value::String(s) => s,
+            serde_json::Value::Object(o) => o["kind"].as_str().unwrap().to_string(),
+            other => panic!("{other}"),
+        };
+        for l in [
+            LoadSharingSpec::Equal,
+            LoadSharingSpec::Local,
+            LoadSharingSpec::None,
+        ] {
+            assert_eq!(tag(serde_json::to_value(l).unwrap()), l.name());
+        }
+        for d in [DispatchSpec::MostEndangered, DispatchSpec::FirstCome] {
+            assert_eq!(tag(serde_json::to_value(d).unwrap()), d.name());
+        }
+        for d in [
+            DetectionSpec::Fixed { delay_hours: 1.0 },
+            DetectionSpec::Exponential { mean_hours: 1.0 },
+            DetectionSpec::PeriodicInspection {
+                interval_hours: 1.0,
+            },
+        ] {
+            assert_eq!(tag(serde_json::to_value(&d).unwrap()), d.kind());
+        }
+    }
 }

@@ -630,6 +630,21 @@ fn item13_merge_refuses_tampered_shard_files_without_panic() {
         2,
         "changed shard",
     );
+    // Issue 15 item 1: a shard manifest is read as the Manifest the shard run wrote; one that
+    // lists no files cannot vouch for the shard, so it is refused, naming the file.
+    let bad = base.join("unlisted");
+    copy_dir(&s[1], &bad);
+    let mut m = read_json(&bad.join("manifest.json"));
+    m.as_object_mut().unwrap().remove("files");
+    std::fs::write(bad.join("manifest.json"), m.to_string()).unwrap();
+    let o = merge(&[&s[0], &bad], &base.join("out-unlisted"));
+    expect_code(&o, 2, "shard manifest without files");
+    assert!(
+        stderr(&o)
+            .contains("manifest.json is not a run manifest of this version: missing field `files`"),
+        "{}",
+        stderr(&o)
+    );
 }
 
 #[test]

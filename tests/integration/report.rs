@@ -230,3 +230,60 @@ fn report_refuses_a_damaged_summary() {
     assert_eq!(o.status.code(), Some(2), "{}", stderr(&o));
     assert!(stderr(&o).contains("summary.json"), "{}", stderr(&o));
 }
+
+// Issue 15 item 1: the optional files are read as the types their writers define, with no
+// guessing; a file of another shape leaves its section out with a note naming the file and
+// serde's reason, and the report is still written.
+#[test]
+fn issue15_optional_files_of_another_shape_are_left_out_with_the_reason() {
+    let dir = small_run("report-shapes");
+    let design = dir.join("design.json");
+    let mut d: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(&design).unwrap()).unwrap();
+    d.as_object_mut().unwrap().remove("model_statement");
+    std::fs::write(&design, d.to_string()).unwrap();
+    std::fs::write(dir.join("estimate.json"), "{\"scenario_hash\": 3}").unwrap();
+    std::fs::create_dir_all(dir.join("sweep")).unwrap();
+    std::fs::write(dir.join("sweep/sweep.json"), "{\"cases\": [{\"a\": 1.0}]}").unwrap();
+    let o = run(&["report", dir.to_str().unwrap()]);
+    assert!(o.status.success(), "{}", stderr(&o));
+    let out = stdout(&o);
+    for part in [
+        "design.json is not a design summary of this version (missing field `model_statement`)",
+        "estimate.json is not a Markov estimate (invalid type: integer `3`",
+        "sweep/sweep.json is not a trade study of this version (missing field `tool`)",
+    ] {
+        assert!(out.contains(part), "no note `{part}`: {out}");
+    }
+    let html = std::fs::read_to_string(dir.join("report.html")).unwrap();
+    assert!(
+        !html.contains("Design key numbers"),
+        "design table from a foreign file"
+    );
+    assert!(
+        !html.contains("best for its mass"),
+        "trade study from a foreign file"
+    );
+    assert!(html.contains("design.json, which this folder lacks"));
+}
+
+// Issue 15 item 1: manifest.json is read as the Manifest the run wrote; one of another shape
+// (here a damaged file list) cannot vouch for the folder, which is refused, naming the file.
+#[test]
+fn issue15_a_manifest_of_another_shape_is_refused() {
+    let dir = small_run("report-manifest-shape");
+    let mp = dir.join("manifest.json");
+    let mut m: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(&mp).unwrap()).unwrap();
+    m["files"] = serde_json::json!(3);
+    std::fs::write(&mp, m.to_string()).unwrap();
+    let o = run(&["report", dir.to_str().unwrap()]);
+    assert_eq!(o.status.code(), Some(2), "{}", stderr(&o));
+    let e = stderr(&o);
+    assert!(
+        e.contains(
+            "manifest.json is not a run manifest of this version (invalid type: integer `3`"
+        ),
+        "{e}"
+    );
+}

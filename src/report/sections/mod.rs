@@ -18,13 +18,12 @@ pub(crate) use sensitivity::*;
 pub(crate) use survival::*;
 pub(crate) use sweep::*;
 
-use serde_json::Value;
-
 use crate::engine::RunSummary;
-use crate::report::failure::{interval_cell, DualTable};
+use crate::report::failure::DualTable;
 use crate::report::figures::NamedFigure;
 use crate::report::html::{ReportFigure, ReportTable};
 use crate::report::table::sig;
+use crate::scenario::ScenarioSpec;
 
 pub(crate) struct DocTables<'a> {
     pub(crate) years: &'a DualTable,
@@ -56,13 +55,10 @@ pub(crate) fn pct(x: f64) -> String {
     }
 }
 
-pub(crate) fn climber_count(scenario: Option<&Value>) -> Option<u64> {
-    let st = scenario?.get("repair")?.get("stations")?.as_array()?;
-    Some(
-        st.iter()
-            .filter_map(|s| s.get("climbers").and_then(Value::as_u64))
-            .sum(),
-    )
+/// The climbers of all stations (none without a scenario or without repair).
+pub(crate) fn climber_count(scenario: Option<&ScenarioSpec>) -> Option<u64> {
+    let repair = scenario?.repair.as_ref()?;
+    Some(repair.stations.iter().map(|s| u64::from(s.climbers)).sum())
 }
 
 /// The band where most losses happened (or most cuts, when there is no loss).
@@ -109,49 +105,4 @@ pub(crate) fn worst_band(s: &RunSummary) -> (String, String) {
             "no loss seen; the band with the most cuts".into(),
         )
     }
-}
-
-pub(crate) fn sweep_cell(v: &Value) -> String {
-    match v {
-        Value::Null => String::new(),
-        Value::Bool(b) => b.to_string(),
-        Value::Number(n) => n.as_f64().map_or(n.to_string(), |f| sig(f, 4)),
-        Value::String(s) => s.clone(),
-        Value::Object(o) => match (
-            o.get("estimate").and_then(Value::as_f64),
-            o.get("ci_low").and_then(Value::as_f64),
-            o.get("ci_high").and_then(Value::as_f64),
-        ) {
-            (Some(e), Some(l), Some(h)) => interval_cell(e, l, h),
-            _ => short_json(v),
-        },
-        Value::Array(_) => short_json(v),
-    }
-}
-
-pub(crate) fn short_json(v: &Value) -> String {
-    let s = v.to_string();
-    if s.chars().count() > 60 {
-        s.chars().take(57).collect::<String>() + "..."
-    } else {
-        s
-    }
-}
-
-/// The rows of a trade study: the top-level array, or the first array of objects in it
-/// (preferring the usual names).
-pub(crate) fn sweep_rows(v: &Value) -> Option<&Vec<Value>> {
-    let is_rows = |a: &Vec<Value>| !a.is_empty() && a.iter().all(Value::is_object);
-    if let Some(a) = v.as_array() {
-        return is_rows(a).then_some(a);
-    }
-    let o = v.as_object()?;
-    for key in ["rows", "points", "results", "cases", "runs"] {
-        if let Some(a) = o.get(key).and_then(Value::as_array) {
-            if is_rows(a) {
-                return Some(a);
-            }
-        }
-    }
-    o.values().filter_map(Value::as_array).find(|a| is_rows(a))
 }

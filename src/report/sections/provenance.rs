@@ -1,7 +1,5 @@
 //! The provenance section: what made the run.
 
-use serde_json::Value;
-
 use crate::report::html::{ReportTable, Section};
 use crate::report::reader::RunFolder;
 use crate::report::table::{sig, Table};
@@ -9,28 +7,6 @@ use crate::report::table::{sig, Table};
 pub(crate) fn provenance_section(folder: &RunFolder) -> Section {
     let s = &folder.summary;
     let mut t = Table::new(["item", "value"]);
-    let get = |k: &str| folder.manifest.as_ref().and_then(|m| m.get(k));
-    let text = |v: &Value| match v {
-        Value::String(s) => s.clone(),
-        Value::Array(a) => a
-            .iter()
-            .map(|x| match x {
-                Value::String(s) => s.clone(),
-                Value::Array(p) => p
-                    .iter()
-                    .map(|y| y.as_str().map_or(y.to_string(), str::to_string))
-                    .collect::<Vec<_>>()
-                    .join(" "),
-                other => other.to_string(),
-            })
-            .collect::<Vec<_>>()
-            .join(if matches!(a.first(), Some(Value::Array(_))) {
-                ", "
-            } else {
-                " "
-            }),
-        other => other.to_string(),
-    };
     t.push(["tool version".to_string(), s.version.clone()]);
     t.push(["scenario".to_string(), s.scenario.clone()]);
     t.push(["scenario hash".to_string(), s.scenario_hash.clone()]);
@@ -57,16 +33,24 @@ pub(crate) fn provenance_section(folder: &RunFolder) -> Section {
     } else {
         t.push(["estimator".to_string(), "plain Monte Carlo".to_string()]);
     }
-    for (key, label) in [
-        ("crate_versions", "crate versions"),
-        ("random_streams", "random streams"),
-        ("threads", "threads (results do not depend on it)"),
-        ("command", "command"),
-        ("wall_time_s", "wall time (s)"),
-    ] {
-        if let Some(v) = get(key) {
-            t.push([label.to_string(), text(v)]);
-        }
+    if let Some(m) = &folder.manifest {
+        let crates: Vec<String> = m
+            .crate_versions
+            .iter()
+            .map(|(name, version)| format!("{name} {version}"))
+            .collect();
+        t.push(["crate versions".to_string(), crates.join(", ")]);
+        t.push(["random streams".to_string(), m.random_streams.clone()]);
+        t.push([
+            "threads (results do not depend on it)".to_string(),
+            m.threads.to_string(),
+        ]);
+        t.push(["command".to_string(), m.command.join(" ")]);
+        // As recorded (the shortest text that reads back as the same number).
+        t.push([
+            "wall time (s)".to_string(),
+            serde_json::to_string(&m.wall_time_s).unwrap_or_default(),
+        ]);
     }
     let mut paragraphs = Vec::new();
     if folder.manifest.is_none() {

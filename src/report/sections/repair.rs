@@ -1,7 +1,5 @@
 //! The repair section and the fleet paragraph.
 
-use serde_json::Value;
-
 use super::*;
 use crate::report::figures::NamedFigure;
 use crate::report::html::{ReportTable, Section};
@@ -107,7 +105,7 @@ pub(crate) fn fleet_paragraph(folder: &RunFolder, r: &crate::engine::RepairSumma
     let target = folder
         .scenario
         .as_ref()
-        .and_then(|v| v.get("repair")?.get("splice_p90_target_hours")?.as_f64());
+        .and_then(|v| v.repair.as_ref()?.splice_p90_target_hours);
     let mut o = match target {
         Some(t) if p90 <= t => format!(
             "Fleet: the 90th percentile of the time from cut to splice is {} h, within the requirement of {} h (repair.splice_p90_target_hours).",
@@ -124,31 +122,26 @@ pub(crate) fn fleet_paragraph(folder: &RunFolder, r: &crate::engine::RepairSumma
             sig(p90, 3)
         ),
     };
-    let recs: Vec<Value> = folder
+    let recs = folder
         .sweep
         .as_ref()
-        .and_then(|sw| sw.value.get("fleet_recommendations")?.as_array().cloned())
-        .unwrap_or_default();
+        .map_or(&[][..], |sw| &sw.result.fleet_recommendations[..]);
     if recs.is_empty() {
         o.push_str(" To size the fleet, sweep a station's climbers (`tether-risk sweep FILE --vary 'repair.stations[0].climbers=1,2,3'`): the sweep names the smallest fleet whose loss probability is within 10 % of the largest swept and, with a requirement, the smallest that meets it.");
     } else {
         for f in recs {
-            let text = |k: &str| f.get(k).and_then(Value::as_str).unwrap_or("").to_string();
-            let station = text("station");
-            let at = match text("other_values") {
-                v if v.is_empty() => String::new(),
+            let station = &f.station;
+            let at = match f.other_values.as_str() {
+                "" => String::new(),
                 v => format!(" at {v}"),
             };
-            if let Some(c) = f.get("recommended_climbers").and_then(Value::as_u64) {
+            if let Some(c) = f.recommended_climbers {
                 o.push_str(&format!(
                     " Trade study{at}: {c} climber(s) at {station} ({}).",
-                    text("basis")
+                    f.basis
                 ));
             }
-            if let Some(c) = f
-                .get("meets_splice_target_climbers")
-                .and_then(Value::as_u64)
-            {
+            if let Some(c) = f.meets_splice_target_climbers {
                 o.push_str(&format!(
                     " For the time-to-splice requirement{at}: {c} climber(s) at {station}."
                 ));

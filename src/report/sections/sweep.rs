@@ -1,12 +1,7 @@
 //! The trade-study report of a sweep folder.
 
-use super::*;
 use crate::report::html::{ReportFigure, ReportTable, Section};
 use crate::report::reader::SweepInput;
-use crate::report::table::Table;
-
-/// Largest number of trade-study rows shown in the report.
-pub(crate) const SWEEP_ROWS_SHOWN: usize = 200;
 
 /// The trade-study heading, naming what was varied: `tether.cross_link_spacing_km` reads
 /// "cross-link spacing", `tether.ribbon_count` "ribbon count".
@@ -51,118 +46,45 @@ pub fn varied_heading(paths: &[&str]) -> String {
 }
 
 pub(crate) fn sweep_section(sw: &SweepInput) -> Section {
-    // A sweep written by this version renders with the sweep's own table and front; anything
-    // else falls back to a generic reading of its rows.
-    if let Some(r) = serde_json::from_value::<crate::sweep::SweepResult>(sw.value.clone())
-        .ok()
-        .filter(|r| crate::report::folder::validate_sweep(r).is_ok())
-    {
-        let mut paragraphs = vec![format!(
-            "{} designs, at most {} histories each, seed {}.",
-            r.points.len(),
-            r.histories,
-            r.seed
-        )];
-        paragraphs.push(
-            "Designs on the mass against loss-probability front (only designs with a known loss probability; no other design is lighter and safer):".into(),
-        );
-        paragraphs.extend(crate::report::sweep::recommendation(&r));
-        paragraphs.push(r.common_random_numbers.clone());
-        paragraphs.push(r.spare_stock_basis.clone());
-        let mut figures = Vec::new();
-        for (svg, caption) in [
-            (
-                &sw.heatmap_svg,
-                "Loss probability over the design grid (sweep/heatmap.svg)",
-            ),
-            (
-                &sw.pareto_svg,
-                "Loss probability against total mass; the front is marked (sweep/pareto.svg)",
-            ),
-        ] {
-            if let Some(svg) = svg {
-                figures.push(ReportFigure {
-                    caption: caption.to_string(),
-                    svg: svg.clone(),
-                });
-            }
-        }
-        return Section {
-            heading: varied_heading(&r.axes.iter().map(|a| a.path.as_str()).collect::<Vec<_>>()),
-            paragraphs,
-            cards: Vec::new(),
-            figures,
-            tables: vec![ReportTable::from_table(
-                "Trade study: one row per design (sweep/sweep.md holds the same table)",
-                &crate::report::sweep::sweep_table(&r, true),
-            )],
-        };
-    }
-    let mut paragraphs = Vec::new();
-    if let Some(o) = sw.value.as_object() {
-        for (k, v) in o {
-            if let Some(text) = v.as_str() {
-                paragraphs.push(format!("{}: {text}", k.replace('_', " ")));
-            }
-        }
-    }
-    let mut tables = Vec::new();
-    match sweep_rows(&sw.value) {
-        Some(rows) => {
-            let mut headers: Vec<String> = Vec::new();
-            for r in rows {
-                if let Some(o) = r.as_object() {
-                    for k in o.keys() {
-                        if !headers.contains(k) {
-                            headers.push(k.clone());
-                        }
-                    }
-                }
-            }
-            let mut t = Table::new(headers.clone());
-            for r in rows.iter().take(SWEEP_ROWS_SHOWN) {
-                t.push(
-                    headers
-                        .iter()
-                        .map(|h| r.get(h).map_or(String::new(), sweep_cell)),
-                );
-            }
-            let more = if rows.len() > SWEEP_ROWS_SHOWN {
-                format!(
-                    " (first {SWEEP_ROWS_SHOWN} of {} rows; all are in sweep/sweep.json)",
-                    rows.len()
-                )
-            } else {
-                String::new()
-            };
-            tables.push(ReportTable::from_table(
-                format!("Trade study cases from sweep/sweep.json{more}"),
-                &t,
-            ));
-        }
-        None => paragraphs
-            .push("sweep/sweep.json holds no table of cases that this report can show.".into()),
-    }
+    let r = &sw.result;
+    let mut paragraphs = vec![format!(
+        "{} designs, at most {} histories each, seed {}.",
+        r.points.len(),
+        r.histories,
+        r.seed
+    )];
+    paragraphs.push(
+        "Designs on the mass against loss-probability front (only designs with a known loss probability; no other design is lighter and safer):".into(),
+    );
+    paragraphs.extend(crate::report::sweep::recommendation(r));
+    paragraphs.push(r.common_random_numbers.clone());
+    paragraphs.push(r.spare_stock_basis.clone());
     let mut figures = Vec::new();
-    for (svg, what) in [
-        (&sw.heatmap_svg, "Trade study heat map (sweep/heatmap.svg)"),
+    for (svg, caption) in [
+        (
+            &sw.heatmap_svg,
+            "Loss probability over the design grid (sweep/heatmap.svg)",
+        ),
         (
             &sw.pareto_svg,
-            "Loss probability against mass: the Pareto front of the cases (sweep/pareto.svg)",
+            "Loss probability against total mass; the front is marked (sweep/pareto.svg)",
         ),
     ] {
         if let Some(svg) = svg {
             figures.push(ReportFigure {
-                caption: what.to_string(),
+                caption: caption.to_string(),
                 svg: svg.clone(),
             });
         }
     }
     Section {
-        heading: varied_heading(&[]),
+        heading: varied_heading(&r.axes.iter().map(|a| a.path.as_str()).collect::<Vec<_>>()),
         paragraphs,
+        cards: Vec::new(),
         figures,
-        tables,
-        ..Default::default()
+        tables: vec![ReportTable::from_table(
+            "Trade study: one row per design (sweep/sweep.md holds the same table)",
+            &crate::report::sweep::sweep_table(r, true),
+        )],
     }
 }
