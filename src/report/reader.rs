@@ -115,6 +115,9 @@ pub struct RunFolder {
     /// Why the folder may be incomplete (no manifest listing its files), shown as a warning at
     /// the top of the report; `None` when the manifest vouches for every file.
     pub incomplete: Option<String>,
+    /// The report is rendered while the run is written ([`Completeness::Writing`]): the
+    /// manifest comes after it.
+    pub writing: bool,
 }
 
 /// Read a run-folder file with the run-file size cap.
@@ -279,6 +282,7 @@ impl RunFolder {
             sweep,
             notes,
             incomplete,
+            writing: matches!(completeness, Completeness::Writing),
         })
     }
 

@@ -30,10 +30,26 @@ pub fn monte_carlo_assumptions(s: &RunSummary, scenario: Option<&ScenarioSpec>) 
             "each history is one mission of {} years from an intact tether; histories are independent{}",
             super::failure::year_label(s.mission_years),
             match &s.rare_event {
-                Some(r) => format!(
-                    " and weighted by their likelihood ratio (rare-event estimator, strike rates on damaged bays multiplied by {})",
-                    sig(r.rare_event_factor, 3)
-                ),
+                Some(r) if r.condition_cascades => " and weighted by their likelihood ratio (conditional Monte Carlo at cuts: each cut adds the exact probability that its cascade severs the bay and the history goes on in the branch where the bay survives; first cuts aimed at bays where they can sever, damaged bays cut more often, the surviving branch drawn with more large holes)".to_string(),
+                Some(r) => {
+                    let mut what = Vec::new();
+                    if r.rare_event_factor > 1.0 {
+                        what.push(format!(
+                            "strike rates on damaged bays multiplied by {}",
+                            sig(r.rare_event_factor, 3)
+                        ));
+                    }
+                    if r.latent_bias > 0.0 {
+                        what.push(format!(
+                            "worst holes before a cut drawn from a mixture with weight {} on reaching the next critical width",
+                            sig(r.latent_bias, 3)
+                        ));
+                    }
+                    format!(
+                        " and weighted by their likelihood ratio (rare-event estimator: {})",
+                        what.join("; ")
+                    )
+                }
                 None => " and count equally".to_string(),
             }
         ),

@@ -46,12 +46,15 @@ pub(crate) fn key_section(folder: &RunFolder) -> Section {
             ),
         },
     });
-    let (band, note) = worst_band(s);
-    cards.push(KeyNumber {
-        label: "Where it is severed".into(),
-        value: band,
-        note: format!("altitude above the lunar surface; {note}"),
-    });
+    // A conditioned run's loss locations are counts of its biased measure: no card.
+    if s.tallies_withheld.is_none() {
+        let (band, note) = worst_band(s);
+        cards.push(KeyNumber {
+            label: "Where it is severed".into(),
+            value: band,
+            note: format!("altitude above the lunar surface; {note}"),
+        });
+    }
     if let (Some(r), Some(sp)) = (&s.repair, &s.spares) {
         let stock = r
             .recommended_initial_stock

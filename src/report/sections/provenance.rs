@@ -54,7 +54,12 @@ pub(crate) fn provenance_section(folder: &RunFolder) -> Section {
     }
     let mut paragraphs = Vec::new();
     if folder.manifest.is_none() {
-        paragraphs.push("No manifest.json: crate versions are not recorded.".into());
+        paragraphs.push(if folder.writing {
+            // The manifest lists this report's hash, so it is written after it.
+            "manifest.json (crate versions, command, threads, wall time, file hashes) is written after this report; `tether-risk report DIR` shows it here.".into()
+        } else {
+            "No manifest.json: crate versions are not recorded.".into()
+        });
     }
     paragraphs.push(format!(
         "Report rendered by tether-risk {} from the files in this folder; `tether-risk report DIR` renders it again.",

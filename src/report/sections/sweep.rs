@@ -57,6 +57,12 @@ pub(crate) fn sweep_section(sw: &SweepInput) -> Section {
         "Designs on the mass against loss-probability front (only designs with a known loss probability; no other design is lighter and safer):".into(),
     );
     paragraphs.extend(crate::report::sweep::recommendation(r));
+    if r.condition_cascades {
+        paragraphs.push(format!(
+            "Every design ran the conditional Monte Carlo at cuts: the loss probabilities are weighted estimates, and the columns losses, cuts/yr, stock and spares are left out (-). {}",
+            crate::engine::TALLIES_WITHHELD
+        ));
+    }
     paragraphs.push(r.common_random_numbers.clone());
     paragraphs.push(r.spare_stock_basis.clone());
     let mut figures = Vec::new();
