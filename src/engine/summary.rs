@@ -34,6 +34,10 @@ pub enum EstimateMethod {
     Weighted,
 }
 
+/// A loss probability from which on a weighted estimate is not a rare event: 1 %, where plain
+/// Monte Carlo sees a hundred losses in 10,000 histories (common practice, no source).
+pub const NOT_RARE: f64 = 0.01;
+
 /// Interval method of a plain Monte Carlo probability.
 pub const PLAIN_INTERVAL_METHOD: &str = "Clopper–Pearson (exact binomial)";
 /// Interval method of a resolved weighted probability (see [`crate::stats::wilson_effective`]).
@@ -101,7 +105,8 @@ impl LossProbability {
         }
     }
 
-    /// A weighted estimate with the resolution rules of [`WeightedProportion`].
+    /// A weighted estimate with the resolution rules of [`WeightedProportion`]; an unresolved
+    /// one at or above [`NOT_RARE`] says that plain Monte Carlo is the method for it.
     pub fn weighted(w: &WeightedProportion, confidence: f64) -> Self {
         let interval = w.interval(confidence).ok().flatten();
         LossProbability {
@@ -116,7 +121,15 @@ impl LossProbability {
                 "none: not resolved".into()
             },
             resolved: interval.is_some(),
-            unresolved_reason: w.unresolved.map(|u| u.to_string()),
+            unresolved_reason: w.unresolved.map(|u| {
+                // Weights degenerate when losses are common (many biased events a history):
+                // that is plain Monte Carlo's ground.
+                if w.estimate >= NOT_RARE {
+                    format!("{u}; the estimate is not small, and plain Monte Carlo (without the rare-event options) resolves a loss probability this large directly")
+                } else {
+                    u.to_string()
+                }
+            }),
             standard_error: w.standard_error,
             effective_sample_size: w.effective_sample_size,
             largest_weight_share: w.largest_weight_share,
