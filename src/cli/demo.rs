@@ -122,7 +122,10 @@ fn demo_with_policy(model: &Model) -> anyhow::Result<scenario::Scenario> {
 }
 
 /// A small trade study of cross-link spacing and ribbon count, into `sweep/` (the report picks it
-/// up). Fewer histories than the main run: it shows the method and the mass trade.
+/// up), with the conditional Monte Carlo at cuts: with plain Monte Carlo 20,000 histories a
+/// design saw a handful of losses and no two designs were distinguishable; conditioned, every
+/// design's probability is resolved to a few per cent in about two seconds for all six (the
+/// count columns are then left out, as the sweep says).
 fn sweep_spacing(
     threads: usize,
     dir: &std::path::Path,
@@ -139,6 +142,7 @@ fn sweep_spacing(
         run: tether_risk::engine::RunChoices {
             histories: Some(20_000),
             threads,
+            condition_cascades: true,
             ..Default::default()
         },
         ..Default::default()
