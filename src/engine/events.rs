@@ -1779,6 +1779,12 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
                 };
             }
         }
+        // No intact segment can hold a hole between the floor and its critical width (a law
+        // whose every hole cuts, such as fraction of width): nothing to draw, no random number
+        // used (the biased component then has probability 0 too).
+        if (0..n).all(|i| !s.intact[base + i] || floor_rate <= rate_c[i]) {
+            return 0.0;
+        }
         if biased {
             for i in 0..n {
                 if s.intact[base + i] {
