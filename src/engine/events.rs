@@ -1910,8 +1910,18 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
         e.sharing.distribute(&span[..n], tension, &mut loads[..n]);
         let mut total = 0.0;
         // Segments with the same load (all of a bay under equal sharing) have the same critical
-        // width and rate: computed once per distinct load (same bits in, same bits out).
+        // width and rate: computed once per distinct load (same bits in, same bits out), or
+        // looked up when the bay alone carries its own largest tension.
         let mut last: Option<(f64, f64, f64)> = None;
+        if let Some(u) = e.uniform_levels.as_ref() {
+            if a == b && tension.to_bits() == e.model.profile.bays[j].max_tension_n.to_bits() {
+                let intact = span[..n].iter().filter(|&&x| x).count();
+                if intact > 0 {
+                    // Used below only for segments whose load has the table's bits.
+                    last = Some(u.get(j, intact));
+                }
+            }
+        }
         for i in 0..n {
             if span[i] {
                 let (c, r) = match last {

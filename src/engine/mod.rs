@@ -282,6 +282,9 @@ pub struct Engine<'m> {
     sever: Option<crate::analytic::cascade::SeverTable>,
     /// With it: the biased untouched-bay cut process (None: the natural one).
     first_cut_bias: Option<ondemand::FirstCutBias>,
+    /// On-demand, uniform sharing, no streams: the loads' critical widths and rates by bay and
+    /// intact count (None: computed at each change).
+    uniform_levels: Option<ondemand::UniformLevels>,
     strict: bool,
     /// Climber loads on bays (absent without repair or with them switched off).
     climber_load: Option<crate::model::climber::ClimberLoadTable>,
@@ -403,6 +406,9 @@ impl<'m> Engine<'m> {
                 "tether.cross_link_hits is sampled by the on-demand sampler only: run with `--sampler on-demand` (the default), or remove tether.cross_link_hits to use the every-strike reference".into(),
             ));
         }
+        let uniform_levels = on_demand.as_ref().and_then(|od| {
+            ondemand::UniformLevels::new(od, &model.profile, model.load_sharing.as_ref())
+        });
         Ok(Engine {
             model,
             sampler,
@@ -422,6 +428,7 @@ impl<'m> Engine<'m> {
             latent_bias: 0.0,
             sever: None,
             first_cut_bias: None,
+            uniform_levels,
             strict: false,
             climber_load,
             stream_samplers,

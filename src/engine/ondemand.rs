@@ -133,6 +133,59 @@ pub struct OnDemandTables {
     pub(crate) stream_holes: Vec<HoleRateTable>,
 }
 
+/// Critical width and cut rate of every intact segment of a bay under its own largest tension,
+/// by the number of intact segments, for a uniform load-sharing rule without meteor streams:
+/// the values [`HistoryRun::loads_changed`](super::events) computes at each state change,
+/// computed once with the same calls on the same loads (same bits), so a change costs a look-up.
+/// A bay with a climber on it, or merged with its neighbours by a cut cross-link, carries
+/// another load and is computed as before.
+#[derive(Debug)]
+pub(crate) struct UniformLevels {
+    n: usize,
+    /// `(load N, critical width m, cut rate 1/s)` at `j * (n + 1) + intact`.
+    cells: Vec<(f64, f64, f64)>,
+}
+
+impl UniformLevels {
+    /// `None` with meteor streams (their rates join each segment's) or a rule whose loads depend
+    /// on which ribbons are cut. A uniform rule (`uniform_share_divisor` is `Some`) gives every
+    /// intact ribbon one load that depends only on how many are intact.
+    pub(crate) fn new(
+        od: &OnDemandTables,
+        profile: &TetherProfile,
+        sharing: &dyn crate::structure::load_sharing::LoadSharing,
+    ) -> Option<Self> {
+        use crate::structure::load_sharing::MAX_RIBBONS;
+        let n = profile.design.ribbon_count;
+        if !od.stream_holes.is_empty() || n > MAX_RIBBONS {
+            return None;
+        }
+        sharing.uniform_share_divisor(n, 1)?;
+        let mut cells = Vec::with_capacity(profile.bays.len() * (n + 1));
+        let mut mask = [false; MAX_RIBBONS];
+        let mut loads = [0.0f64; MAX_RIBBONS];
+        for (j, bay) in profile.bays.iter().enumerate() {
+            let hr = od.holes.bay(j);
+            cells.push((0.0, 0.0, 0.0));
+            for intact in 1..=n {
+                for (i, m) in mask[..n].iter_mut().enumerate() {
+                    *m = i < intact;
+                }
+                sharing.distribute(&mask[..n], bay.max_tension_n, &mut loads[..n]);
+                let c = critical_width_m(profile, j, loads[0]).max(hr.floor_m());
+                cells.push((loads[0], c, hr.rate_at_least_per_s(c)));
+            }
+        }
+        Some(UniformLevels { n, cells })
+    }
+
+    /// Load, critical width and cut rate of each of `intact` intact segments of bay `j`.
+    #[inline]
+    pub(crate) fn get(&self, j: usize, intact: usize) -> (f64, f64, f64) {
+        self.cells[j * (self.n + 1) + intact]
+    }
+}
+
 /// On-demand tables of one meteor stream at its peak.
 #[derive(Debug)]
 pub struct StreamTables {
