@@ -311,12 +311,20 @@ fn read_manifest(
     notes: &mut Vec<String>,
     problems: &mut Vec<String>,
 ) -> (Option<Manifest>, Option<String>) {
-    let manifest = read_json(&dir.join("manifest.json"), notes, "the manifest")
-        .map(serde_json::from_value::<Manifest>);
+    let raw = read_json(&dir.join("manifest.json"), notes, "the manifest");
+    // A manifest of an older version that lists no files is reported as before: it cannot
+    // vouch for the folder (a warning), but it is not refused; a damaged file list is.
+    let unlisted = raw
+        .as_ref()
+        .is_some_and(|v| v.is_object() && v.get("files").is_none());
+    let manifest = raw.map(serde_json::from_value::<Manifest>);
     let incomplete = match (completeness, &manifest) {
         (Completeness::Writing, _) => None,
         (Completeness::Check, None) => Some(
             "this folder has no readable manifest.json, which a run writes last: the run that wrote it may have been killed before it finished, so its files may not belong together".to_string(),
+        ),
+        (Completeness::Check, Some(Err(_))) if unlisted => Some(
+            "manifest.json is from an older version and lists no files, so it cannot vouch that the folder's files belong together".to_string(),
         ),
         (Completeness::Check, Some(Err(e))) => {
             problems.push(format!(

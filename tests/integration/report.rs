@@ -287,3 +287,19 @@ fn issue15_a_manifest_of_another_shape_is_refused() {
         "{e}"
     );
 }
+
+/// An older version's manifest without a file list: reported with a warning at the top, as
+/// before the typed reader (not refused).
+#[test]
+fn issue15_an_old_manifest_without_a_file_list_gives_a_warning_not_a_refusal() {
+    let dir = small_run("report-manifest-old");
+    let mp = dir.join("manifest.json");
+    let mut m: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(&mp).unwrap()).unwrap();
+    m.as_object_mut().unwrap().remove("files");
+    std::fs::write(&mp, m.to_string()).unwrap();
+    let o = run(&["report", dir.to_str().unwrap()]);
+    assert!(o.status.success(), "{}", stderr(&o));
+    let html = std::fs::read_to_string(dir.join("report.html")).unwrap();
+    assert!(html.contains("lists no files"), "no warning in the report");
+}
