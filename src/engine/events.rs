@@ -144,9 +144,8 @@ impl RareEvent {
     }
 
     /// Conditional Monte Carlo at a cut: the bay is severed now with probability `p_sever`.
-    /// Score it at the current weight and carry on in the surviving branch, the weight
-    /// multiplied by `1 - p_sever` (expected value preserved: w = w p + w (1 - p)). Returns
-    /// the score added.
+    /// Score it at the current weight (the caller then weights the surviving branch, see
+    /// `HistoryRun::condition_on_survival`). Returns the score added.
     pub(crate) fn score(&mut self, t: f64, p_sever: f64) -> f64 {
         let score = self.weight_at(t) * p_sever;
         self.captured += score;
@@ -326,8 +325,8 @@ const SURVIVOR_TILT_SHARE: f64 = 0.5;
 /// How the fresh worst holes of a bay are drawn: `tilted` (from `f_γ`, else natural), the odds
 /// factor γ whose density ratio `f_γ / f` the draw reports (1: none), the threshold h_l it acts
 /// on (`level` l, its width and rate `H(h_l)`), and a segment drawn naturally and left out of
-/// the ratio (the one about to be cut). Segments whose old hole already reaches the threshold width are drawn
-/// naturally.
+/// the ratio (the one about to be cut). Segments whose old hole already reaches the threshold
+/// width are drawn naturally.
 #[derive(Clone, Copy, Debug)]
 struct Tilt {
     tilted: bool,
@@ -1596,14 +1595,19 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
         // Severance probability under the tilted law (finite ln F scaled by γ) and under the
         // mixture the surviving branch is drawn from.
         let level = SURVIVOR_TILT_LEVEL.min(m - 1);
-        let gamma = Tilt {
+        let tilted_law = Tilt {
             gamma: SURVIVOR_TILT,
             level,
             ..Tilt::NONE
         };
-        let p_tilted =
-            sever_probability(table, m, &ln_f, Some(&gamma), &mut self.scratch.sever_work)
-                .unwrap_or(p);
+        let p_tilted = sever_probability(
+            table,
+            m,
+            &ln_f,
+            Some(&tilted_law),
+            &mut self.scratch.sever_work,
+        )
+        .unwrap_or(p);
         let p_mix = (1.0 - SURVIVOR_TILT_SHARE) * p + SURVIVOR_TILT_SHARE * p_tilted;
         let score = self.rare.score(t, p);
         let year = e.year_of(t);
@@ -1626,7 +1630,7 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
         for _ in 0..MAX_REDRAWS {
             let tilt = Tilt {
                 tilted: unit(&mut self.damage) < SURVIVOR_TILT_SHARE,
-                gamma: gamma.gamma,
+                gamma: SURVIVOR_TILT,
                 level,
                 threshold_rate_s: rate_h[level],
                 threshold_m: h[level],
@@ -2083,8 +2087,6 @@ impl<'a, 'm> HistoryRun<'a, 'm> {
     }
 }
 
-/// An exponential gap at `rate` (infinite when the rate is 0).
-#[inline]
 /// Severance probability of a cut's cascade over `m` segments whose final worst holes have
 /// `ln P(M_r < h_k) = ln_f[r][k]` ([`crate::analytic::cascade`]), under the natural law or,
 /// with `tilt`, with each segment's odds of reaching h_l multiplied by γ ([`Tilt`]). `None`
@@ -2136,6 +2138,8 @@ fn sever_probability(
     table.sever_probability(m, &bins[..m * w], work)
 }
 
+/// An exponential gap at `rate` (infinite when the rate is 0).
+#[inline]
 fn exp_gap(rng: &mut Pcg64Mcg, rate_s: f64) -> f64 {
     if rate_s > 0.0 {
         -unit_nonzero(rng).ln() / rate_s

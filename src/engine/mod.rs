@@ -144,6 +144,9 @@ pub enum EngineError {
     /// Bad run options.
     #[error("{0}")]
     Options(String),
+    /// The conditional Monte Carlo at cuts does not cover this model (the reason, named).
+    #[error("--condition-cascades {0}")]
+    NotCovered(String),
     /// A run setting out of its range.
     #[error("{0}")]
     Settings(#[from] RunSettingsError),
@@ -496,7 +499,7 @@ impl<'m> Engine<'m> {
     /// probability. Unbiased by construction; `false` is plain Monte Carlo, bit for bit.
     ///
     /// # Errors
-    /// [`EngineError::Options`] for what it does not cover, named: the every-strike sampler or
+    /// [`EngineError::NotCovered`] for what it does not cover, named: the every-strike sampler or
     /// synthetic rates, a load-sharing rule whose loads depend on which ribbons are cut,
     /// meteor streams, cross-link hits, and the latent-damage bias. It combines with the
     /// rate inflation of `--rare-event` (both are likelihood-ratio changes of one history).
@@ -506,7 +509,7 @@ impl<'m> Engine<'m> {
             self.first_cut_bias = None;
             return Ok(self);
         }
-        let refuse = |why: &str| Err(EngineError::Options(format!("--condition-cascades {why}")));
+        let refuse = |why: &str| Err(EngineError::NotCovered(why.to_string()));
         if self.on_demand.is_none() || self.sampler_kind != Sampler::OnDemand {
             return refuse("works on the on-demand sampler's worst holes: it needs `--sampler on-demand` and a scenario outside synthetic-rates mode");
         }

@@ -93,16 +93,16 @@ pub fn run_text(s: &RunSummary) -> String {
     ));
     match &s.rare_event {
         Some(r) if r.condition_cascades => o.push_str(&format!(
-            "  conditional Monte Carlo at cuts: {} cuts scored the probability that their cascade severs the bay; {} seen under the biased measure (rare-event factor {}) in {} histories.\n",
+            "  conditional Monte Carlo at cuts: {} cuts scored the probability that their cascade severs the bay; {} seen under the biased measure{} in {} histories.\n",
             r.scored_cascades,
             count_noun(r.losses_observed, "loss", "losses"),
-            sig(r.rare_event_factor, 3),
+            factor_note(r.rare_event_factor),
             s.histories
         )),
         Some(r) => o.push_str(&format!(
-            "  {} seen under the biased measure (rare-event factor {}) in {} histories.\n",
+            "  {} seen under the biased measure{} in {} histories.\n",
             count_noun(r.losses_observed, "loss", "losses"),
-            sig(r.rare_event_factor, 3),
+            factor_note(r.rare_event_factor),
             s.histories
         )),
         None => o.push_str(&format!(
@@ -570,5 +570,15 @@ mod erased {
             serde_json::to_string_pretty(self).unwrap_or_else(|e| format!("{{\"error\": \"{e}\"}}"))
                 + "\n"
         }
+    }
+}
+
+/// ` (rare-event factor X)` when strike rates on damaged bays were multiplied, else nothing (a
+/// conditioned or latent-bias run alone leaves the factor at 1).
+pub(crate) fn factor_note(factor: f64) -> String {
+    if factor > 1.0 {
+        format!(" (rare-event factor {})", sig(factor, 3))
+    } else {
+        String::new()
     }
 }

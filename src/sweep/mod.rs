@@ -109,6 +109,15 @@ pub enum SweepError {
     /// A run setting is out of range or not available for a study.
     #[error("{0}")]
     RunSettings(#[from] RunSettingsError),
+    /// The conditional Monte Carlo at cuts does not cover a point's design (an input error).
+    #[error("grid point {label}: {source}")]
+    NotCovered {
+        /// The point's varied values.
+        label: String,
+        /// The engine's reason.
+        #[source]
+        source: EngineError,
+    },
     /// The Monte Carlo failed at run time.
     #[error("grid point {label}: the simulation failed: {message}")]
     Run {
@@ -1158,6 +1167,9 @@ fn evaluate_point(
                 &mut p,
                 format!("the strikes cannot be sampled: {m}"),
             )))
+        }
+        Err(e @ EngineError::NotCovered(_)) => {
+            return Err(SweepError::NotCovered { label, source: e })
         }
         Err(e) => {
             return Err(SweepError::Run {

@@ -335,6 +335,12 @@ fn evaluate(
         Err(EngineError::Model(m)) => {
             return Ok(infeasible(format!("the strikes cannot be sampled: {m}")))
         }
+        Err(e @ EngineError::NotCovered(_)) => {
+            return Err(SweepError::NotCovered {
+                label: label.to_string(),
+                source: e,
+            })
+        }
         Err(e) => {
             return Err(SweepError::Run {
                 label: label.to_string(),
@@ -485,12 +491,10 @@ pub fn run_sensitivity(
                 // A variant the conditioned estimator does not cover (local sharing, say) is
                 // left out with the engine's reason rather than run by another method: the
                 // row's two ends and the base must come from one estimator.
-                Err(SweepError::Run { message, .. })
-                    if run.condition_cascades && message.starts_with("--condition-cascades") =>
-                {
+                Err(SweepError::NotCovered { source, .. }) => {
                     skipped.push(SkippedInput {
                         input: input.name.into(),
-                        reason: format!("{label}: {message}"),
+                        reason: format!("{label}: {source}"),
                     });
                     break;
                 }

@@ -183,6 +183,18 @@ fn what_it_does_not_cover_is_refused_by_name() {
     assert!(e.contains("on-demand"), "{e}");
 }
 
+/// Runs the binary with `--condition-cascades --force` added, checks it succeeded and printed no
+/// exact-binomial label, and returns its standard output.
+fn run_conditioned(args: &[&str]) -> String {
+    let mut a = args.to_vec();
+    a.extend(["--condition-cascades", "--force"]);
+    let r = run(&a);
+    assert!(r.status.success(), "{r:?}");
+    let text = stdout(&r);
+    assert!(!text.contains("Clopper"), "{text}");
+    text
+}
+
 #[test]
 fn through_the_binary_it_never_prints_an_exact_binomial_label() {
     let f = scenario_with("conditioned-binary", |v| {
@@ -193,39 +205,31 @@ fn through_the_binary_it_never_prints_an_exact_binomial_label() {
     let f = f.to_str().unwrap();
     let o = out.to_str().unwrap();
     // Too few histories: the text says "not resolved" and prints no interval.
-    let r = run(&[
+    let text = run_conditioned(&[
         "simulate",
         f,
         "--histories",
         "300",
         "--seed",
         "2",
-        "--condition-cascades",
         "--out",
         o,
-        "--force",
     ]);
-    assert!(r.status.success(), "{r:?}");
-    let text = stdout(&r);
-    assert!(!text.contains("Clopper"), "{text}");
     assert!(text.contains("not resolved"), "{text}");
     assert!(text.contains("left out of this run"), "{text}");
-    let r = run(&[
+    let v: Value = serde_json::from_str(&run_conditioned(&[
         "simulate",
         f,
         "--histories",
         "20000",
         "--seed",
         "2",
-        "--condition-cascades",
         "--out",
         o,
-        "--force",
         "--format",
         "json",
-    ]);
-    assert!(r.status.success(), "{r:?}");
-    let v: Value = serde_json::from_str(&stdout(&r)).unwrap();
+    ]))
+    .unwrap();
     let lp = &v["loss_probability"];
     assert_eq!(lp["method"], "weighted");
     assert!(lp["standard_error"].as_f64().unwrap() > 0.0);
@@ -245,21 +249,16 @@ fn through_the_binary_it_never_prints_an_exact_binomial_label() {
 fn sweep_and_sensitivity_run_every_point_conditioned_and_say_so() {
     let out = temp_dir("conditioned-sweep-out");
     let o = out.to_str().unwrap();
-    let r = run(&[
+    let text = run_conditioned(&[
         "sweep",
         "demo",
         "--vary",
         "tether.ribbon_width_mm=11,13",
         "--histories",
         "3000",
-        "--condition-cascades",
         "--out",
         o,
-        "--force",
     ]);
-    assert!(r.status.success(), "{r:?}");
-    let text = stdout(&r);
-    assert!(!text.contains("Clopper"), "{text}");
     assert!(text.contains("left out (-)"), "{text}");
     let v: Value =
         serde_json::from_str(&std::fs::read_to_string(out.join("sweep.json")).unwrap()).unwrap();
@@ -274,20 +273,17 @@ fn sweep_and_sensitivity_run_every_point_conditioned_and_say_so() {
     assert_eq!(plan["condition_cascades"], true);
 
     let out = temp_dir("conditioned-sensitivity-out");
-    let r = run(&[
+    let v: Value = serde_json::from_str(&run_conditioned(&[
         "sensitivity",
         "demo",
         "--histories",
         "300",
-        "--condition-cascades",
         "--out",
         out.to_str().unwrap(),
-        "--force",
         "--format",
         "json",
-    ]);
-    assert!(r.status.success(), "{r:?}");
-    let v: Value = serde_json::from_str(&stdout(&r)).unwrap();
+    ]))
+    .unwrap();
     assert_eq!(v["condition_cascades"], true);
     assert_eq!(v["base"]["loss_probability"]["method"], "weighted");
     assert!(v["base"]["losses"].is_null());

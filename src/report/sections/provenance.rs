@@ -24,9 +24,9 @@ pub(crate) fn provenance_section(folder: &RunFolder) -> Section {
         t.push([
             "estimator".to_string(),
             format!(
-                "{}; rare-event factor {}; effective sample size {}",
+                "{}{}; effective sample size {}",
                 r.method,
-                sig(r.rare_event_factor, 3),
+                crate::report::run::factor_note(r.rare_event_factor),
                 sig(r.effective_sample_size, 3)
             ),
         ]);
