@@ -2464,7 +2464,8 @@ mod tests {
         let mut bins = vec![0usize; m];
         loop {
             let p: f64 = bins.iter().enumerate().map(|(r, &b)| rows[r][b]).product();
-            let severs = (0..m).all(|k| bins.iter().filter(|&&b| b <= k).count() >= k + 1);
+            // At least k + 1 segments at or above h_k, for every k.
+            let severs = (0..m).all(|k| bins.iter().filter(|&&b| b <= k).count() > k);
             if severs {
                 total += p;
             }
