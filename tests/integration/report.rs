@@ -231,17 +231,23 @@ fn report_refuses_a_damaged_summary() {
     assert!(stderr(&o).contains("summary.json"), "{}", stderr(&o));
 }
 
+/// Reads a run-folder JSON file, changes it with `f`, writes it back.
+fn edit_json(path: &std::path::Path, f: impl FnOnce(&mut serde_json::Value)) {
+    let mut v: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(path).unwrap()).unwrap();
+    f(&mut v);
+    std::fs::write(path, v.to_string()).unwrap();
+}
+
 // Issue 15 item 1: the optional files are read as the types their writers define, with no
 // guessing; a file of another shape leaves its section out with a note naming the file and
 // serde's reason, and the report is still written.
 #[test]
 fn issue15_optional_files_of_another_shape_are_left_out_with_the_reason() {
     let dir = small_run("report-shapes");
-    let design = dir.join("design.json");
-    let mut d: serde_json::Value =
-        serde_json::from_str(&std::fs::read_to_string(&design).unwrap()).unwrap();
-    d.as_object_mut().unwrap().remove("model_statement");
-    std::fs::write(&design, d.to_string()).unwrap();
+    edit_json(&dir.join("design.json"), |d| {
+        d.as_object_mut().unwrap().remove("model_statement");
+    });
     std::fs::write(dir.join("estimate.json"), "{\"scenario_hash\": 3}").unwrap();
     std::fs::create_dir_all(dir.join("sweep")).unwrap();
     std::fs::write(dir.join("sweep/sweep.json"), "{\"cases\": [{\"a\": 1.0}]}").unwrap();
@@ -272,11 +278,9 @@ fn issue15_optional_files_of_another_shape_are_left_out_with_the_reason() {
 #[test]
 fn issue15_a_manifest_of_another_shape_is_refused() {
     let dir = small_run("report-manifest-shape");
-    let mp = dir.join("manifest.json");
-    let mut m: serde_json::Value =
-        serde_json::from_str(&std::fs::read_to_string(&mp).unwrap()).unwrap();
-    m["files"] = serde_json::json!(3);
-    std::fs::write(&mp, m.to_string()).unwrap();
+    edit_json(&dir.join("manifest.json"), |m| {
+        m["files"] = serde_json::json!(3)
+    });
     let o = run(&["report", dir.to_str().unwrap()]);
     assert_eq!(o.status.code(), Some(2), "{}", stderr(&o));
     let e = stderr(&o);
@@ -293,11 +297,9 @@ fn issue15_a_manifest_of_another_shape_is_refused() {
 #[test]
 fn issue15_an_old_manifest_without_a_file_list_gives_a_warning_not_a_refusal() {
     let dir = small_run("report-manifest-old");
-    let mp = dir.join("manifest.json");
-    let mut m: serde_json::Value =
-        serde_json::from_str(&std::fs::read_to_string(&mp).unwrap()).unwrap();
-    m.as_object_mut().unwrap().remove("files");
-    std::fs::write(&mp, m.to_string()).unwrap();
+    edit_json(&dir.join("manifest.json"), |m| {
+        m.as_object_mut().unwrap().remove("files");
+    });
     let o = run(&["report", dir.to_str().unwrap()]);
     assert!(o.status.success(), "{}", stderr(&o));
     let html = std::fs::read_to_string(dir.join("report.html")).unwrap();
