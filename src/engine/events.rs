@@ -2179,6 +2179,9 @@ impl Engine<'_> {
         if let Some(v) = self.model.scenario.synthetic_rates {
             return self.run_validation_history(index, seed, &v, scratch, tally, log);
         }
+        if self.active_count_only().is_ok() {
+            return self.run_count_only_history(index, seed, scratch, tally, log, stop);
+        }
         HistoryRun::new(self, index, seed, scratch, tally, log, stop).run(index)
     }
 

@@ -12,6 +12,7 @@
 //! 180 bytes with 15 mission years: 18 MB at 1e8 histories), because its floating-point sums must be
 //! added in batch order to stay bit-reproducible.
 
+mod count_only;
 mod events;
 mod history;
 mod ondemand;
@@ -288,6 +289,9 @@ pub struct Engine<'m> {
     /// On-demand, uniform sharing, no streams: the loads' critical widths and rates by bay and
     /// intact count (None: computed at each change).
     uniform_levels: Option<ondemand::UniformLevels>,
+    /// On-demand with every bay described by its cut count: the shortcut's tables (see
+    /// `count_only.rs`), or why the scenario does not qualify.
+    count_only: Result<count_only::CountOnly, &'static str>,
     strict: bool,
     /// Climber loads on bays (absent without repair or with them switched off).
     climber_load: Option<crate::model::climber::ClimberLoadTable>,
@@ -412,6 +416,25 @@ impl<'m> Engine<'m> {
         let uniform_levels = on_demand.as_ref().and_then(|od| {
             ondemand::UniformLevels::new(od, &model.profile, model.load_sharing.as_ref())
         });
+        let count_only = match on_demand.as_ref() {
+            None => Err("the every-strike sampler or synthetic-rates mode"),
+            Some(od) => match count_only::ineligible(
+                model,
+                repair.is_some(),
+                climber_load.is_some(),
+                cross_links.is_some(),
+                uniform_levels.as_ref(),
+                od,
+            ) {
+                Some(why) => Err(why),
+                None => uniform_levels
+                    .as_ref()
+                    .and_then(|u| {
+                        count_only::CountOnly::new(model, od, u, model.load_sharing.as_ref())
+                    })
+                    .ok_or("no bay can be cut"),
+            },
+        };
         Ok(Engine {
             model,
             sampler,
@@ -432,6 +455,7 @@ impl<'m> Engine<'m> {
             sever: None,
             first_cut_bias: None,
             uniform_levels,
+            count_only,
             strict: false,
             climber_load,
             stream_samplers,
@@ -558,6 +582,29 @@ impl<'m> Engine<'m> {
     pub fn with_invariant_checks(mut self) -> Self {
         self.strict = true;
         self
+    }
+
+    /// Run every history through the general on-demand loop, even where the count-only
+    /// shortcut applies (for comparing the two; results differ draw for draw, not in law).
+    pub fn without_count_only(mut self) -> Self {
+        if self.count_only.is_ok() {
+            self.count_only = Err("switched off");
+        }
+        self
+    }
+
+    /// Whether histories take the count-only shortcut (`Ok`) or, if not, why (`Err`): every
+    /// bay described by its cut count (every hole above the floor cuts, uniform sharing,
+    /// constant tensions; see `engine/count_only.rs`) and no weighted estimator.
+    pub fn count_only_path(&self) -> Result<(), &'static str> {
+        self.active_count_only().map(|_| ())
+    }
+
+    fn active_count_only(&self) -> Result<&count_only::CountOnly, &'static str> {
+        if self.is_weighted() {
+            return Err("a weighted estimator is on");
+        }
+        self.count_only.as_ref().map_err(|why| *why)
     }
 
     /// The rare-event factor (1: plain Monte Carlo).

@@ -12,6 +12,7 @@ mod bad_input;
 mod commands;
 mod compare;
 mod conditioned;
+mod count_only;
 mod cross_links;
 mod damage_memory;
 mod determinism;
