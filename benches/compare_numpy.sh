@@ -16,8 +16,8 @@
 # tool's events for case b as NumPy counts them: cuts and repairs).
 set -euo pipefail
 cd "$(dirname "$0")/.."
-HA=${1:-200000}
-HB=${2:-20000}
+HA=${1:-2000000}
+HB=${2:-200000}
 BIN=${TETHER_RISK:-target/release/tether-risk}
 WORK=${WORK_DIR:-$(mktemp -d)}
 PY=${PYTHON:-python3}

@@ -86,7 +86,7 @@ def case_a_dense(rates, ks, ns, years, histories, rng, chunk=2000):
     return losses, draws
 
 
-def case_a_sparse(rates, ks, ns, years, histories, rng, chunk=1_000_000):
+def case_a_sparse(rates, ks, ns, years, histories, rng, chunk=200_000):
     n = int(ns[0])
     assert (ns == n).all(), "sparse case assumes one ribbon count"
     seg_rate = np.repeat(rates / n, n)  # segment s = bay * n + ribbon

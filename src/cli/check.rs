@@ -37,6 +37,9 @@ struct WorkReport {
     every_strike_seconds_one_thread: f64,
     budget_events: f64,
     every_strike_within_budget: bool,
+    /// How on-demand runs its histories, with the reason when the count-only shortcut does not
+    /// apply.
+    history_path: String,
 }
 
 /// Time `sampler` for at most `limit` wall time; seconds per history (every-strike: from the
@@ -100,6 +103,12 @@ fn work_report(model: &Model) -> Option<WorkReport> {
         every_strike_seconds_one_thread: es * histories as f64,
         budget_events: WORK_BUDGET_EVENTS,
         every_strike_within_budget: w.strikes_per_history * histories as f64 <= WORK_BUDGET_EVENTS,
+        history_path: match engine.count_only_path() {
+            Ok(()) => "count-only bays (every bay described by its cut count: cost per cut)".into(),
+            Err(why) => {
+                format!("general event loop (the count-only shortcut does not apply: {why})")
+            }
+        },
     })
 }
 
@@ -117,11 +126,13 @@ fn work_text(w: &WorkReport) -> String {
         "\nExpected work of the run ({} histories, estimates from the rates; times measured now on this machine, one thread)\n  \
          state changes per history (cuts, splices): {:.3}\n  \
          strikes per history above the floor (every-strike draws each): {:.4}\n  \
+         on-demand histories: {}\n  \
          estimated time, on-demand sampler (default): {}\n  \
          estimated time, every-strike sampler: {}{}\n",
         w.histories,
         w.state_changes_per_history,
         w.strikes_per_history,
+        w.history_path,
         t(w.on_demand_seconds_one_thread),
         t(w.every_strike_seconds_one_thread),
         if w.every_strike_within_budget {

@@ -448,7 +448,42 @@ impl Engine<'_> {
         let y = (time_s / crate::scenario::SECONDS_PER_YEAR) as usize;
         y.min(self.years.saturating_sub(1))
     }
+}
 
+/// [`Engine::year_of`] for a history's non-decreasing times without a division per event: the
+/// year is recomputed only once a time reaches just below the next year boundary. Below
+/// `(y + 1) Y (1 - 1e-12)` the rounded quotient t / Y is certainly below y + 1, so the year is
+/// the one `year_of` gives, bit for bit.
+#[derive(Clone, Copy, Debug)]
+pub(crate) struct YearClock {
+    year: usize,
+    recheck_s: f64,
+}
+
+impl YearClock {
+    pub(crate) fn new() -> Self {
+        YearClock {
+            year: 0,
+            recheck_s: f64::NEG_INFINITY,
+        }
+    }
+
+    /// The mission year of `t`, which must not be earlier than the previous call's.
+    #[inline]
+    pub(crate) fn year(&mut self, e: &Engine<'_>, t: f64) -> usize {
+        if t >= self.recheck_s {
+            self.year = e.year_of(t);
+            self.recheck_s =
+                (self.year + 1) as f64 * crate::scenario::SECONDS_PER_YEAR * (1.0 - 1e-12);
+            if self.year + 1 >= e.years {
+                self.recheck_s = f64::INFINITY; // the last year absorbs every later time
+            }
+        }
+        self.year
+    }
+}
+
+impl Engine<'_> {
     /// Replace up to `segments` cut segments of `bay` with new ribbon.
     pub(crate) fn splice(
         &self,

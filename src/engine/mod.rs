@@ -53,6 +53,9 @@ use crate::repair::{DispatchPolicy, RepairPlan};
 use crate::scenario::SECONDS_PER_YEAR;
 use crate::structure::load_sharing::LoadSharing;
 
+/// [`Engine::history_path`] of the count-only shortcut.
+pub const COUNT_ONLY_PATH: &str = "count-only bays";
+
 /// Histories per batch. Fixed: it is part of the reproducibility contract.
 pub const BATCH_SIZE: u64 = 1000;
 
@@ -598,6 +601,20 @@ impl<'m> Engine<'m> {
     /// constant tensions; see `engine/count_only.rs`) and no weighted estimator.
     pub fn count_only_path(&self) -> Result<(), &'static str> {
         self.active_count_only().map(|_| ())
+    }
+
+    /// How histories are run, for the record: `count-only bays`, `general event loop`
+    /// (on-demand), `strike by strike` (every-strike) or `synthetic-rates chain`.
+    pub fn history_path(&self) -> &'static str {
+        if self.model.scenario.synthetic_rates.is_some() {
+            "synthetic-rates chain"
+        } else if self.sampler_kind == Sampler::EveryStrike {
+            "strike by strike"
+        } else if self.count_only_path().is_ok() {
+            COUNT_ONLY_PATH
+        } else {
+            "general event loop"
+        }
     }
 
     fn active_count_only(&self) -> Result<&count_only::CountOnly, &'static str> {

@@ -286,6 +286,11 @@ pub struct RunSummary {
     /// Damage sampler that ran the histories (`on-demand` or `every-strike`).
     #[serde(default)]
     pub sampler: String,
+    /// How the histories were run (`Engine::history_path`): `count-only bays` (the on-demand
+    /// shortcut where every bay is described by its cut count), `general event loop`,
+    /// `strike by strike` or `synthetic-rates chain`. Empty in files of older versions.
+    #[serde(default)]
+    pub history_path: String,
     /// How the two strike tallies below were obtained: `counted` (every-strike) or
     /// `expected from the rates` (on-demand, which draws no individual strike).
     #[serde(default)]
@@ -536,6 +541,7 @@ impl RunSummary {
                 0.0
             },
             sampler: engine.sampler_kind().name().to_string(),
+            history_path: engine.history_path().to_string(),
             strike_tallies: match engine.sampler_kind() {
                 super::Sampler::EveryStrike => "counted".to_string(),
                 super::Sampler::OnDemand => "expected from the rates".to_string(),

@@ -4,19 +4,23 @@
 //! chain; Barlow & Proschan), so the engine's bookkeeping can be checked exactly.
 //!
 //! Simulated as a continuous-time Markov chain by the direct method (Gillespie 1977, J. Phys.
-//! Chem. 81, 2340): the next event comes after an exponential time at the total rate, and is a
-//! cut or a repair in proportion to their rates. All draws use the strike stream.
+//! Chem. 81, 2340): the next event comes after an exponential time at the total rate (ziggurat
+//! draw), and is a cut or a repair in proportion to their rates. All draws use the strike
+//! stream.
 //!
 //! With the rare-event estimator on, the cut rate of intact segments in bays that already have a
 //! cut is multiplied by the rare-event factor, and the history carries the likelihood ratio
 //! factor^-(such cuts) x exp((factor - 1) x lambda x integral of their number over time) — the
 //! same failure biasing by rate inflation as for strikes (Heidelberger 1995, ACM TOMACS 5, 43).
 
+use rand::RngExt;
+use rand_distr::Exp1;
+
 use crate::scenario::SyntheticRatesSettings;
 
-use super::history::{HistoryOutcome, LogEvent, Scratch};
+use super::history::{HistoryOutcome, LogEvent, Scratch, YearClock};
 use super::rng::{stream, Purpose};
-use super::sampler::{unit, unit_nonzero};
+use super::sampler::unit;
 use super::tally::{Loss, LossCause, Tally};
 use super::Engine;
 
@@ -30,6 +34,9 @@ impl Engine<'_> {
         tally: &mut Tally,
         log: Option<&mut Vec<LogEvent>>,
     ) -> HistoryOutcome {
+        if self.model.profile.bays.len() == 1 && self.rare_event_factor == 1.0 {
+            return self.run_one_bay_chain(index, seed, v, scratch, tally, log);
+        }
         let mut rng = stream(seed, Purpose::Strikes, index);
         scratch.reset();
         let n = self.ribbons as u64;
@@ -45,6 +52,7 @@ impl Engine<'_> {
         // Bays with cuts and their counts (few at any time).
         let mut damaged: Vec<(u32, u64)> = std::mem::take(&mut scratch.validation_bays);
         damaged.clear();
+        let mut clock = YearClock::new();
         loop {
             let intact_damaged: u64 = damaged.iter().map(|&(_, k)| n - k).sum();
             let undamaged_bays = bays - damaged.len() as u64;
@@ -56,7 +64,9 @@ impl Engine<'_> {
             if total <= 0.0 {
                 break;
             }
-            let dt = -unit_nonzero(&mut rng).ln() / total;
+            // Ziggurat exponential (rand_distr's Exp1; Marsaglia & Tsang 2000): no logarithm on
+            // the common path.
+            let dt = rng.sample::<f64, _>(Exp1) / total;
             let dt_in_mission = dt.min(self.mission_s - t);
             log_w += (factor - 1.0) * lambda * intact_damaged as f64 * dt_in_mission;
             t += dt;
@@ -99,7 +109,7 @@ impl Engine<'_> {
                 out.cuts += 1;
                 scratch.note_max_cuts(k as u32);
                 tally.cuts_by_band[self.bay_band[bay as usize] as usize] += 1;
-                if let Some(c) = tally.cuts_by_year.get_mut(self.year_of(t)) {
+                if let Some(c) = tally.cuts_by_year.get_mut(clock.year(self, t)) {
                     *c += 1;
                 }
                 if n - k < required {
@@ -127,13 +137,102 @@ impl Engine<'_> {
                     damaged.swap_remove(pick);
                 }
                 tally.repair.splices += 1;
-                if let Some(c) = tally.repair.splices_by_year.get_mut(self.year_of(t)) {
+                if let Some(c) = tally.repair.splices_by_year.get_mut(clock.year(self, t)) {
                     *c += 1;
                 }
             }
         }
         scratch.validation_bays = damaged;
         out.weight = if factor > 1.0 { log_w.exp() } else { 1.0 };
+        let end = out.loss.map_or(self.mission_s, |l| l.time_s);
+        self.close_history(index, end, scratch, tally, &out, log);
+        out
+    }
+
+    /// One bay, plain Monte Carlo: the same chain by the same direct method, its state a single
+    /// cut count k, so each state's exponential scale 1 / (up_k + down_k) and cut probability
+    /// up_k / (up_k + down_k) are tabulated once per history instead of summed over the
+    /// damaged bays and divided at every event.
+    fn run_one_bay_chain(
+        &self,
+        index: u64,
+        seed: u64,
+        v: &SyntheticRatesSettings,
+        scratch: &mut Scratch,
+        tally: &mut Tally,
+        log: Option<&mut Vec<LogEvent>>,
+    ) -> HistoryOutcome {
+        use crate::structure::load_sharing::MAX_RIBBONS;
+        let mut rng = stream(seed, Purpose::Strikes, index);
+        scratch.reset();
+        let n = self.ribbons.min(MAX_RIBBONS);
+        let required = (v.required_ribbons as usize).min(n);
+        let crews = v.crews_per_bay as usize;
+        // Lost once fewer than `required` are intact: at k = fail cuts.
+        let fail = n - required + 1;
+        let mut scale_s = [0.0f64; MAX_RIBBONS + 1];
+        let mut p_cut = [0.0f64; MAX_RIBBONS + 1];
+        for k in 0..fail {
+            let up = v.cut_rate_per_s * (n - k) as f64;
+            let down = v.repair_rate_per_s * k.min(crews) as f64;
+            let total = up + down;
+            scale_s[k] = if total > 0.0 { 1.0 / total } else { 0.0 };
+            p_cut[k] = if total > 0.0 { up / total } else { 0.0 };
+        }
+        let band = self.bay_band[0] as usize;
+        let mut out = HistoryOutcome {
+            weight: 1.0,
+            ..HistoryOutcome::default()
+        };
+        let mut clock = YearClock::new();
+        let mut t = 0.0;
+        let mut k = 0usize;
+        let mut max_k = 0usize;
+        let mut log = log;
+        loop {
+            if scale_s[k] == 0.0 {
+                break; // no event can happen
+            }
+            t += rng.sample::<f64, _>(Exp1) * scale_s[k];
+            if t > self.mission_s {
+                break;
+            }
+            let y = clock.year(self, t);
+            // Branch-free step (the cut-or-repair choice is a coin the predictor cannot learn).
+            // (At k = 0 no repair is possible, p_cut = 1 and the coin always says cut.)
+            let cut = usize::from(unit(&mut rng) < p_cut[k]);
+            k = k + 2 * cut - 1;
+            max_k = max_k.max(k);
+            out.cuts += cut as u32;
+            if let Some(c) = tally.cuts_by_year.get_mut(y) {
+                *c += cut as u64;
+            }
+            if let Some(c) = tally.repair.splices_by_year.get_mut(y) {
+                *c += 1 - cut as u64;
+            }
+            if let Some(l) = log.as_deref_mut() {
+                if cut == 1 {
+                    l.push(LogEvent::Cut {
+                        time_s: t,
+                        bay: 0,
+                        newly_cut: 1,
+                        survivors: (n - k) as u32,
+                    });
+                }
+            }
+            if k >= fail {
+                out.loss = Some(Loss {
+                    time_s: t,
+                    bay: 0,
+                    cause: LossCause::DirectCut,
+                });
+                break;
+            }
+        }
+        tally.cuts_by_band[band] += u64::from(out.cuts);
+        // Every splice undid one cut: splices = cuts - the final cut count.
+        tally.repair.splices += u64::from(out.cuts) - k as u64;
+        scratch.note_max_cuts(max_k as u32);
         let end = out.loss.map_or(self.mission_s, |l| l.time_s);
         self.close_history(index, end, scratch, tally, &out, log);
         out

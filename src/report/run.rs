@@ -162,12 +162,13 @@ pub fn run_text(s: &RunSummary) -> String {
         pct(s.cascade_cut_fraction)
     ));
     o.push_str(&format!(
-        "Time with at least one cut bay: {} of the mission; strikes per history {}; sub-critical holes per history {} ({}, {} sampler)\n\n",
+        "Time with at least one cut bay: {} of the mission; strikes per history {}; sub-critical holes per history {} ({}, {} sampler{})\n\n",
         pct(s.fraction_of_time_with_cut_bay),
         sig(s.strikes_per_history, 4),
         sig(s.subcritical_holes_per_history, 4),
         if s.strike_tallies.is_empty() { "counted" } else { s.strike_tallies.as_str() },
-        if s.sampler.is_empty() { "every-strike" } else { s.sampler.as_str() }
+        if s.sampler.is_empty() { "every-strike" } else { s.sampler.as_str() },
+        if s.history_path == crate::engine::COUNT_ONLY_PATH { ", count-only bays" } else { "" }
     ));
     if let (Some(r), Some(sp)) = (&s.repair, &s.spares) {
         o.push_str("Repair logistics\n");

@@ -56,6 +56,8 @@ pub fn monte_carlo_assumptions(s: &RunSummary, scenario: Option<&ScenarioSpec>) 
         "strikes on each bay arrive as a Poisson process whose rate (flux model × scale factor × shielding × focusing × exposed ribbon area) is constant over the mission".into(),
         if s.sampler == "every-strike" {
             "every strike above the sampling floor is drawn (the reference sampler)".into()
+        } else if s.history_path == crate::engine::COUNT_ONLY_PATH {
+            "every hole above the sampling floor cuts whatever the load, loads are shared uniformly and bay tensions are constant, so each bay is described by its cut count alone: the on-demand sampler draws only cut candidates at each bay's largest cut rate and keeps each with probability rate now / largest rate (thinning; the same distribution as drawing every strike)".into()
         } else {
             "the on-demand sampler draws only the cuts and, whenever a bay changes state, each segment's worst hole (the same distribution as drawing every strike)".into()
         },

@@ -272,3 +272,107 @@ fn strict_invariant_checks_find_nothing_in_busy_histories() {
         assert_eq!(t.anomalies, 0, "{:?}", t.anomaly_examples);
     }
 }
+
+/// Expected numbers of cuts and splices over the mission in the repairable 1-out-of-4 chain
+/// (lambda = 0.01/d, mu = 0.05/d, one crew, 10 years; no events after the loss): the integrals
+/// of the event rates over the state probabilities, E[cuts] = Int sum_k p_k(t) (4 - k) lambda dt
+/// and E[splices] = Int sum_k p_k(t) mu 1{k > 0} dt, with p(t) from the Kolmogorov forward
+/// equations dp/dt = p Q (the same REFERENCES.md §8 chain) integrated here by classical RK4
+/// (step 0.05 d; the absorption probability it gives is checked against the §8 value). The
+/// simulated means must lie within 3 of their own standard errors; the yearly tallies must
+/// add up to the totals exactly.
+#[test]
+fn cut_and_splice_counts_match_the_chain_expectations() {
+    let (lambda, mu, n_rib, t_end) = (0.01f64, 0.05f64, 4usize, 3652.5f64);
+    let up = |k: usize| (n_rib - k) as f64 * lambda;
+    let down = |k: usize| if k > 0 { mu } else { 0.0 };
+    // States 0..=3 transient (cuts so far), 4 absorbing.
+    let deriv = |p: &[f64; 5]| {
+        let mut d = [0.0; 5];
+        for k in 0..4 {
+            d[k] -= p[k] * (up(k) + down(k));
+            d[k + 1] += p[k] * up(k);
+            if k > 0 {
+                d[k - 1] += p[k] * down(k);
+            }
+        }
+        d
+    };
+    let rates = |p: &[f64; 5]| {
+        let c: f64 = (0..4).map(|k| p[k] * up(k)).sum();
+        let s: f64 = (0..4).map(|k| p[k] * down(k)).sum();
+        (c, s)
+    };
+    let h = 0.05;
+    let steps = (t_end / h).round() as usize;
+    let mut p = [1.0, 0.0, 0.0, 0.0, 0.0];
+    let (mut cuts, mut splices) = (0.0, 0.0);
+    let add = |a: &[f64; 5], b: &[f64; 5], s: f64| {
+        let mut r = *a;
+        for i in 0..5 {
+            r[i] += s * b[i];
+        }
+        r
+    };
+    for _ in 0..steps {
+        // RK4 on p, Simpson on the rate integrals (p at the start, middle and end).
+        let k1 = deriv(&p);
+        let p2 = add(&p, &k1, h / 2.0);
+        let k2 = deriv(&p2);
+        let p3 = add(&p, &k2, h / 2.0);
+        let k3 = deriv(&p3);
+        let p4 = add(&p, &k3, h);
+        let k4 = deriv(&p4);
+        let mut next = p;
+        for i in 0..5 {
+            next[i] += h / 6.0 * (k1[i] + 2.0 * k2[i] + 2.0 * k3[i] + k4[i]);
+        }
+        let (c0, s0) = rates(&p);
+        let (cm, sm) = rates(&add(&p, &add(&k2, &k3, 1.0), h / 4.0));
+        let (c1, s1) = rates(&next);
+        cuts += h / 6.0 * (c0 + 4.0 * cm + c1);
+        splices += h / 6.0 * (s0 + 4.0 * sm + s1);
+        p = next;
+    }
+    assert!(
+        (p[4] - (1.0 - 0.101688)).abs() < 2e-6,
+        "absorption by 10 yr: {}",
+        p[4]
+    );
+
+    let model = model_of(&one_bay_validation(lambda, mu, 1));
+    let engine = Engine::new(&model, 1.0).unwrap();
+    let mut scratch = engine.new_scratch();
+    let n = 20_000u64;
+    let (mut sc, mut sc2, mut ss, mut ss2) = (0.0, 0.0, 0.0, 0.0);
+    let mut whole = engine.empty_tally();
+    for h in 0..n {
+        let mut t = engine.empty_tally();
+        engine.run_history(h, 31, &mut scratch, &mut t, None);
+        let (c, s) = (t.cuts as f64, t.repair.splices as f64);
+        assert_eq!(t.cuts_by_year.iter().sum::<u64>(), t.cuts, "history {h}");
+        assert_eq!(
+            t.repair.splices_by_year.iter().sum::<u64>(),
+            t.repair.splices
+        );
+        sc += c;
+        sc2 += c * c;
+        ss += s;
+        ss2 += s * s;
+        engine.run_history(h, 31, &mut scratch, &mut whole, None);
+    }
+    let nf = n as f64;
+    for (what, sum, sum2, expected) in [("cuts", sc, sc2, cuts), ("splices", ss, ss2, splices)] {
+        let mean = sum / nf;
+        let se = ((sum2 / nf - mean * mean) / (nf - 1.0)).sqrt();
+        eprintln!("{what}: simulated {mean:.3} +- {se:.3}, chain {expected:.3}");
+        assert!(
+            (mean - expected).abs() < 3.0 * se,
+            "{what}: {mean} vs {expected} (se {se})"
+        );
+    }
+    assert_eq!(
+        whole.cuts as f64, sc,
+        "a history replays to the same counts"
+    );
+}
