@@ -8,6 +8,9 @@
 //!   tallies), one thread, the same histories and seeds as a real run;
 //! - `histories/bare_stream`: the same strike streams alone (gaps and strikes drawn over one
 //!   mission, no damage processing), the floor that the full cost is compared with;
+//! - `shortcut/count_only` and `shortcut/general_loop`: the NumPy comparison's case a (demo,
+//!   repair off, equal sharing, 1/4-of-width cut rule), one thread, through the count-only
+//!   shortcut and through the general on-demand loop (`Engine::without_count_only`);
 //! - `profile/build`: building the model (profile, per-bay tables) and the strike sampler.
 //!
 //! Short settings (10 samples, a few seconds each) so `cargo bench` stays under two minutes.
@@ -40,6 +43,40 @@ fn samplers(c: &mut Criterion) {
     ] {
         let engine = Engine::with_sampler(&model, 1.0, sampler).expect("engine");
         group.throughput(Throughput::Elements(histories));
+        group.bench_function(name, |b| {
+            let mut scratch = engine.new_scratch();
+            b.iter(|| {
+                let mut tally = engine.empty_tally();
+                for h in 0..histories {
+                    engine.run_history(h, SEED, &mut scratch, &mut tally, None);
+                }
+                black_box(tally.cuts)
+            })
+        });
+    }
+    group.finish();
+}
+
+fn shortcut(c: &mut Criterion) {
+    let mut v: serde_json::Value = serde_json::from_str(DEMO_SCENARIO_JSON).expect("demo parses");
+    v["repair"] = serde_json::Value::Null;
+    v["tether"]["load_sharing"] = serde_json::json!("equal");
+    v["damage"] = serde_json::json!({"law": "fraction_of_width", "fraction": 0.25});
+    let spec = parse_spec(&v.to_string()).expect("case a parses");
+    let model = Model::build(Scenario::from_spec(spec, None).expect("case a validates"))
+        .expect("case a builds");
+    let mut group = c.benchmark_group("shortcut");
+    let histories = 20 * HISTORIES;
+    group.throughput(Throughput::Elements(histories));
+    for (name, engine) in [
+        ("count_only", Engine::new(&model, 1.0).expect("engine")),
+        (
+            "general_loop",
+            Engine::new(&model, 1.0)
+                .expect("engine")
+                .without_count_only(),
+        ),
+    ] {
         group.bench_function(name, |b| {
             let mut scratch = engine.new_scratch();
             b.iter(|| {
@@ -129,6 +166,6 @@ criterion_group! {
         .sample_size(10)
         .warm_up_time(Duration::from_secs(1))
         .measurement_time(Duration::from_secs(4));
-    targets = samplers, histories, profile
+    targets = samplers, shortcut, histories, profile
 }
 criterion_main!(benches);
