@@ -98,8 +98,8 @@ pub(crate) struct CountOnly {
     dominating_s: Vec<f64>,
     /// Bay of a candidate, in proportion to D_j.
     alias: AliasTable,
-    /// D = Σ_j D_j, 1/s.
-    total_s: f64,
+    /// 1 / D, D = Σ_j D_j: the mean gap between candidates, s.
+    mean_gap_s: f64,
 }
 
 /// Why a scenario is not sampled count-only (for `check` and the tests).
@@ -205,7 +205,7 @@ impl CountOnly {
             steps,
             dominating_s,
             alias,
-            total_s,
+            mean_gap_s: 1.0 / total_s,
         })
     }
 
@@ -246,7 +246,7 @@ impl Engine<'_> {
         loop {
             // Ziggurat exponential (rand_distr's Exp1; Marsaglia & Tsang 2000): no logarithm on
             // the common path.
-            t += rng.sample::<f64, _>(Exp1) / co.total_s;
+            t += rng.sample::<f64, _>(Exp1) * co.mean_gap_s;
             if t > self.mission_s {
                 break;
             }
@@ -290,8 +290,10 @@ impl Engine<'_> {
                     removed_m: removed,
                 });
             }
-            let loss = self.record_cuts(
+            let when = self.when(t);
+            let loss = self.record_cuts_dated(
                 t,
+                when,
                 bay,
                 slot,
                 1 + step.cascade,

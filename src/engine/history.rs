@@ -443,6 +443,16 @@ impl Engine<'_> {
         crate::environment::streams::month_of(self.start_day, time_s)
     }
 
+    /// (`year_of`, `month_of`) of a time, by the calendar table within the mission.
+    #[inline]
+    pub(crate) fn when(&self, time_s: f64) -> (usize, usize) {
+        if (0.0..=self.mission_s).contains(&time_s) {
+            self.calendar.at(time_s)
+        } else {
+            (self.year_of(time_s), self.month_of(time_s))
+        }
+    }
+
     /// Mission year (0-based) of a time, s.
     pub(crate) fn year_of(&self, time_s: f64) -> usize {
         let y = (time_s / crate::scenario::SECONDS_PER_YEAR) as usize;
@@ -450,36 +460,89 @@ impl Engine<'_> {
     }
 }
 
-/// [`Engine::year_of`] for a history's non-decreasing times without a division per event: the
-/// year is recomputed only once a time reaches just below the next year boundary. Below
-/// `(y + 1) Y (1 - 1e-12)` the rounded quotient t / Y is certainly below y + 1, so the year is
-/// the one `year_of` gives, bit for bit.
-#[derive(Clone, Copy, Debug)]
-pub(crate) struct YearClock {
-    year: usize,
-    recheck_s: f64,
+/// The mission year and month of any time by a table look-up: the mission cut into the
+/// intervals on which ([`Engine::year_of`], [`Engine::month_of`]) is constant, each interval's
+/// start found by bisection on the bits of the time (the smallest f64 at which either value
+/// changes), so a look-up gives exactly what the two functions give, without their division
+/// and remainder. About 200 intervals for a 15-year mission.
+#[derive(Clone, Debug)]
+pub(crate) struct Calendar {
+    /// Start of each interval, s (ascending; the first is 0).
+    starts_s: Vec<f64>,
+    /// (year, month) on each interval.
+    when: Vec<(usize, usize)>,
+    /// Intervals per second of mission (the look-up's first guess).
+    per_s: f64,
 }
 
-impl YearClock {
-    pub(crate) fn new() -> Self {
-        YearClock {
-            year: 0,
-            recheck_s: f64::NEG_INFINITY,
+impl Calendar {
+    /// A placeholder until the engine it describes exists (every time in year 0, month 0).
+    pub(crate) fn empty() -> Self {
+        Calendar {
+            starts_s: vec![0.0],
+            when: vec![(0, 0)],
+            per_s: 0.0,
         }
     }
 
-    /// The mission year of `t`, which must not be earlier than the previous call's.
-    #[inline]
-    pub(crate) fn year(&mut self, e: &Engine<'_>, t: f64) -> usize {
-        if t >= self.recheck_s {
-            self.year = e.year_of(t);
-            self.recheck_s =
-                (self.year + 1) as f64 * crate::scenario::SECONDS_PER_YEAR * (1.0 - 1e-12);
-            if self.year + 1 >= e.years {
-                self.recheck_s = f64::INFINITY; // the last year absorbs every later time
+    pub(crate) fn new(e: &Engine<'_>) -> Self {
+        let of = |t: f64| (e.year_of(t), e.month_of(t));
+        let mut starts_s = vec![0.0];
+        let mut when = vec![of(0.0)];
+        let mut t = 0.0f64;
+        // Up to a day past the mission end (times are never later than the end).
+        let until = e.mission_s + crate::units::SECONDS_PER_DAY;
+        while t <= until && starts_s.len() < 100_000 {
+            let now = of(t);
+            // The next change is at the next month end or year boundary, whichever is first;
+            // both are predicted to within rounding, then bracketed and bisected exactly.
+            let (_, days_left) = crate::environment::streams::month_and_days_left(e.start_day, t);
+            let month_end = t + days_left * crate::units::SECONDS_PER_DAY;
+            let year_end = (now.0 + 1) as f64 * crate::scenario::SECONDS_PER_YEAR;
+            let mut hi = month_end.min(year_end) + 1e-3;
+            let mut step = 1e-3;
+            while of(hi) == now && hi <= until {
+                step *= 2.0;
+                hi += step;
             }
+            if of(hi) == now {
+                break; // no further change within the mission
+            }
+            // Smallest f64 in (t, hi] at which the pair differs (positive floats order as
+            // their bits).
+            let (mut lo_b, mut hi_b) = (t.to_bits(), hi.to_bits());
+            while hi_b - lo_b > 1 {
+                let mid = lo_b + (hi_b - lo_b) / 2;
+                if of(f64::from_bits(mid)) == now {
+                    lo_b = mid;
+                } else {
+                    hi_b = mid;
+                }
+            }
+            t = f64::from_bits(hi_b);
+            starts_s.push(t);
+            when.push(of(t));
         }
-        self.year
+        let per_s = (starts_s.len() as f64 / e.mission_s.max(1.0)).max(0.0);
+        Calendar {
+            starts_s,
+            when,
+            per_s,
+        }
+    }
+
+    /// (mission year, month) of `t` in [0, mission end], as `year_of` and `month_of` give them.
+    #[inline]
+    pub(crate) fn at(&self, t: f64) -> (usize, usize) {
+        let last = self.starts_s.len() - 1;
+        let mut i = ((t * self.per_s) as usize).min(last);
+        while i < last && self.starts_s[i + 1] <= t {
+            i += 1;
+        }
+        while i > 0 && self.starts_s[i] > t {
+            i -= 1;
+        }
+        self.when[i]
     }
 }
 
@@ -667,17 +730,50 @@ impl Engine<'_> {
         out: &mut HistoryOutcome,
         log: Option<&mut Vec<LogEvent>>,
     ) -> Option<Loss> {
+        let when = self.when(t);
+        self.record_cuts_dated(
+            t,
+            when,
+            bay,
+            slot,
+            newly,
+            not_by_hole,
+            survivors,
+            scratch,
+            tally,
+            out,
+            log,
+        )
+    }
+
+    /// [`Self::record_cuts`] with the mission year and month of `t` already known
+    /// (`when`: from [`Engine::when`]).
+    #[allow(clippy::too_many_arguments)]
+    pub(crate) fn record_cuts_dated(
+        &self,
+        t: f64,
+        when: (usize, usize),
+        bay: u32,
+        slot: usize,
+        newly: u32,
+        not_by_hole: u32,
+        survivors: u32,
+        scratch: &mut Scratch,
+        tally: &mut Tally,
+        out: &mut HistoryOutcome,
+        log: Option<&mut Vec<LogEvent>>,
+    ) -> Option<Loss> {
         let n = self.ribbons;
         let j = bay as usize;
         out.cuts += newly;
         tally.cascade_cuts += u64::from(not_by_hole);
         let band = self.bay_band[j] as usize;
         tally.cuts_by_band[band] += u64::from(newly);
-        let y = self.year_of(t);
+        let (y, month) = when;
         if let Some(c) = tally.cuts_by_year.get_mut(y) {
             *c += u64::from(newly);
         }
-        if let Some(c) = tally.cuts_by_month.get_mut(self.month_of(t)) {
+        if let Some(c) = tally.cuts_by_month.get_mut(month) {
             *c += u64::from(newly);
         }
         scratch.add_cuts(slot, n, newly, t, self.sampler.bay_rate_per_s(j));
@@ -746,6 +842,70 @@ mod tests {
 
     /// Year of an event time on the demo (a 15-year mission): Julian years of 365.25 days,
     /// the end of the mission counted in its last year.
+    /// The calendar table gives `year_of` and `month_of` exactly: random times from seconds to
+    /// months apart, times at and one ulp around every year boundary, around every computed
+    /// month end and on both sides of every interval start, over a mission of 15.5 years that
+    /// starts on several days of the year.
+    #[test]
+    fn calendar_matches_the_direct_computation() {
+        for start in [0.0, 100.5, 364.9] {
+            let mut v: serde_json::Value =
+                serde_json::from_str(crate::scenario::DEMO_SCENARIO_JSON).unwrap();
+            v["environment"]["mission_start_day_of_year"] = serde_json::json!(start);
+            v["run"]["mission_years"] = serde_json::json!(15.5);
+            let spec = crate::scenario::parse_spec(&v.to_string()).unwrap();
+            let scenario = crate::scenario::Scenario::from_spec(spec, None).unwrap();
+            let model = crate::model::Model::build(scenario).unwrap();
+            let e = Engine::new(&model, 1.0).unwrap();
+            let mut times = Vec::new();
+            let mut x = 0.123_456_789f64;
+            let mut t = 0.0;
+            while t < e.mission_s {
+                x = (x * 3.987_654_321 + 0.5).fract();
+                t += 10f64.powf(x * 7.0); // 1 s .. 4 months
+                times.push(t);
+            }
+            for k in 1..17u32 {
+                let b = f64::from(k) * crate::scenario::SECONDS_PER_YEAR;
+                times.extend([
+                    f64::from_bits(b.to_bits() - 1),
+                    b,
+                    f64::from_bits(b.to_bits() + 1),
+                ]);
+            }
+            let mut probe = 0.0;
+            while probe < e.mission_s {
+                let (_, left) =
+                    crate::environment::streams::month_and_days_left(e.start_day, probe);
+                probe += left * crate::units::SECONDS_PER_DAY;
+                for d in [-2e-3, -1e-6, 0.0, 1e-6] {
+                    times.push(probe + d);
+                }
+                times.push(f64::from_bits(probe.to_bits() - 1));
+                probe += 1.0;
+            }
+            times.retain(|t| *t >= 0.0 && *t <= e.mission_s);
+            times.sort_by(f64::total_cmp);
+            let cal = Calendar::new(&e);
+            assert!(
+                (150..250).contains(&cal.starts_s.len()),
+                "{}",
+                cal.starts_s.len()
+            );
+            for &t in &times {
+                let (y, m) = cal.at(t);
+                assert_eq!(y, e.year_of(t), "year at {t} s, start {start}");
+                assert_eq!(m, e.month_of(t), "month at {t} s, start {start}");
+            }
+            // Both sides of every interval start.
+            for &t in &cal.starts_s[1..] {
+                let before = f64::from_bits(t.to_bits() - 1);
+                assert_eq!(cal.at(before), (e.year_of(before), e.month_of(before)));
+                assert_eq!(cal.at(t), (e.year_of(t), e.month_of(t)));
+            }
+        }
+    }
+
     #[test]
     fn year_of_clamps_to_the_mission() {
         let model = crate::model::Model::build(crate::scenario::demo()).unwrap();

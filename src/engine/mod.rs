@@ -305,6 +305,8 @@ pub struct Engine<'m> {
     start_day: f64,
     /// Cross-link hits (on-demand only; absent when off).
     cross_links: Option<CrossLinkTable>,
+    /// Mission year and month of a time by table look-up (filled once the engine exists).
+    calendar: history::Calendar,
 }
 
 /// The cut process of the interior cross-links: one Poisson process of total rate
@@ -438,7 +440,7 @@ impl<'m> Engine<'m> {
                     .ok_or("no bay can be cut"),
             },
         };
-        Ok(Engine {
+        let mut engine = Engine {
             model,
             sampler,
             sampler_kind,
@@ -464,7 +466,10 @@ impl<'m> Engine<'m> {
             stream_samplers,
             start_day: model.scenario.environment.mission_start_day_of_year,
             cross_links,
-        })
+            calendar: history::Calendar::empty(),
+        };
+        engine.calendar = history::Calendar::new(&engine);
+        Ok(engine)
     }
 
     /// The engine a run's settings ask for: sampler and floor, rare-event factor and

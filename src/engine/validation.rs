@@ -18,7 +18,7 @@ use rand_distr::Exp1;
 
 use crate::scenario::SyntheticRatesSettings;
 
-use super::history::{HistoryOutcome, LogEvent, Scratch, YearClock};
+use super::history::{HistoryOutcome, LogEvent, Scratch};
 use super::rng::{stream, Purpose};
 use super::sampler::unit;
 use super::tally::{Loss, LossCause, Tally};
@@ -52,7 +52,6 @@ impl Engine<'_> {
         // Bays with cuts and their counts (few at any time).
         let mut damaged: Vec<(u32, u64)> = std::mem::take(&mut scratch.validation_bays);
         damaged.clear();
-        let mut clock = YearClock::new();
         loop {
             let intact_damaged: u64 = damaged.iter().map(|&(_, k)| n - k).sum();
             let undamaged_bays = bays - damaged.len() as u64;
@@ -109,7 +108,7 @@ impl Engine<'_> {
                 out.cuts += 1;
                 scratch.note_max_cuts(k as u32);
                 tally.cuts_by_band[self.bay_band[bay as usize] as usize] += 1;
-                if let Some(c) = tally.cuts_by_year.get_mut(clock.year(self, t)) {
+                if let Some(c) = tally.cuts_by_year.get_mut(self.when(t).0) {
                     *c += 1;
                 }
                 if n - k < required {
@@ -137,7 +136,7 @@ impl Engine<'_> {
                     damaged.swap_remove(pick);
                 }
                 tally.repair.splices += 1;
-                if let Some(c) = tally.repair.splices_by_year.get_mut(clock.year(self, t)) {
+                if let Some(c) = tally.repair.splices_by_year.get_mut(self.when(t).0) {
                     *c += 1;
                 }
             }
@@ -184,7 +183,6 @@ impl Engine<'_> {
             weight: 1.0,
             ..HistoryOutcome::default()
         };
-        let mut clock = YearClock::new();
         let mut t = 0.0;
         let mut k = 0usize;
         let mut max_k = 0usize;
@@ -197,7 +195,7 @@ impl Engine<'_> {
             if t > self.mission_s {
                 break;
             }
-            let y = clock.year(self, t);
+            let y = self.when(t).0;
             // Branch-free step (the cut-or-repair choice is a coin the predictor cannot learn).
             // (At k = 0 no repair is possible, p_cut = 1 and the coin always says cut.)
             let cut = usize::from(unit(&mut rng) < p_cut[k]);

@@ -213,11 +213,19 @@ impl MeteorStream {
 /// (a 365-day calendar without leap days, its December stretched to the 365.25-day model year:
 /// a convention for tables).
 pub fn month_of(start_day: f64, t_s: f64) -> usize {
-    const ENDS: [f64; 12] = [
-        31.0, 59.0, 90.0, 120.0, 151.0, 181.0, 212.0, 243.0, 273.0, 304.0, 334.0, 365.25,
-    ];
+    month_and_days_left(start_day, t_s).0
+}
+
+/// Day of the year at which each month ends (the convention of [`month_of`]).
+const MONTH_ENDS: [f64; 12] = [
+    31.0, 59.0, 90.0, 120.0, 151.0, 181.0, 212.0, 243.0, 273.0, 304.0, 334.0, 365.25,
+];
+
+/// [`month_of`] and the days from `t_s` to the end of that month (approximate to rounding).
+pub(crate) fn month_and_days_left(start_day: f64, t_s: f64) -> (usize, f64) {
     let d = rem_year(start_day + t_s / DAY_S);
-    ENDS.iter().position(|&e| d < e).unwrap_or(11)
+    let m = MONTH_ENDS.iter().position(|&e| d < e).unwrap_or(11);
+    (m, (MONTH_ENDS[m] - d).max(0.0))
 }
 
 /// `x.rem_euclid(YEAR_DAYS)`, bit for bit, without the software `fmod` on the common path
