@@ -41,7 +41,9 @@
 //! and cause, and the hole-rate extrapolation share of each cut as an expectation (a table per
 //! bay and intact count). Under `--replay-history` each kept cut also logs the width it removed,
 //! drawn from P(X >= x | X >= c) = H(x) / H(c) on the damage stream, which the history's
-//! outcome never reads (so a replayed history is the history the run scored).
+//! outcome never reads (so a replayed history is the history the run scored). Cuts fill a
+//! bay's ribbons in order (0, 1, 2, ...), so a replay's ribbon numbers say how many were cut
+//! before, not which ribbon (under a uniform rule nothing depends on which).
 //!
 //! Not used (the general loop runs instead) under the rare-event estimator, the latent-damage
 //! bias or conditional Monte Carlo at cuts, whose weights live in the general loop.
@@ -136,30 +138,35 @@ pub(crate) fn ineligible(
     let mut sub_critical = 0.0;
     for j in 0..model.profile.bays.len() {
         let hr = od.holes.bay(j);
+        for k in 1..=n {
+            let excess = hr.floor_rate_per_s() - levels.get(j, k).2;
+            if !excess.is_finite() {
+                return Some("a bay's hole-rate table is not finite");
+            }
+        }
         let worst = (1..=n)
             .map(|k| (hr.floor_rate_per_s() - levels.get(j, k).2).max(0.0))
             .fold(0.0, f64::max);
         sub_critical += worst * n as f64 * model.scenario.run.mission_s;
     }
-    if sub_critical.is_nan() || sub_critical > MAX_SUB_CRITICAL_HOLES {
+    if !(sub_critical.is_finite() && sub_critical <= MAX_SUB_CRITICAL_HOLES) {
         return Some("sub-critical holes are possible (the cut rule depends on load)");
     }
     None
 }
 
 impl CountOnly {
-    /// The tables, or `None` when no bay can be cut (nothing to sample) or the cascade cannot
-    /// be tabulated.
+    /// The tables, or why they cannot be built (then the general loop runs).
     pub(crate) fn new(
         model: &Model,
         od: &OnDemandTables,
         levels: &UniformLevels,
         sharing: &dyn LoadSharing,
-    ) -> Option<Self> {
+    ) -> Result<Self, &'static str> {
         let p = &model.profile;
         let n = p.design.ribbon_count;
         if n == 0 || n > MAX_RIBBONS {
-            return None;
+            return Err("ribbon count outside the cascade tables");
         }
         let mut steps = Vec::with_capacity(p.bays.len() * (n + 1));
         let mut dominating_s = Vec::with_capacity(p.bays.len());
@@ -182,8 +189,15 @@ impl CountOnly {
                 intact[..k - 1].fill(true);
                 let outcome =
                     settle_bay(sharing, &mut intact[..n], &capacity[..n], bay.max_tension_n)
-                        .ok()?;
+                        .map_err(|_| "the cascade could not be tabulated")?;
+                if outcome.newly_cut > 0 && outcome.survivors > 0 {
+                    // A partial cascade: which ribbons fail would matter; not tabulated.
+                    return Err("a cascade can leave survivors");
+                }
                 let rate_s = k as f64 * r;
+                if !(rate_s.is_finite() && rate_s >= 0.0) {
+                    return Err("a bay's cut rate is not finite");
+                }
                 d = d.max(rate_s);
                 steps.push(CutStep {
                     rate_s,
@@ -197,10 +211,10 @@ impl CountOnly {
         }
         let total_s: f64 = dominating_s.iter().sum();
         if !(total_s > 0.0 && total_s.is_finite()) {
-            return None;
+            return Err("no bay can be cut");
         }
-        let alias = AliasTable::new(&dominating_s).ok()?;
-        Some(CountOnly {
+        let alias = AliasTable::new(&dominating_s).map_err(|_| "the bay alias table failed")?;
+        Ok(CountOnly {
             n,
             steps,
             dominating_s,

@@ -531,6 +531,22 @@ impl Calendar {
         }
     }
 
+    /// [`Self::at`] for a history's non-decreasing times in [0, mission end]: `cursor` (0 at the
+    /// history's start) remembers the interval, so the usual step is one predictable compare.
+    #[inline]
+    pub(crate) fn forward(&self, cursor: &mut usize, t: f64) -> (usize, usize) {
+        let last = self.starts_s.len() - 1;
+        let mut i = (*cursor).min(last);
+        while i < last && self.starts_s[i + 1] <= t {
+            i += 1;
+        }
+        while i > 0 && self.starts_s[i] > t {
+            i -= 1; // only if a caller's time went backwards
+        }
+        *cursor = i;
+        self.when[i]
+    }
+
     /// (mission year, month) of `t` in [0, mission end], as `year_of` and `month_of` give them.
     #[inline]
     pub(crate) fn at(&self, t: f64) -> (usize, usize) {
@@ -887,12 +903,14 @@ mod tests {
             times.retain(|t| *t >= 0.0 && *t <= e.mission_s);
             times.sort_by(f64::total_cmp);
             let cal = Calendar::new(&e);
+            let mut cursor = 0;
             assert!(
                 (150..250).contains(&cal.starts_s.len()),
                 "{}",
                 cal.starts_s.len()
             );
             for &t in &times {
+                assert_eq!(cal.forward(&mut cursor, t), cal.at(t), "cursor at {t} s");
                 let (y, m) = cal.at(t);
                 assert_eq!(y, e.year_of(t), "year at {t} s, start {start}");
                 assert_eq!(m, e.month_of(t), "month at {t} s, start {start}");

@@ -434,10 +434,10 @@ impl<'m> Engine<'m> {
                 Some(why) => Err(why),
                 None => uniform_levels
                     .as_ref()
+                    .ok_or("the load-sharing rule's loads depend on which ribbons are cut")
                     .and_then(|u| {
                         count_only::CountOnly::new(model, od, u, model.load_sharing.as_ref())
-                    })
-                    .ok_or("no bay can be cut"),
+                    }),
             },
         };
         let mut engine = Engine {

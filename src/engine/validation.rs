@@ -52,6 +52,7 @@ impl Engine<'_> {
         // Bays with cuts and their counts (few at any time).
         let mut damaged: Vec<(u32, u64)> = std::mem::take(&mut scratch.validation_bays);
         damaged.clear();
+        let mut cursor = 0usize; // calendar interval of the last event
         loop {
             let intact_damaged: u64 = damaged.iter().map(|&(_, k)| n - k).sum();
             let undamaged_bays = bays - damaged.len() as u64;
@@ -108,7 +109,10 @@ impl Engine<'_> {
                 out.cuts += 1;
                 scratch.note_max_cuts(k as u32);
                 tally.cuts_by_band[self.bay_band[bay as usize] as usize] += 1;
-                if let Some(c) = tally.cuts_by_year.get_mut(self.when(t).0) {
+                if let Some(c) = tally
+                    .cuts_by_year
+                    .get_mut(self.calendar.forward(&mut cursor, t).0)
+                {
                     *c += 1;
                 }
                 if n - k < required {
@@ -136,7 +140,11 @@ impl Engine<'_> {
                     damaged.swap_remove(pick);
                 }
                 tally.repair.splices += 1;
-                if let Some(c) = tally.repair.splices_by_year.get_mut(self.when(t).0) {
+                if let Some(c) = tally
+                    .repair
+                    .splices_by_year
+                    .get_mut(self.calendar.forward(&mut cursor, t).0)
+                {
                     *c += 1;
                 }
             }
@@ -186,6 +194,7 @@ impl Engine<'_> {
         let mut t = 0.0;
         let mut k = 0usize;
         let mut max_k = 0usize;
+        let mut cursor = 0usize; // calendar interval of the last event
         let mut log = log;
         loop {
             if scale_s[k] == 0.0 {
@@ -195,7 +204,7 @@ impl Engine<'_> {
             if t > self.mission_s {
                 break;
             }
-            let y = self.when(t).0;
+            let y = self.calendar.forward(&mut cursor, t).0;
             // Branch-free step (the cut-or-repair choice is a coin the predictor cannot learn).
             // (At k = 0 no repair is possible, p_cut = 1 and the coin always says cut.)
             let cut = usize::from(unit(&mut rng) < p_cut[k]);

@@ -22,7 +22,7 @@
 
 use serde_json::{json, Value};
 
-use tether_risk::engine::{Engine, LogEvent, RunOptions, Tally};
+use tether_risk::engine::{Engine, LogEvent, RunOptions, Sampler, Tally};
 use tether_risk::model::Model;
 use tether_risk::scenario::SECONDS_PER_YEAR;
 
@@ -107,17 +107,29 @@ fn shortcut_and_general_loop_agree_with_each_other_and_the_binomial_closed_form(
         v.extend_from_slice(&t.losses_by_cause);
         v
     };
+    // Per-history scores only (histories are independent, so each is a two-multinomial
+    // comparison; cut counts by band would not be: a cascade adds several cuts at once).
     for (what, x, y) in [
         ("outcomes", outcome(&a), outcome(&b)),
         (
-            "cuts by band",
-            a.cuts_by_band.clone(),
-            b.cuts_by_band.clone(),
+            "largest cut count in a bay",
+            a.max_cuts_in_bay.clone(),
+            b.max_cuts_in_bay.clone(),
         ),
         (
-            "cuts by year",
-            a.cuts_by_year.clone(),
-            b.cuts_by_year.clone(),
+            "losses by band",
+            a.losses_by_band.clone(),
+            b.losses_by_band.clone(),
+        ),
+        (
+            "losses by year",
+            a.losses_by_year.clone(),
+            b.losses_by_year.clone(),
+        ),
+        (
+            "losses by month",
+            a.losses_by_month.clone(),
+            b.losses_by_month.clone(),
         ),
     ] {
         let (s, df, pv) = homogeneity(&x, &y);
@@ -127,11 +139,21 @@ fn shortcut_and_general_loop_agree_with_each_other_and_the_binomial_closed_form(
             "{what} differ: {x:?} vs {y:?} (p = {pv:e})"
         );
     }
-    // The scores only the cut count drives agree exactly in kind: every cut is a hole's cut
-    // or a cascade's, and the extrapolation share is an expectation per hole.
-    for t in [&a, &b] {
-        assert_eq!(t.cutting_holes + t.cascade_cuts, t.cuts);
-    }
+    // Mean cuts per history and time with a cut bay: two-sample z within 3.29 (alpha 0.001),
+    // standard errors from the per-history sums of squares.
+    let mean_se = |t: &Tally| {
+        let n = t.histories as f64;
+        let m = t.cuts as f64 / n;
+        let v = (t.cuts_sq as f64 / n - m * m) / (n - 1.0);
+        (m, v)
+    };
+    let ((ma, va), (mb, vb)) = (mean_se(&a), mean_se(&b));
+    let z = (ma - mb) / (va + vb).sqrt();
+    eprintln!("mean cuts per history {ma:.3} vs {mb:.3}: z = {z:.2}");
+    assert!(z.abs() < 3.29, "mean cuts differ: {ma} vs {mb} (z = {z})");
+    let fa = a.time_with_cut_bay_s as f64 / a.time_observed_s as f64;
+    let fb = b.time_with_cut_bay_s as f64 / b.time_observed_s as f64;
+    assert!((fa - fb).abs() < 0.02, "time with a cut bay: {fa} vs {fb}");
 }
 
 #[test]
@@ -210,4 +232,13 @@ fn shortcut_is_used_exactly_where_a_bay_is_its_cut_count() {
         weighted.count_only_path(),
         Err("a weighted estimator is on")
     );
+    let reference = Engine::with_sampler(&model, 1.0, Sampler::EveryStrike).unwrap();
+    assert!(reference.count_only_path().is_err());
+    let streams = case_a(|v| {
+        v["environment"]["meteor_streams"] = json!([{"name": "Outburst A",
+            "peak_day_of_year": 222.0, "radiant_speed_km_per_s": 59.0,
+            "population_index": 2.2, "zhr_per_hour": 3000.0,
+            "rise_b_per_deg": 0.4, "fall_b_per_deg": 0.2}]);
+    });
+    assert!(ok(&streams).unwrap_err().contains("streams"));
 }

@@ -149,6 +149,21 @@ fn run(model: &Model, histories: u64, seed: u64, threads: usize) -> Tally {
     engine.run(&opts, &|_| {}).unwrap()
 }
 
+/// [`run`] through the general on-demand loop even where the count-only shortcut applies, so
+/// the closed forms check both paths.
+fn run_general(model: &Model, histories: u64, seed: u64, threads: usize) -> Tally {
+    let engine = Engine::new(model, 1.0).unwrap().without_count_only();
+    let opts = RunOptions {
+        histories,
+        seed,
+        threads,
+        floor_fraction: 1.0,
+        shard: None,
+        target_rel_error: None,
+    };
+    engine.run(&opts, &|_| {}).unwrap()
+}
+
 /// |estimate - p| within 3 binomial standard errors of an estimate from `n` trials.
 fn assert_within_3_se(losses: u64, n: u64, p: f64, what: &str) {
     let est = losses as f64 / n as f64;
@@ -236,6 +251,9 @@ fn loss_probability_matches_independent_segment_closed_form() {
     let n = 20_000;
     let tally = run(&model, n, 11, 2);
     assert_within_3_se(tally.losses, n, p, "3 ribbons, 1600 bays");
+    let general = run_general(&model, n, 111, 2);
+    assert_within_3_se(general.losses, n, p, "3 ribbons, 1600 bays, general loop");
+    assert_eq!(general.cascade_cuts, 0);
     // Every sampled strike severs (floor = w/3 = critical diameter); no redistribution means
     // no cascade and no sub-critical holes.
     assert_eq!(tally.cascade_cuts, 0);
@@ -258,6 +276,9 @@ fn single_ribbon_loss_probability_is_one_minus_exp() {
     let n = 20_000;
     let tally = run(&model, n, 12, 2);
     assert_within_3_se(tally.losses, n, p, "1 ribbon");
+    let general = run_general(&model, n, 112, 2);
+    assert_within_3_se(general.losses, n, p, "1 ribbon, general loop");
+    assert_eq!(general.cuts, general.losses);
     assert_eq!(tally.losses, tally.losses_by_cause[0]);
     assert_eq!(tally.cuts, tally.losses, "the first cut is the loss");
 }
@@ -540,6 +561,9 @@ fn first_cut_cascades_when_the_survivor_cannot_carry_the_bay() {
     let n = 10_000;
     let tally = run(&model, n, 21, 2);
     assert_within_3_se(tally.losses, n, p, "cascade");
+    let general = run_general(&model, n, 121, 2);
+    assert_within_3_se(general.losses, n, p, "cascade, general loop");
+    assert_eq!(general.losses_by_cause, [0, general.losses, 0, 0]);
     assert!(tally.losses > 0);
     assert_eq!(tally.losses_by_cause, [0, tally.losses, 0, 0]);
     assert_eq!(tally.cuts, 2 * tally.losses);
