@@ -547,6 +547,20 @@ impl Calendar {
         self.when[i]
     }
 
+    /// Start of the first interval after `i` in a later mission year (infinite if none), s.
+    pub(crate) fn next_year_start_s(&self, i: usize) -> f64 {
+        let y = self.interval(i).0;
+        (i + 1..self.when.len())
+            .find(|&j| self.when[j].0 != y)
+            .map_or(f64::INFINITY, |j| self.starts_s[j])
+    }
+
+    /// (year, month) of interval `i`.
+    #[inline]
+    pub(crate) fn interval(&self, i: usize) -> (usize, usize) {
+        self.when[i.min(self.when.len() - 1)]
+    }
+
     /// (mission year, month) of `t` in [0, mission end], as `year_of` and `month_of` give them.
     #[inline]
     pub(crate) fn at(&self, t: f64) -> (usize, usize) {
@@ -914,6 +928,17 @@ mod tests {
                 let (y, m) = cal.at(t);
                 assert_eq!(y, e.year_of(t), "year at {t} s, start {start}");
                 assert_eq!(m, e.month_of(t), "month at {t} s, start {start}");
+            }
+            // Each interval's next year change is where year_of changes.
+            for i in 0..cal.starts_s.len() {
+                let next = cal.next_year_start_s(i);
+                let y = cal.interval(i).0;
+                if next.is_finite() {
+                    assert_eq!(e.year_of(f64::from_bits(next.to_bits() - 1)), y);
+                    assert_eq!(e.year_of(next), y + 1);
+                } else {
+                    assert_eq!(y + 1, e.years, "only the last year has no next");
+                }
             }
             // Both sides of every interval start.
             for &t in &cal.starts_s[1..] {

@@ -194,7 +194,11 @@ impl Engine<'_> {
         let mut t = 0.0;
         let mut k = 0usize;
         let mut max_k = 0usize;
-        let mut cursor = 0usize; // calendar interval of the last event
+        // Calendar interval of the last year change, the year and when it ends (one compare
+        // per event).
+        let mut cursor = 0usize;
+        let mut year = self.calendar.interval(0).0;
+        let mut year_until = self.calendar.next_year_start_s(0);
         let mut log = log;
         loop {
             if scale_s[k] == 0.0 {
@@ -204,7 +208,13 @@ impl Engine<'_> {
             if t > self.mission_s {
                 break;
             }
-            let y = self.calendar.forward(&mut cursor, t).0;
+            if t >= year_until {
+                // Crossed into a later mission year: look it up once a year.
+                self.calendar.forward(&mut cursor, t);
+                year = self.calendar.interval(cursor).0;
+                year_until = self.calendar.next_year_start_s(cursor);
+            }
+            let y = year;
             // Branch-free step (the cut-or-repair choice is a coin the predictor cannot learn).
             // (At k = 0 no repair is possible, p_cut = 1 and the coin always says cut.)
             let cut = usize::from(unit(&mut rng) < p_cut[k]);
