@@ -61,7 +61,11 @@ pub fn monte_carlo_assumptions(s: &RunSummary, scenario: Option<&ScenarioSpec>) 
         } else {
             "the on-demand sampler draws only the cuts and, whenever a bay changes state, each segment's worst hole (the same distribution as drawing every strike)".into()
         },
-        "a segment is cut when its worst hole is at least the critical width for the number of ribbons already cut in its bay; smaller holes stay and count again after later cuts (damage memory)".into(),
+        if s.history_path == crate::engine::COUNT_ONLY_PATH {
+            "a segment is cut by any hole at least the critical width; no smaller hole is left above the sampling floor, so there is no damage memory".into()
+        } else {
+            "a segment is cut when its worst hole is at least the critical width for the number of ribbons already cut in its bay; smaller holes stay and count again after later cuts (damage memory)".into()
+        },
         format!(
             "a cut ribbon's load is shared by the ribbons left in its bay ({} load sharing); survivors loaded beyond their strength fail at once (cascade)",
             tether.map_or("the scenario's", |t| t.load_sharing.name())
