@@ -34,6 +34,18 @@ fn demo_without_repair() -> Scenario {
     Scenario::from_spec(spec, None).expect("demo validates")
 }
 
+/// Whole histories 0..histories of `engine` on one thread, per iteration.
+fn bench_histories(b: &mut criterion::Bencher<'_>, engine: &Engine<'_>, histories: u64) {
+    let mut scratch = engine.new_scratch();
+    b.iter(|| {
+        let mut tally = engine.empty_tally();
+        for h in 0..histories {
+            engine.run_history(h, SEED, &mut scratch, &mut tally, None);
+        }
+        black_box(tally.cuts)
+    })
+}
+
 fn samplers(c: &mut Criterion) {
     let model = Model::build(demo_without_repair()).expect("demo builds");
     let mut group = c.benchmark_group("samplers");
@@ -43,16 +55,7 @@ fn samplers(c: &mut Criterion) {
     ] {
         let engine = Engine::with_sampler(&model, 1.0, sampler).expect("engine");
         group.throughput(Throughput::Elements(histories));
-        group.bench_function(name, |b| {
-            let mut scratch = engine.new_scratch();
-            b.iter(|| {
-                let mut tally = engine.empty_tally();
-                for h in 0..histories {
-                    engine.run_history(h, SEED, &mut scratch, &mut tally, None);
-                }
-                black_box(tally.cuts)
-            })
-        });
+        group.bench_function(name, |b| bench_histories(b, &engine, histories));
     }
     group.finish();
 }
@@ -77,16 +80,7 @@ fn shortcut(c: &mut Criterion) {
                 .without_count_only(),
         ),
     ] {
-        group.bench_function(name, |b| {
-            let mut scratch = engine.new_scratch();
-            b.iter(|| {
-                let mut tally = engine.empty_tally();
-                for h in 0..histories {
-                    engine.run_history(h, SEED, &mut scratch, &mut tally, None);
-                }
-                black_box(tally.cuts)
-            })
-        });
+        group.bench_function(name, |b| bench_histories(b, &engine, histories));
     }
     group.finish();
 }

@@ -22,7 +22,7 @@
 
 use serde_json::{json, Value};
 
-use tether_risk::engine::{Engine, LogEvent, RunOptions, Sampler, Tally};
+use tether_risk::engine::{Engine, LogEvent, Sampler, Tally};
 use tether_risk::model::Model;
 use tether_risk::scenario::SECONDS_PER_YEAR;
 
@@ -62,15 +62,7 @@ fn exact_loss_probability(model: &Model) -> f64 {
 }
 
 fn run(engine: &Engine<'_>, histories: u64, seed: u64, threads: usize) -> Tally {
-    let opts = RunOptions {
-        histories,
-        seed,
-        threads,
-        floor_fraction: 1.0,
-        shard: None,
-        target_rel_error: None,
-    };
-    engine.run(&opts, &|_| {}).unwrap()
+    crate::util::run_engine(engine, histories, seed, threads)
 }
 
 fn within_3_se(t: &Tally, p: f64, what: &str) {

@@ -138,30 +138,14 @@ fn independent_segments_loss_probability(lambdas_per_year: &[f64], t_years: f64,
 /// Run `histories` through the library on two threads.
 fn run(model: &Model, histories: u64, seed: u64, threads: usize) -> Tally {
     let engine = Engine::new(model, 1.0).unwrap();
-    let opts = RunOptions {
-        histories,
-        seed,
-        threads,
-        floor_fraction: 1.0,
-        shard: None,
-        target_rel_error: None,
-    };
-    engine.run(&opts, &|_| {}).unwrap()
+    crate::util::run_engine(&engine, histories, seed, threads)
 }
 
 /// [`run`] through the general on-demand loop even where the count-only shortcut applies, so
 /// the closed forms check both paths.
 fn run_general(model: &Model, histories: u64, seed: u64, threads: usize) -> Tally {
     let engine = Engine::new(model, 1.0).unwrap().without_count_only();
-    let opts = RunOptions {
-        histories,
-        seed,
-        threads,
-        floor_fraction: 1.0,
-        shard: None,
-        target_rel_error: None,
-    };
-    engine.run(&opts, &|_| {}).unwrap()
+    crate::util::run_engine(&engine, histories, seed, threads)
 }
 
 /// |estimate - p| within 3 binomial standard errors of an estimate from `n` trials.

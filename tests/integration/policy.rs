@@ -19,15 +19,7 @@ fn demo() -> Value {
 
 fn run(model: &Model, histories: u64, seed: u64, threads: usize) -> Tally {
     let engine = Engine::new(model, 1.0).unwrap();
-    let opts = RunOptions {
-        histories,
-        seed,
-        threads,
-        floor_fraction: 1.0,
-        shard: None,
-        target_rel_error: None,
-    };
-    engine.run(&opts, &|_| {}).unwrap()
+    crate::util::run_engine(&engine, histories, seed, threads)
 }
 
 #[test]

@@ -18,6 +18,24 @@ pub const DEMO: &str = include_str!("../../src/scenario/demo.json");
 /// standard errors (two-sided false-alarm rate 0.27 % to 0.006 % each).
 pub const STAT_ALPHA: f64 = 0.001;
 
+/// Run `histories` plain histories of `engine` (floor fraction 1, whole run, no stopping rule).
+pub fn run_engine(
+    engine: &tether_risk::engine::Engine<'_>,
+    histories: u64,
+    seed: u64,
+    threads: usize,
+) -> tether_risk::engine::Tally {
+    let opts = tether_risk::engine::RunOptions {
+        histories,
+        seed,
+        threads,
+        floor_fraction: 1.0,
+        shard: None,
+        target_rel_error: None,
+    };
+    engine.run(&opts, &|_| {}).unwrap()
+}
+
 /// A fresh temporary folder for one test.
 pub fn temp_dir(name: &str) -> PathBuf {
     let d = std::env::temp_dir().join(format!("tether-risk-test-{}-{name}", std::process::id()));
