@@ -304,10 +304,8 @@ impl Engine<'_> {
                     removed_m: removed,
                 });
             }
-            let when = self.when(t);
-            let loss = self.record_cuts_dated(
+            let loss = self.record_cuts(
                 t,
-                when,
                 bay,
                 slot,
                 1 + step.cascade,

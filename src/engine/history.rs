@@ -760,46 +760,13 @@ impl Engine<'_> {
         out: &mut HistoryOutcome,
         log: Option<&mut Vec<LogEvent>>,
     ) -> Option<Loss> {
-        let when = self.when(t);
-        self.record_cuts_dated(
-            t,
-            when,
-            bay,
-            slot,
-            newly,
-            not_by_hole,
-            survivors,
-            scratch,
-            tally,
-            out,
-            log,
-        )
-    }
-
-    /// [`Self::record_cuts`] with the mission year and month of `t` already known
-    /// (`when`: from [`Engine::when`]).
-    #[allow(clippy::too_many_arguments)]
-    pub(crate) fn record_cuts_dated(
-        &self,
-        t: f64,
-        when: (usize, usize),
-        bay: u32,
-        slot: usize,
-        newly: u32,
-        not_by_hole: u32,
-        survivors: u32,
-        scratch: &mut Scratch,
-        tally: &mut Tally,
-        out: &mut HistoryOutcome,
-        log: Option<&mut Vec<LogEvent>>,
-    ) -> Option<Loss> {
         let n = self.ribbons;
         let j = bay as usize;
         out.cuts += newly;
         tally.cascade_cuts += u64::from(not_by_hole);
         let band = self.bay_band[j] as usize;
         tally.cuts_by_band[band] += u64::from(newly);
-        let (y, month) = when;
+        let (y, month) = self.when(t);
         if let Some(c) = tally.cuts_by_year.get_mut(y) {
             *c += u64::from(newly);
         }

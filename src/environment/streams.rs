@@ -223,32 +223,9 @@ const MONTH_ENDS: [f64; 12] = [
 
 /// [`month_of`] and the days from `t_s` to the end of that month (approximate to rounding).
 pub(crate) fn month_and_days_left(start_day: f64, t_s: f64) -> (usize, f64) {
-    let d = rem_year(start_day + t_s / DAY_S);
+    let d = (start_day + t_s / DAY_S).rem_euclid(YEAR_DAYS);
     let m = MONTH_ENDS.iter().position(|&e| d < e).unwrap_or(11);
     (m, (MONTH_ENDS[m] - d).max(0.0))
-}
-
-/// `x.rem_euclid(YEAR_DAYS)`, bit for bit, without the software `fmod` on the common path
-/// (x >= 0): with q = floor(x / y) the remainder x - q y is exactly representable (as `fmod`'s
-/// result always is), so one fused multiply-add gives it exactly; a q off by one from the
-/// rounded quotient shows as a remainder outside [0, y) and is corrected.
-fn rem_year(x: f64) -> f64 {
-    const Y: f64 = YEAR_DAYS;
-    if !(0.0..1e15).contains(&x) {
-        return x.rem_euclid(Y);
-    }
-    // floor of the quotient by truncation (x >= 0; `f64::floor` is a libm call on baseline
-    // x86-64).
-    let mut q = ((x / Y) as u64) as f64;
-    let mut r = (-q).mul_add(Y, x);
-    if r < 0.0 {
-        q -= 1.0;
-        r = (-q).mul_add(Y, x);
-    } else if r >= Y {
-        q += 1.0;
-        r = (-q).mul_add(Y, x);
-    }
-    r
 }
 
 /// Month names for tables.
@@ -259,35 +236,6 @@ pub const MONTH_NAMES: [&str; 12] = [
 #[cfg(test)]
 mod tests {
     use super::*;
-
-    /// The fused remainder equals `rem_euclid` bit for bit, at boundaries and on random days.
-    #[test]
-    fn rem_year_matches_rem_euclid() {
-        let mut x = 0.123_456_789f64;
-        let mut cases = vec![
-            0.0,
-            YEAR_DAYS,
-            2.0 * YEAR_DAYS,
-            1e6 * YEAR_DAYS,
-            364.999_999_999,
-        ];
-        cases.push(f64::from_bits(YEAR_DAYS.to_bits() - 1));
-        cases.push(f64::from_bits(YEAR_DAYS.to_bits() + 1));
-        for k in 1..200_000u64 {
-            x = (x * 3.987_654_321 + 0.5).fract();
-            cases.push(x * 40.0 * YEAR_DAYS);
-            cases.push(k as f64 * YEAR_DAYS);
-            cases.push(f64::from_bits((k as f64 * YEAR_DAYS).to_bits() - 1));
-        }
-        for &c in &cases {
-            assert_eq!(
-                rem_year(c).to_bits(),
-                c.rem_euclid(YEAR_DAYS).to_bits(),
-                "x = {c:e}"
-            );
-        }
-        assert!(rem_year(-1.0) == (-1.0f64).rem_euclid(YEAR_DAYS));
-    }
 
     fn stream(peak: f64, rise_days: f64, fall_days: f64) -> MeteorStream {
         MeteorStream {
